@@ -1,0 +1,45 @@
+"""A penalty path: coefficients at a decreasing sequence of penalties, in both unit systems."""
+
+from __future__ import annotations
+
+__all__ = ["PenaltyPath"]
+
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass
+class PenaltyPath:
+    """Solutions of one penalized problem along a grid of penalties (largest first).
+
+    Penalty convention (Friedman, Hastie & Tibshirani 2010): minimize
+    (1/(2n)) * ||y - ybar - Z beta||^2 + lambda * (mix * ||beta||_1 + (1 - mix)/2 * ||beta||_2^2)
+    with Z the centred columns divided by their population standard deviation.
+    ``std_coefs`` are beta; ``coefs`` are b_j = beta_j / sd_j in original units.
+    The constraint form: ``l1_budget`` = sum |beta_j| and ``l2_budget`` = sum beta_j^2 at each
+    penalty (the budget t of the equivalent constrained problem).
+    """
+
+    penalties: np.ndarray  # (L,) decreasing
+    std_coefs: np.ndarray  # (L, p) standardized coefficients beta
+    coefs: np.ndarray  # (L, p) original units
+    intercepts: np.ndarray  # (L,) original units
+    mix: float  # 1 lasso, 0 ridge
+    n_iter: np.ndarray | None = None  # (L,) coordinate-descent sweeps, when applicable
+    max_kkt_violation: float | None = None  # largest violation of the optimality conditions
+
+    @property
+    def l1_budget(self) -> np.ndarray:
+        return np.abs(self.std_coefs).sum(axis=1)
+
+    @property
+    def l2_budget(self) -> np.ndarray:
+        return (self.std_coefs**2).sum(axis=1)
+
+    @property
+    def n_selected(self) -> np.ndarray:
+        return (self.std_coefs != 0).sum(axis=1)
+
+    def __len__(self) -> int:
+        return int(self.penalties.shape[0])

@@ -1,0 +1,180 @@
+"""What a study run returns: per-method results plus everything needed to write and score.
+
+The JSON produced by ``StudyResult.to_json`` is the contract of ``tamis fit --json`` (see
+DESIGN.md); extra keys are allowed, the documented ones keep their meaning.
+"""
+
+from __future__ import annotations
+
+__all__ = ["SizeRow", "Criteria", "ModelResult", "FocalResult", "StabilityResult", "StudyResult"]
+
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from engine.fitting.path import PenaltyPath
+from engine.study_spec import StudySpec
+from engine.tuning.curve import ValidationCurve
+
+if TYPE_CHECKING:
+    from engine.design import Design
+
+
+@dataclass
+class SizeRow:
+    """The best (or greedy) subset of one size, fitted on all rows."""
+
+    size: int
+    columns: list[str]
+    rss: float
+    r2: float
+    bic: float | None = None
+
+    def to_json(self) -> dict[str, Any]:
+        return {"size": self.size, "columns": list(self.columns), "rss": float(self.rss),
+                "r2": float(self.r2), "bic": _num(self.bic)}
+
+
+@dataclass
+class Criteria:
+    """Information criteria along a path, with the degrees of freedom used for each point."""
+
+    df: np.ndarray  # lasso/elastic net: count of nonzeros (Zou, Hastie & Tibshirani 2007); ridge: trace of the hat matrix
+    aic: np.ndarray
+    bic: np.ndarray
+    ebic: np.ndarray  # extended BIC, Chen & Chen (2008), gamma = 1 - log(n)/(2 log p) clipped to [0, 1]
+
+
+@dataclass
+class ModelResult:
+    method: str
+    intercept: float
+    coefficients: dict[str, float]  # original units; every model column, 0.0 if not selected
+    std_coefficients: dict[str, float]  # per unit standard deviation of the column
+    selected: list[str]
+    penalty: float | None = None
+    mix: float | None = None
+    choice: str | None = None  # "min", "one-se", "bic" or None
+    cv_error: float | None = None
+    cv_error_se: float | None = None
+    r2: float | None = None  # in-sample R squared on the rows used
+    fitted: np.ndarray | None = None  # (n,) in-sample predictions
+    path: PenaltyPath | None = None
+    curve: ValidationCurve | None = None  # validation over penalties or sizes
+    criteria: Criteria | None = None
+    by_size: list[SizeRow] | None = None
+    std_errors: dict[str, float] | None = None  # robust (HC) standard errors where meaningful
+    approximate: bool = False  # a labelled approximate search (best subset above the exact limit)
+    notes: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        out: dict[str, Any] = {
+            "method": self.method,
+            "penalty": _num(self.penalty),
+            "mix": _num(self.mix),
+            "choice": self.choice,
+            "cv_error": _num(self.cv_error),
+            "cv_error_se": _num(self.cv_error_se),
+            "intercept": float(self.intercept),
+            "coefficients": {k: float(v) for k, v in self.coefficients.items()},
+            "selected": list(self.selected),
+            "by_size": [r.to_json() for r in self.by_size] if self.by_size is not None else None,
+            "r2": _num(self.r2),
+            "approximate": self.approximate,
+            "notes": list(self.notes),
+        }
+        if self.std_errors is not None:
+            out["std_errors"] = {k: float(v) for k, v in self.std_errors.items()}
+        return out
+
+
+@dataclass
+class FocalResult:
+    """Double selection (Belloni, Chernozhukov & Hansen 2014) for one focal column."""
+
+    column: str
+    estimate: float
+    std_error: float  # heteroskedasticity-robust (HC1 unless stated)
+    ci_low: float
+    ci_high: float
+    controls: list[str]  # union used in the final least-squares fit
+    controls_for_response: list[str]
+    controls_for_focal: list[str]
+    penalty_rule: str  # "plugin" or "cv"
+    naive_estimate: float | None = None  # single selection (response equation only), for contrast
+    covariance: str = "HC1"
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "column": self.column, "estimate": float(self.estimate),
+            "std_error": float(self.std_error), "ci_low": float(self.ci_low),
+            "ci_high": float(self.ci_high), "controls": list(self.controls),
+            "controls_for_response": list(self.controls_for_response),
+            "controls_for_focal": list(self.controls_for_focal),
+            "penalty_rule": self.penalty_rule, "covariance": self.covariance,
+            "naive_estimate": _num(self.naive_estimate),
+        }
+
+
+@dataclass
+class StabilityResult:
+    """Selection shares over half-samples (Meinshausen & Buhlmann 2010)."""
+
+    runs: int
+    shares: dict[str, float]  # per model column: largest share selected along the lasso path
+    threshold: float = 0.6  # guidance: columns above 0.6-0.9 are called stable
+    stable: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {"runs": self.runs, "threshold": self.threshold,
+                "shares": {k: float(v) for k, v in self.shares.items()},
+                "stable": list(self.stable)}
+
+
+@dataclass
+class StudyResult:
+    spec: StudySpec
+    design: Design
+    models: list[ModelResult]
+    focal: FocalResult | None = None
+    stability: StabilityResult | None = None
+    warnings: list[str] = field(default_factory=list)
+    tool_version: str = ""
+    started: str = ""  # ISO 8601 date and time of the run
+    seconds: float = 0.0
+    output: str | None = None
+
+    def model(self, method: str) -> ModelResult:
+        for m in self.models:
+            if m.method == method:
+                return m
+        raise KeyError(method)
+
+    def to_json(self) -> dict[str, Any]:
+        d = self.design
+        out: dict[str, Any] = {
+            "response": d.response,
+            "rows_used": int(d.n_rows),
+            "rows_dropped": int(d.rows_dropped),
+            "drop_reasons": dict(d.drop_reasons),
+            "candidates": list(d.names),
+            "models": [m.to_json() for m in self.models],
+            "output": self.output,
+            "warnings": list(self.warnings),
+            "source": {"file": self.spec.source, "sheet": d.sheet, "header_row": d.header_row},
+            "spec": self.spec.to_dict(),
+            "tool_version": self.tool_version,
+        }
+        if self.focal is not None:
+            out["focal"] = self.focal.to_json()
+        if self.stability is not None:
+            out["stability"] = self.stability.to_json()
+        return out
+
+
+def _num(x: float | None) -> float | None:
+    if x is None:
+        return None
+    x = float(x)
+    return x if np.isfinite(x) else None

@@ -1,0 +1,107 @@
+"""The study specification: a frozen request that says everything a run needs.
+
+Both fronts build one (the CLI from its arguments, the desktop from its form); the settings
+sheet of a results workbook stores one, so an analysis can be re-run from the workbook alone.
+"""
+
+from __future__ import annotations
+
+__all__ = ["SPEC_SCHEMA_VERSION", "StudySpec", "SCHEMES", "CHOICE_RULES", "MISSING_POLICIES"]
+
+import dataclasses
+from dataclasses import dataclass
+from typing import Any
+
+from engine.errors import InputProblem
+from engine.methods import DEFAULT_METHODS, parse_methods
+
+SPEC_SCHEMA_VERSION = 1
+
+# validation schemes: shuffled K-fold, repeated K-fold, grouped K-fold (rows of one group stay
+# together), time-ordered blocks (train on the past, validate on the next block), leave-one-out
+SCHEMES = ("kfold", "repeated", "grouped", "time", "loo")
+CHOICE_RULES = ("min", "one-se")
+# drop rows with a missing candidate, or fill with the median and add a missing-indicator column
+MISSING_POLICIES = ("drop", "fill")
+FOCAL_PENALTIES = ("plugin", "cv")
+
+
+@dataclass(frozen=True)
+class StudySpec:
+    source: str  # path of the workbook or CSV file
+    response: str
+    sheet: str | None = None  # None: the first visible sheet
+    header_row: int | None = None  # 1-based; None: detected
+    candidates: tuple[str, ...] | None = None  # None: every usable column but the response
+    exclude: tuple[str, ...] = ()
+    focal: str | None = None  # column whose effect double selection estimates
+    focal_penalty: str = "plugin"
+    group: str | None = None  # column whose rows stay in one fold
+    time_order: str | None = None  # column giving the time order for blocked folds
+    methods: tuple[str, ...] = DEFAULT_METHODS
+    mix: float = 0.5  # elastic-net blend: 1 lasso, 0 ridge
+    folds: int = 10
+    scheme: str = "kfold"
+    repeats: int = 1  # for scheme "repeated"
+    choose: str = "min"
+    seed: int = 0
+    n_penalties: int = 100
+    penalty_ratio: float | None = None  # smallest/largest penalty; None: 1e-4 if n > p else 1e-2
+    missing: str = "drop"
+    date_parts: bool = False  # add month and weekday categories for date columns
+    stability_runs: int = 0  # half-samples for stability of selection; 0 skips it
+    adaptive_gamma: float = 1.0
+    max_exact_subset: int = 40  # above this many candidates best subset switches to a labelled approximate search
+    workers: int | None = None  # parallel workers; None: the machine's cores
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "methods", parse_methods(self.methods))
+        if self.scheme not in SCHEMES:
+            raise InputProblem(f"unknown validation scheme '{self.scheme}'; choose from {', '.join(SCHEMES)}")
+        if self.choose not in CHOICE_RULES:
+            raise InputProblem(f"unknown choice rule '{self.choose}'; choose 'min' or 'one-se'")
+        if self.missing not in MISSING_POLICIES:
+            raise InputProblem(f"unknown missing-value policy '{self.missing}'; choose 'drop' or 'fill'")
+        if self.focal_penalty not in FOCAL_PENALTIES:
+            raise InputProblem("the focal penalty must be 'plugin' or 'cv'")
+        if self.scheme != "loo" and self.folds < 2:
+            raise InputProblem(f"--folds must be at least 2 (got {self.folds})")
+        if not 0.0 <= self.mix <= 1.0:
+            raise InputProblem(f"the elastic-net mix must lie between 0 and 1 (got {self.mix})")
+        if self.n_penalties < 2:
+            raise InputProblem("at least 2 penalty values are needed on a path")
+        if self.scheme == "grouped" and not self.group:
+            raise InputProblem("grouped folds need a group column (--group COLUMN)")
+        if self.scheme == "time" and not self.time_order:
+            raise InputProblem("time-ordered folds need a time-order column (--time-order COLUMN)")
+        if self.candidates is not None:
+            object.__setattr__(self, "candidates", tuple(self.candidates))
+        object.__setattr__(self, "exclude", tuple(self.exclude))
+
+    def replace(self, **changes: Any) -> StudySpec:
+        return dataclasses.replace(self, **changes)
+
+    def to_dict(self) -> dict[str, Any]:
+        d = dataclasses.asdict(self)
+        for k, v in d.items():
+            if isinstance(v, tuple):
+                d[k] = list(v)
+        d["schema_version"] = SPEC_SCHEMA_VERSION
+        return d
+
+    @classmethod
+    def from_dict(cls, d: dict[str, Any]) -> StudySpec:
+        """Read a specification written by this or an older schema version."""
+        d = dict(d)
+        version = int(d.pop("schema_version", SPEC_SCHEMA_VERSION))
+        if version > SPEC_SCHEMA_VERSION:
+            raise InputProblem(
+                f"these settings were written by a newer Tamis (settings version {version}); "
+                "update Tamis to re-run them"
+            )
+        names = {f.name for f in dataclasses.fields(cls)}
+        kwargs = {k: v for k, v in d.items() if k in names}
+        for k in ("candidates", "exclude", "methods"):
+            if isinstance(kwargs.get(k), list):
+                kwargs[k] = tuple(kwargs[k])
+        return cls(**kwargs)

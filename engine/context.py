@@ -1,0 +1,40 @@
+"""The environment a front runs in, injected so tests never touch real streams or user folders."""
+
+from __future__ import annotations
+
+__all__ = ["Context", "default_context"]
+
+import os
+import sys
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TextIO
+
+
+def _config_dir() -> Path:
+    if os.environ.get("TAMIS_CONFIG_DIR"):
+        return Path(os.environ["TAMIS_CONFIG_DIR"])
+    if sys.platform == "win32":
+        base = Path(os.environ.get("APPDATA", Path.home() / "AppData" / "Roaming"))
+    elif sys.platform == "darwin":
+        base = Path.home() / "Library" / "Application Support"
+    else:
+        base = Path(os.environ.get("XDG_CONFIG_HOME", Path.home() / ".config"))
+    return base / "tamis"
+
+
+@dataclass
+class Context:
+    stdout: TextIO = field(default_factory=lambda: sys.stdout)
+    stderr: TextIO = field(default_factory=lambda: sys.stderr)
+    config_dir: Path = field(default_factory=_config_dir)
+    # whether stderr is a terminal that can show a live progress line
+    interactive: bool = False
+
+    @property
+    def log_file(self) -> Path:
+        return self.config_dir / "tamis-error.log"
+
+
+def default_context() -> Context:
+    return Context(interactive=sys.stderr.isatty())

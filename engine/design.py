@@ -1,15 +1,30 @@
 """The design matrix: from an intake table and chosen roles to a float matrix, response and encodings.
 
-Placeholder contract; the builder ``build_design`` lands with the study module.
+``build_design(table, spec)`` applies the roles of a study specification: category columns are
+one-hot encoded against their most frequent level ("C=level"), flags become 0/1, dates a trend in
+days (and, if asked, month and weekday categories); rows with a missing response are dropped;
+missing candidates are handled by the stated policy (drop the row, or fill with the median and
+add a missing-indicator column); constant columns are dropped with a warning; exact duplicates
+are reported. Every refusal names the sheet and column and says what to change.
 """
 
 from __future__ import annotations
 
-__all__ = ["Encoding", "Design"]
+__all__ = ["Encoding", "Design", "build_design", "MAX_LEVELS"]
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+from engine.errors import InputProblem, Place
+
+if TYPE_CHECKING:
+    from engine.intake.table import Column, Table
+    from engine.study_spec import StudySpec
+
+# a category with more levels than this is more likely an identifier than an explanatory column
+MAX_LEVELS = 60
 
 
 @dataclass(frozen=True)
@@ -71,3 +86,258 @@ class Design:
     @property
     def y_mean(self) -> float:
         return float(self.y.mean())
+
+
+def build_design(table: Table, spec: StudySpec) -> Design:
+    """Apply the roles of ``spec`` to ``table`` and return the numeric design."""
+    from engine.intake.table import ColumnKind
+
+    def place(col: str | None = None) -> Place:
+        return Place(file=str(table.source), sheet=table.sheet, column=col)
+
+    where = f"sheet '{table.sheet}'"
+    response = table.column(spec.response)
+    if response.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
+        raise InputProblem(
+            f"the response column '{response.name}' in {where} holds {response.kind.value} values, "
+            "not numbers; choose a numeric column as the response",
+            place(response.name),
+        )
+    roles_taken = {spec.response}
+    group_col = table.column(spec.group) if spec.group else None
+    order_col = table.column(spec.time_order) if spec.time_order else None
+    for c in (group_col, order_col):
+        if c is not None:
+            roles_taken.add(c.name)
+    if order_col is not None and order_col.kind not in (ColumnKind.NUMBER, ColumnKind.DATE, ColumnKind.FLAG):
+        raise InputProblem(
+            f"the time-order column '{order_col.name}' in {where} holds {order_col.kind.value} values; "
+            "choose a date or numeric column",
+            place(order_col.name),
+        )
+    for name in spec.exclude:
+        table.column(name)  # unknown names are an error, not silently ignored
+
+    warnings: list[str] = []
+    dropped_columns: dict[str, str] = {}
+    explicit = spec.candidates is not None
+    if explicit:
+        chosen = [table.column(n) for n in spec.candidates or ()]
+    else:
+        chosen = [c for c in table.columns if c.name not in roles_taken]
+    if spec.focal and spec.focal not in [c.name for c in chosen]:
+        chosen.append(table.column(spec.focal))
+    chosen = [c for c in chosen if c.name not in spec.exclude and c.name not in roles_taken]
+    if spec.focal:
+        focal_col = table.column(spec.focal)
+        if focal_col.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
+            raise InputProblem(
+                f"the focal column '{focal_col.name}' in {where} holds {focal_col.kind.value} values; "
+                "double selection needs a numeric focal column",
+                place(focal_col.name),
+            )
+
+    usable: list[Column] = []
+    for c in chosen:
+        reason = None
+        if c.kind == ColumnKind.EMPTY:
+            reason = "it is empty"
+        elif c.kind == ColumnKind.IDENTIFIER:
+            reason = "it looks like an identifier (almost every value is different)"
+        elif c.kind == ColumnKind.CATEGORY and len(c.levels) > MAX_LEVELS:
+            reason = f"it has {len(c.levels)} categories (more than {MAX_LEVELS})"
+        if reason:
+            dropped_columns[c.name] = reason
+            warnings.append(f"column '{c.name}' left out: {reason}")
+        else:
+            usable.append(c)
+    if not usable:
+        raise InputProblem(
+            f"no usable candidate column in {where}: "
+            + ("; ".join(f"'{k}' {v}" for k, v in list(dropped_columns.items())[:5]) or "only the response is there")
+            + "; mark numeric, category, date or yes/no columns as candidates",
+            place(),
+        )
+
+    n_all = table.n_rows
+    keep = np.ones(n_all, dtype=bool)
+    drop_reasons: dict[str, int] = {}
+
+    def drop(mask: np.ndarray, reason: str) -> None:
+        newly = keep & mask
+        k = int(newly.sum())
+        if k:
+            drop_reasons[reason] = drop_reasons.get(reason, 0) + k
+            keep[newly] = False
+
+    y_all = np.asarray(response.values, dtype=float)
+    drop(~np.isfinite(y_all), f"response '{response.name}' missing")
+    for c in (group_col, order_col):
+        if c is not None:
+            drop(_missing_mask(c), f"{'group' if c is group_col else 'time order'} '{c.name}' missing")
+    if spec.missing == "drop":
+        for c in usable:
+            drop(_missing_mask(c), f"missing in candidate '{c.name}'")
+
+    n = int(keep.sum())
+    if n < 3:
+        raise InputProblem(
+            f"only {n} of {n_all} rows in {where} remain after removing missing values "
+            f"({_reasons_text(drop_reasons)}); use --missing fill or choose other columns",
+            place(),
+        )
+
+    names: list[str] = []
+    encodings: list[Encoding] = []
+    blocks: list[np.ndarray] = []
+    category_levels: dict[str, list[str]] = {}
+
+    def add(enc: Encoding, values: np.ndarray) -> None:
+        names.append(enc.name)
+        encodings.append(enc)
+        blocks.append(values.astype(float))
+
+    for c in usable:
+        miss = _missing_mask(c)[keep]
+        fill_policy = spec.missing == "fill" and bool(miss.any())
+        if c.kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
+            v = np.asarray(c.values, dtype=float)[keep]
+            fill = None
+            if fill_policy:
+                fill = float(np.nanmedian(v)) if np.isfinite(v).any() else 0.0
+                v = np.where(np.isfinite(v), v, fill)
+            kind = "number" if c.kind == ColumnKind.NUMBER else "flag"
+            add(Encoding(c.name, c.name, c.letter, kind, fill=fill), v)
+        elif c.kind == ColumnKind.CATEGORY:
+            raw = np.asarray(c.values, dtype=object)[keep]
+            labels = np.array(["" if x is None else str(x) for x in raw], dtype=object)
+            present = [lv for lv in c.levels if np.any(labels == lv)]
+            if fill_policy:
+                present = present + [""] if "" not in present else present
+            if len(present) < 2:
+                dropped_columns[c.name] = "it has a single category on the rows used"
+                warnings.append(f"column '{c.name}' left out: a single category on the rows used")
+                continue
+            ref = present[0]
+            category_levels[c.name] = present
+            for lv in present[1:]:
+                label = lv if lv != "" else "(blank)"
+                add(Encoding(f"{c.name}={label}", c.name, c.letter, "level", level=lv, reference=ref),
+                    (labels == lv).astype(float))
+        elif c.kind == ColumnKind.DATE:
+            d = np.asarray(c.values, dtype="datetime64[ns]")[keep]
+            ok = ~np.isnat(d)
+            if not ok.any():
+                continue
+            origin = d[ok].min().astype("datetime64[D]")
+            days = (d.astype("datetime64[D]") - origin).astype(float)
+            days[~ok] = np.nan
+            fill = None
+            if fill_policy:
+                fill = float(np.nanmedian(days))
+                days = np.where(ok, days, fill)
+            add(Encoding(f"{c.name}:trend", c.name, c.letter, "trend", fill=fill, origin=str(origin)), days)
+            if spec.date_parts:
+                dd = d[ok]
+                months = (dd.astype("datetime64[M]").astype(int) % 12) + 1
+                monthly = np.full(d.shape, 0, dtype=int)
+                monthly[ok] = months
+                weekday = np.full(d.shape, 0, dtype=int)
+                weekday[ok] = ((d[ok].astype("datetime64[D]").astype(int) + 3) % 7) + 1  # 1970-01-01 was a Thursday
+                for part, vals, kind in (("month", monthly, "month"), ("weekday", weekday, "weekday")):
+                    seen = sorted(set(vals[ok].tolist()))
+                    for lv in seen[1:]:
+                        add(Encoding(f"{c.name}:{part}={lv}", c.name, c.letter, kind, level=str(lv), reference=str(seen[0])),
+                            (vals == lv).astype(float))
+        if fill_policy:
+            add(Encoding(f"{c.name}:missing", c.name, c.letter, "missing"), miss.astype(float))
+
+    X = np.column_stack(blocks) if blocks else np.empty((n, 0))
+    y = y_all[keep]
+
+    # constant columns carry nothing: drop them with a warning
+    sds = X.std(axis=0) if X.size else np.empty(0)
+    const = sds <= 1e-12 * np.maximum(1.0, np.abs(X).max(axis=0) if X.size else 1.0)
+    if const.any():
+        for j in np.flatnonzero(const):
+            dropped_columns[names[j]] = "it is constant on the rows used"
+            warnings.append(f"column '{names[j]}' left out: constant on the rows used")
+        keep_cols = ~const
+        X = X[:, keep_cols]
+        names = [nm for nm, k in zip(names, keep_cols) if k]
+        encodings = [e for e, k in zip(encodings, keep_cols) if k]
+    if X.shape[1] == 0:
+        raise InputProblem(
+            f"no usable candidate column in {where}: every candidate is constant or empty on the "
+            f"{n} rows used; choose other candidate columns",
+            place(),
+        )
+    if float(np.std(y)) <= 1e-12 * max(1.0, float(np.abs(y).max())):
+        raise InputProblem(
+            f"the response '{response.name}' in {where} has the same value ({y[0]:g}) on every row used; "
+            "there is nothing to explain: choose another response",
+            place(response.name),
+        )
+
+    X = np.ascontiguousarray(X)
+    means = X.mean(axis=0)
+    sds = X.std(axis=0)
+    warnings.extend(_duplicate_warnings(X, names, means, sds))
+
+    groups = None
+    if group_col is not None:
+        groups = np.array([str(v) for v in np.asarray(group_col.values, dtype=object)[keep]], dtype=object)
+    order = None
+    if order_col is not None:
+        ov = order_col.values[keep]
+        order = ov.astype("datetime64[ns]").astype("int64").astype(float) if order_col.kind == ColumnKind.DATE else ov.astype(float)
+
+    focal_index = names.index(spec.focal) if spec.focal and spec.focal in names else None
+    if spec.focal and focal_index is None:
+        raise InputProblem(
+            f"the focal column '{spec.focal}' in {where} is constant on the rows used; choose another focal column",
+            place(spec.focal),
+        )
+    return Design(
+        source=str(table.source), sheet=table.sheet, header_row=table.header_row,
+        response=response.name, names=names, encodings=encodings, X=X, y=y,
+        row_numbers=np.asarray(table.row_numbers)[keep], means=means, sds=sds,
+        rows_dropped=n_all - n, drop_reasons=drop_reasons, groups=groups, order=order,
+        focal_index=focal_index, dropped_columns=dropped_columns,
+        category_levels=category_levels, warnings=warnings,
+    )
+
+
+def _missing_mask(c: Column) -> np.ndarray:
+    v = c.values
+    if v.dtype.kind == "f":
+        return ~np.isfinite(v)
+    if v.dtype.kind == "M":
+        return np.isnat(v)
+    return np.array([x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool)
+
+
+def _reasons_text(reasons: dict[str, int]) -> str:
+    return "; ".join(f"{k}: {v} rows" for k, v in reasons.items()) or "none"
+
+
+def _duplicate_warnings(X: np.ndarray, names: list[str], means: np.ndarray, sds: np.ndarray) -> list[str]:
+    """Name pairs of model columns that are exact copies (or exact negatives) of each other."""
+    if X.shape[1] < 2:
+        return []
+    Z = (X - means) / sds
+    # hash each standardized column (rounded) so exact duplicates meet in one bucket
+    out: list[str] = []
+    seen: dict[bytes, int] = {}
+    for j in range(Z.shape[1]):
+        col = np.round(Z[:, j], 9) + 0.0  # + 0.0 folds -0.0 into 0.0
+        for sign, key in ((1, col.tobytes()), (-1, (0.0 - col).tobytes())):
+            if key in seen:
+                k = seen[key]
+                rel = "an exact copy" if sign == 1 else "an exact mirror (negative multiple)"
+                out.append(f"column '{names[j]}' is {rel} of '{names[k]}' on the rows used; "
+                           "their effects cannot be told apart")
+                break
+        else:
+            seen[col.tobytes()] = j
+    return out

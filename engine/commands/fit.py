@@ -1,0 +1,58 @@
+"""`tamis fit`: build a study specification from the arguments, run it, print and write the result."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from engine.commands.terminal import summary_text, terminal_progress
+from engine.errors import InputProblem
+from engine.study_spec import StudySpec
+
+
+def spec_from_args(args) -> StudySpec:
+    return StudySpec(
+        source=str(args.book), response=args.response, sheet=args.sheet, header_row=args.header_row,
+        candidates=tuple(args.candidates) if args.candidates else None, exclude=tuple(args.exclude or ()),
+        focal=args.focal, focal_penalty=args.focal_penalty, group=args.group, time_order=args.time_order,
+        methods=args.methods, mix=args.mix, folds=args.folds, scheme=args.scheme, repeats=args.repeats,
+        choose=args.choose, seed=args.seed, n_penalties=args.penalties, missing=args.missing,
+        date_parts=args.date_parts, stability_runs=args.stability, workers=args.workers,
+    )
+
+
+def run(args, ctx) -> int:
+    from engine.study import run_study
+
+    if not Path(args.book).exists():
+        raise InputProblem(f"file '{args.book}' does not exist")
+    spec = spec_from_args(args)
+    if args.in_place and Path(args.book).suffix.lower() not in (".xlsx", ".xlsm"):
+        raise InputProblem(
+            f"--in-place adds sheets to .xlsx or .xlsm workbooks only; '{args.book}' is not one: use --out PATH.xlsx"
+        )
+    result = run_study(spec, terminal_progress(ctx))
+    return finish(result, args, ctx)
+
+
+def finish(result, args, ctx) -> int:
+    """Write (when asked), then print the summary or the JSON document."""
+    out = getattr(args, "out", None)
+    in_place = bool(getattr(args, "in_place", False))
+    if out or in_place:
+        from engine.report import write_results
+
+        written = write_results(result, out=out, in_place=in_place)
+        result.output = str(written)
+    if args.json:
+        json.dump(result.to_json(), ctx.stdout, indent=2, allow_nan=False)
+        ctx.stdout.write("\n")
+        if result.output:
+            print(f"results written to {result.output}", file=ctx.stderr)
+    else:
+        print(summary_text(result), file=ctx.stdout)
+        if result.output:
+            print(f"\nresults written to {result.output}", file=ctx.stdout)
+        else:
+            print("\n(nothing written: add --out PATH or --in-place to write the result sheets)", file=ctx.stdout)
+    return 0

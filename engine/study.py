@@ -1,0 +1,262 @@
+"""The one entry point: a study specification in, a study result out.
+
+``run_study(spec, progress)`` reads the sheet, builds the design, makes the validation parts
+once (the same parts and, per method, the same penalty grid for every part), fits each chosen
+method, and collects warnings. Progress is reported in words between stages, folds and
+penalties; a cancel stops the run with ``Cancelled`` and nothing is written (writing is a
+separate step, ``engine.report.write_results``).
+"""
+
+from __future__ import annotations
+
+__all__ = ["run_study", "load_table"]
+
+import datetime as _dt
+import time
+import warnings as _warnings
+
+import numpy as np
+
+from engine import __version__
+from engine.design import Design, build_design
+from engine.errors import InputProblem, Place, TamisWarning
+from engine.intake.table import Table
+from engine.methods import method_info
+from engine.progress import Progress, silent
+from engine.study_result import Criteria, ModelResult, StudyResult
+from engine.study_spec import StudySpec
+
+# relative cost of each method, to move one progress bar evenly
+_COST = {"ols": 1, "ridge": 2, "lasso": 6, "elastic-net": 6, "adaptive-lasso": 8,
+         "post-lasso": 4, "best-subset": 10, "forward-stepwise": 5}
+
+
+def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
+    from engine.intake import read_table
+
+    return read_table(spec.source, sheet=spec.sheet, header_row=spec.header_row, progress=progress)
+
+
+def run_study(spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None) -> StudyResult:
+    """Run every method of ``spec`` and return the result (nothing is written to disk)."""
+    progress = progress or silent()
+    started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
+    t0 = time.perf_counter()
+    progress.step(0.0, "reading the sheet")
+    if table is None:
+        table = load_table(spec, progress.part(0.0, 0.04))
+    progress.step(0.04, "building the design matrix")
+    design = build_design(table, spec)
+    notes: list[str] = list(table.warnings) + list(design.warnings)
+
+    parts = _validation_parts(design, spec)
+    runner = _MethodRunner(design, spec, parts, notes)
+
+    extra = []
+    if spec.focal:
+        extra.append(("focal", 6.0))
+    if spec.stability_runs:
+        extra.append(("stability", 0.2 * spec.stability_runs / 10 + 2))
+    total = sum(_COST[m] for m in spec.methods) + sum(w for _, w in extra)
+    done = 0.0
+    lo, hi = 0.05, 0.99
+
+    def span(weight: float, words: str) -> Progress:
+        nonlocal done
+        a = lo + (hi - lo) * done / total
+        done += weight
+        b = lo + (hi - lo) * done / total
+        return progress.part(a, b, words)
+
+    models: list[ModelResult] = []
+    with _warnings.catch_warnings(record=True) as caught:
+        _warnings.simplefilter("always", TamisWarning)
+        for name in spec.methods:
+            part = span(_COST[name], method_info(name).title)
+            part.step(0.0, "starting")
+            result = runner.fit(name, part)
+            if result is not None:
+                models.append(result)
+        focal = None
+        stability = None
+        for what, weight in extra:
+            part = span(weight, "double selection" if what == "focal" else "stability of selection")
+            if what == "focal":
+                focal = runner.focal(part)
+            else:
+                stability = runner.stability(part)
+    for w in caught:
+        if issubclass(w.category, TamisWarning):
+            notes.append(str(w.message))
+    progress.step(1.0, "done")
+    return StudyResult(
+        spec=spec, design=design, models=models, focal=focal, stability=stability,
+        warnings=_unique(notes), tool_version=__version__, started=started,
+        seconds=time.perf_counter() - t0,
+    )
+
+
+def _unique(items: list[str]) -> list[str]:
+    seen: set[str] = set()
+    return [x for x in items if not (x in seen or seen.add(x))]
+
+
+def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray, np.ndarray]]:
+    from engine.tuning.folds import make_folds
+
+    n = design.n_rows
+    place = Place(file=design.source, sheet=design.sheet)
+    if spec.scheme != "loo" and n < spec.folds:
+        raise InputProblem(
+            f"{n} rows are used in sheet '{design.sheet}' but {spec.folds} folds were asked; "
+            f"use --folds {max(2, n // 2)} or fewer, or more rows",
+            place,
+        )
+    try:
+        return make_folds(n, spec.scheme, folds=spec.folds, seed=spec.seed, repeats=spec.repeats,
+                          groups=design.groups, order=design.order)
+    except InputProblem as exc:
+        col = spec.group if spec.scheme == "grouped" else spec.time_order
+        raise InputProblem(f"{exc.message} (column '{col}' in sheet '{design.sheet}')",
+                           Place(file=design.source, sheet=design.sheet, column=col)) from None
+
+
+class _MethodRunner:
+    """Fits one method at a time on a fixed design and fixed validation parts."""
+
+    def __init__(self, design: Design, spec: StudySpec, parts, notes: list[str]):
+        self.d = design
+        self.spec = spec
+        self.parts = parts
+        self.notes = notes
+        self._lasso: ModelResult | None = None
+
+    # -- shared pieces -------------------------------------------------------------------
+    def _ratio(self) -> float:
+        if self.spec.penalty_ratio is not None:
+            return self.spec.penalty_ratio
+        return 1e-4 if self.d.n_rows > self.d.n_cols else 1e-2
+
+    def _model(self, method: str, coef: np.ndarray, intercept: float, **kw) -> ModelResult:
+        d = self.d
+        coef = np.asarray(coef, dtype=float)
+        fitted = intercept + d.X @ coef
+        rss = float(np.sum((d.y - fitted) ** 2))
+        tss = float(np.sum((d.y - d.y.mean()) ** 2))
+        selected = [nm for nm, b in zip(d.names, coef) if b != 0.0]
+        return ModelResult(
+            method=method, intercept=float(intercept),
+            coefficients={nm: float(b) for nm, b in zip(d.names, coef)},
+            std_coefficients={nm: float(b * s) for nm, b, s in zip(d.names, coef, d.sds)},
+            selected=selected, r2=1.0 - rss / tss if tss > 0 else None, fitted=fitted, **kw,
+        )
+
+    def _path_rss(self, path) -> np.ndarray:
+        d = self.d
+        out = np.empty(len(path))
+        for i in range(len(path)):  # one column at a time keeps memory at O(n)
+            r = d.y - path.intercepts[i] - d.X @ path.coefs[i]
+            out[i] = float(r @ r)
+        return out
+
+    def _criteria(self, path, df: np.ndarray) -> Criteria:
+        from engine.tuning.criteria import path_criteria
+
+        return path_criteria(self._path_rss(path), df, self.d.n_rows, self.d.n_cols)
+
+    def _enet_df(self, path) -> np.ndarray:
+        """Degrees of freedom along an elastic-net path: trace of the hat matrix on the active set."""
+        if path.mix >= 1.0:
+            return path.n_selected.astype(float)
+        d = self.d
+        Z = (d.X - d.means) / d.sds
+        n = d.n_rows
+        df = np.zeros(len(path))
+        for i in range(len(path)):
+            act = np.flatnonzero(path.std_coefs[i])
+            if act.size == 0:
+                continue
+            s = np.linalg.svd(Z[:, act], compute_uv=False)
+            df[i] = float(np.sum(s**2 / (s**2 + n * path.penalties[i] * (1 - path.mix))))
+        return df
+
+    def _penalized(self, method: str, mix: float, progress: Progress, penalty_factors=None, fold_factors=None) -> ModelResult:
+        from engine.fitting.coordinate import elastic_net_path
+        from engine.fitting.ridge import ridge_path
+        from engine.tuning.crossval import cross_validate_path
+
+        d, spec = self.d, self.spec
+        progress.step(0.0, "path on all rows")
+        if mix == 0.0:
+            path = ridge_path(d.X, d.y, n_penalties=spec.n_penalties, ratio=self._ratio(),
+                              progress=progress.part(0.0, 0.1))
+        else:
+            path = elastic_net_path(d.X, d.y, mix=mix, n_penalties=spec.n_penalties, ratio=self._ratio(),
+                                    penalty_factors=penalty_factors, progress=progress.part(0.0, 0.15))
+        curve = cross_validate_path(
+            d.X, d.y, self.parts, mix, path.penalties,
+            penalty_factors=fold_factors if fold_factors is not None else penalty_factors,
+            choose=spec.choose, progress=progress.part(0.15, 0.95, "cross-validation"),
+            workers=spec.workers,
+        )
+        curve.n_selected = path.n_selected.copy()
+        idx = curve.chosen(spec.choose)
+        if mix == 0.0:
+            from engine.fitting.ridge import ridge_df
+
+            Z = (d.X - d.means) / d.sds
+            s = np.linalg.svd(Z, compute_uv=False)
+            df = ridge_df(s, path.penalties, d.n_rows)
+        else:
+            df = self._enet_df(path)
+        notes = []
+        if idx == len(path) - 1 and mix > 0:
+            notes.append("the chosen penalty is the smallest on the grid; a wider grid (smaller penalty ratio) may fit better")
+        return self._model(
+            method, path.coefs[idx], path.intercepts[idx], penalty=float(path.penalties[idx]), mix=mix,
+            choice=spec.choose, cv_error=float(curve.mean_error[idx]), cv_error_se=float(curve.se[idx]),
+            path=path, curve=curve, criteria=self._criteria(path, df), notes=notes,
+        )
+
+    # -- methods ---------------------------------------------------------------------------
+    def fit(self, name: str, progress: Progress) -> ModelResult | None:
+        return getattr(self, "_fit_" + name.replace("-", "_"))(progress)
+
+    def _fit_ols(self, progress: Progress) -> ModelResult | None:
+        from engine.fitting.ols import fit_ols
+
+        d = self.d
+        if d.n_rows <= d.n_cols + 1:
+            self.notes.append(
+                f"least squares left out: it needs more rows than columns ({d.n_rows} rows, {d.n_cols} columns); "
+                "the penalized methods handle this case"
+            )
+            return None
+        fit = fit_ols(d.X, d.y)
+        for w in getattr(fit, "warnings", []):
+            self.notes.append(f"least squares: {w}")
+        err, se = self._cv_refit(lambda Xt, yt: fit_ols(Xt, yt), progress)
+        return self._model("ols", fit.coef, fit.intercept, cv_error=err, cv_error_se=se)
+
+    def _cv_refit(self, fitter, progress: Progress) -> tuple[float, float]:
+        """Held-out error of a procedure with no tuning (refitted on each training part)."""
+        d = self.d
+        errs = []
+        for k, (tr, te) in enumerate(self.parts):
+            progress.step(k / len(self.parts), f"validation part {k + 1} of {len(self.parts)}")
+            f = fitter(d.X[tr], d.y[tr])
+            pred = f.intercept + d.X[te] @ f.coef
+            errs.append(float(np.mean((d.y[te] - pred) ** 2)))
+        e = np.asarray(errs)
+        return float(e.mean()), float(e.std(ddof=1) / np.sqrt(len(e))) if len(e) > 1 else float("nan")
+
+    def _fit_ridge(self, progress: Progress) -> ModelResult:
+        return self._penalized("ridge", 0.0, progress)
+
+    def _fit_lasso(self, progress: Progress) -> ModelResult:
+        if self._lasso is None:
+            self._lasso = self._penalized("lasso", 1.0, progress)
+        return self._lasso
+
+    def _fit_elastic_net(self, progress: Progress) -> ModelResult:
+        return self._penalized("elastic-net", self.spec.mix, progress)

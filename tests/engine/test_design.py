@@ -1,0 +1,137 @@
+"""Design matrix: encodings, missing-value policies, dropped columns and refusals.
+
+Known answers are computed by hand from small tables; one check compares the one-hot encoding
+with pandas.get_dummies (general-purpose reference library).
+"""
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from engine.design import build_design
+from engine.errors import InputProblem
+from engine.intake.table import Column, ColumnKind, Table
+from engine.study_spec import StudySpec
+
+
+def _col(name, kind, values, letter="A", levels=None):
+    values = np.asarray(values, dtype=object if kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER) else None)
+    if kind == ColumnKind.DATE:
+        values = np.asarray(values, dtype="datetime64[ns]")
+    elif kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
+        values = np.asarray(values, dtype=float)
+    return Column(name=name, heading=name, letter=letter, kind=kind, values=values, levels=levels or [])
+
+
+def _table(*cols):
+    n = len(cols[0].values)
+    return Table(source=Path("book.xlsx"), sheet="Data", sheets=[], header_row=1, columns=list(cols),
+                 row_numbers=np.arange(2, n + 2))
+
+
+def _spec(**kw):
+    kw.setdefault("source", "book.xlsx")
+    kw.setdefault("response", "y")
+    return StudySpec(**kw)
+
+
+def test_category_one_hot_against_most_frequent_level_matches_pandas():
+    colour = ["red", "blue", "red", "green", "red", "blue"]
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
+               _col("colour", ColumnKind.CATEGORY, colour, "B", levels=["red", "blue", "green"]))
+    d = build_design(t, _spec())
+    assert d.names == ["colour=blue", "colour=green"]
+    # Source: pandas.get_dummies (general-purpose reference library), reference level dropped
+    ref = pd.get_dummies(pd.Series(colour), dtype=float)[["blue", "green"]].to_numpy()
+    np.testing.assert_array_equal(d.X, ref)
+    assert d.encodings[0].reference == "red" and d.encodings[0].kind == "level"
+
+
+def test_missing_policy_drop_counts_rows_and_keeps_sheet_row_numbers():
+    t = _table(_col("y", ColumnKind.NUMBER, [1, np.nan, 3, 4, 5, 6]),
+               _col("x", ColumnKind.NUMBER, [1, 2, np.nan, 4, 5, 7], "B"),
+               _col("w", ColumnKind.NUMBER, [3, 1, 4, 1, 5, 9], "C"))
+    d = build_design(t, _spec())
+    assert d.n_rows == 4 and d.rows_dropped == 2
+    assert d.drop_reasons == {"response 'y' missing": 1, "missing in candidate 'x'": 1}
+    np.testing.assert_array_equal(d.row_numbers, [2, 5, 6, 7])
+
+
+def test_missing_policy_fill_uses_median_and_adds_indicator():
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5]),
+               _col("x", ColumnKind.NUMBER, [10, np.nan, 30, 40, 50], "B"))
+    d = build_design(t, _spec(missing="fill"))
+    assert d.names == ["x", "x:missing"]
+    assert d.X[1, 0] == 35.0  # median of 10, 30, 40, 50
+    np.testing.assert_array_equal(d.X[:, 1], [0, 1, 0, 0, 0])
+    assert d.encodings[0].fill == 35.0
+
+
+def test_date_becomes_day_trend_and_optional_parts():
+    dates = ["2024-01-01", "2024-01-08", "2024-02-05", "2024-03-04", "2024-03-11"]
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 5, 4]), _col("week", ColumnKind.DATE, dates, "B"))
+    d = build_design(t, _spec(date_parts=True))
+    assert d.names[0] == "week:trend"
+    np.testing.assert_array_equal(d.X[:, 0], [0, 7, 35, 63, 70])
+    assert "week:month=2" in d.names and "week:month=3" in d.names
+    # every date above is a Monday (ISO weekday 1), so weekday parts are constant and dropped
+    assert not any(n.startswith("week:weekday") for n in d.names)
+
+
+def test_constant_identifier_and_empty_columns_are_dropped_with_reasons():
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4]),
+               _col("x", ColumnKind.NUMBER, [1, 3, 2, 5], "B"),
+               _col("k", ColumnKind.NUMBER, [7, 7, 7, 7], "C"),
+               _col("id", ColumnKind.IDENTIFIER, ["a1", "a2", "a3", "a4"], "D"),
+               _col("blank", ColumnKind.EMPTY, [None] * 4, "E"))
+    d = build_design(t, _spec())
+    assert d.names == ["x"]
+    assert set(d.dropped_columns) == {"k", "id", "blank"}
+    assert any("'k' left out: constant" in w for w in d.warnings)
+
+
+def test_exact_duplicate_columns_are_reported():
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),
+               _col("a", ColumnKind.NUMBER, [1, 3, 2, 5, 4], "B"),
+               _col("b", ColumnKind.NUMBER, [2, 6, 4, 10, 8], "C"))
+    d = build_design(t, _spec())
+    assert any("'b' is an exact copy of 'a'" in w for w in d.warnings)
+
+
+def test_population_standard_deviation_is_used():
+    # Source: DESIGN.md penalty convention (divisor n), checked against numpy's ddof=0
+    x = [1.0, 2.0, 4.0, 7.0]
+    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 5]), _col("x", ColumnKind.NUMBER, x, "B"))
+    d = build_design(t, _spec())
+    assert d.sds[0] == pytest.approx(np.std(x, ddof=0))
+
+
+@pytest.mark.parametrize(
+    "cols, spec, fragment",
+    [
+        ([_col("y", ColumnKind.CATEGORY, ["a", "b", "a"], levels=["a", "b"]), _col("x", ColumnKind.NUMBER, [1, 2, 3])],
+         {}, "response column 'y' in sheet 'Data' holds category values"),
+        ([_col("y", ColumnKind.NUMBER, [2, 2, 2, 2]), _col("x", ColumnKind.NUMBER, [1, 2, 3, 4])],
+         {}, "has the same value (2) on every row used"),
+        ([_col("y", ColumnKind.NUMBER, [1, 2, 3]), _col("id", ColumnKind.IDENTIFIER, ["a", "b", "c"])],
+         {}, "no usable candidate column in sheet 'Data'"),
+        ([_col("y", ColumnKind.NUMBER, [1, 2, 3]), _col("x", ColumnKind.NUMBER, [1, 2, 3])],
+         {"candidates": ("nope",)}, "no column named 'nope' in sheet 'Data'"),
+        ([_col("y", ColumnKind.NUMBER, [1, np.nan, np.nan, 4]), _col("x", ColumnKind.NUMBER, [1, 2, 3, np.nan])],
+         {}, "only 1 of 4 rows"),
+    ],
+)
+def test_refusals_name_the_sheet_and_column(cols, spec, fragment):
+    with pytest.raises(InputProblem) as exc:
+        build_design(_table(*cols), _spec(**spec))
+    assert fragment in exc.value.message
+
+
+def test_more_columns_than_rows_is_normal_input():
+    rng = np.random.default_rng(1)
+    cols = [_col("y", ColumnKind.NUMBER, rng.normal(size=10))]
+    cols += [_col(f"x{j}", ColumnKind.NUMBER, rng.normal(size=10), "B") for j in range(40)]
+    d = build_design(_table(*cols), _spec())
+    assert d.X.shape == (10, 40)

@@ -1,0 +1,69 @@
+"""The command line's error boundary: exit codes and one-line messages (DESIGN.md contract)."""
+
+import io
+
+import pytest
+
+from engine import cli
+from engine.context import Context
+
+
+def _run(argv, tmp_path):
+    out, err = io.StringIO(), io.StringIO()
+    ctx = Context(stdout=out, stderr=err, config_dir=tmp_path / "config")
+    code = cli.main(argv, ctx)
+    return code, out.getvalue(), err.getvalue()
+
+
+def test_help_is_printed_and_exit_zero(tmp_path):
+    code, out, err = _run([], tmp_path)
+    assert code == 0 and "inspect" in out and "fit" in out
+
+
+def test_usage_problem_exits_2_with_one_line(tmp_path):
+    code, out, err = _run(["fit", "book.xlsx"], tmp_path)  # --response missing
+    assert code == 2 and out == ""
+    assert err.startswith("tamis: error:") and "--response" in err and err.count("\n") == 1
+
+
+def test_unknown_method_is_an_input_problem(tmp_path):
+    book = tmp_path / "b.csv"
+    book.write_text("y,x\n1,2\n2,3\n")
+    code, out, err = _run(["fit", str(book), "--response", "y", "--methods", "lasso,magic"], tmp_path)
+    assert code == 2 and "unknown method 'magic'" in err
+
+
+def test_missing_file_exit_2_names_the_file(tmp_path):
+    code, out, err = _run(["fit", str(tmp_path / "nope.xlsx"), "--response", "y"], tmp_path)
+    assert code == 2 and "nope.xlsx" in err and "does not exist" in err
+
+
+def test_unexpected_failure_exit_1_with_log_and_no_traceback(tmp_path, monkeypatch):
+    import engine.commands.fit as fit_cmd
+
+    def boom(args, ctx):
+        raise ZeroDivisionError("a bug")
+
+    monkeypatch.setattr(fit_cmd, "run", boom)
+    code, out, err = _run(["fit", "b.xlsx", "--response", "y"], tmp_path)
+    assert code == 1 and "Traceback" not in err and "unexpected failure" in err
+    log = (tmp_path / "config" / "tamis-error.log").read_text()
+    assert "ZeroDivisionError" in log
+
+
+def test_traceback_flag_prints_it(tmp_path, monkeypatch):
+    import engine.commands.fit as fit_cmd
+
+    monkeypatch.setattr(fit_cmd, "run", lambda a, c: 1 / 0)
+    code, out, err = _run(["--traceback", "fit", "b.xlsx", "--response", "y"], tmp_path)
+    assert code == 1 and "Traceback" in err
+
+
+@pytest.mark.parametrize("argv", [["fit", "b.xlsx", "--response", "y", "--folds", "1"],
+                                  ["fit", "b.xlsx", "--response", "y", "--mix", "1.5"],
+                                  ["fit", "b.xlsx", "--response", "y", "--scheme", "grouped"]])
+def test_bad_settings_exit_2(tmp_path, argv):
+    (tmp_path / "b.xlsx").write_bytes(b"")
+    argv = [a if a != "b.xlsx" else str(tmp_path / "b.xlsx") for a in argv]
+    code, out, err = _run(argv, tmp_path)
+    assert code == 2 and err.startswith("tamis: error:")

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 __all__ = ["PenaltyPath"]
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -28,6 +28,9 @@ class PenaltyPath:
     mix: float  # 1 lasso, 0 ridge
     n_iter: np.ndarray | None = None  # (L,) coordinate-descent sweeps, when applicable
     max_kkt_violation: float | None = None  # largest violation of the optimality conditions
+    kkt_violations: np.ndarray | None = None  # (L,) the same measure at each penalty
+    df: np.ndarray | None = None  # (L,) effective degrees of freedom (ridge: trace of the hat matrix)
+    notes: list[str] = field(default_factory=list)  # non-fatal numerical trouble, in words
 
     @property
     def l1_budget(self) -> np.ndarray:

@@ -1,0 +1,638 @@
+"""Lasso and elastic-net paths by cyclic coordinate descent with warm starts and strong rules.
+
+Objective (Friedman, Hastie & Tibshirani 2010, J. Stat. Software 33(1)), for each penalty lambda:
+
+    (1/(2n)) * ||yc - Z beta||^2 + lambda * sum_j v_j * (mix*|beta_j| + (1 - mix)/2 * beta_j^2)
+
+with Z the columns centred and divided by their population sd, yc the centred response and
+v_j >= 0 the per-column penalty factors (default 1; rescaled to sum to the number of columns,
+common practice; v_j = 0 leaves a column unpenalized, as adaptive lasso and forced-in controls
+need). Coefficients come back in original units: b_j = beta_j / sd_j and the intercept
+ybar - sum_j b_j * mean_j.
+
+How the path is computed
+- Penalties decrease from ``penalty_max`` (every coefficient zero) down by ``ratio`` on a log
+  scale; each solution warm-starts the next.
+- Sequential strong rule (Tibshirani, Bien, Friedman, Hastie, Simon, Taylor & Tibshirani 2012,
+  JRSS-B 74(2)): at lambda_k only columns with |z_j'r/n| >= mix*v_j*(2*lambda_k - lambda_{k-1}),
+  plus every column ever active, enter the solve; afterwards the optimality (KKT) conditions are
+  checked over all columns and violators are added, so the answer is exact while the work scales
+  with the active set.
+- The inner solve on that working set reuses scikit-learn's compiled coordinate descent
+  (``sklearn.linear_model._cd_fast``; stopping rule: duality gap <= tol * ||yc||^2). When rows
+  outnumber columns it runs on the standardized Gram matrix Z'Z (computed once, in row blocks,
+  without a standardized copy of the data); otherwise it runs on residuals with only the working
+  columns copied, and the KKT check uses X'r with the centring and scaling applied algebraically.
+- Columns with v_j = 0 are partialled out exactly (Frisch-Waugh-Lovell) and recovered by least
+  squares after each solve.
+
+``max_kkt_violation`` (scale-free): the largest, over penalties and columns, of
+|z_j'r/n - lambda*(1-mix)*v_j*beta_j - lambda*mix*v_j*sign(beta_j)| for nonzero beta_j and of
+max(|z_j'r/n| - lambda*mix*v_j, 0) for zero beta_j, divided by ||Z'yc||_inf / n (the size of
+the gradient at beta = 0, i.e. the lasso lambda_max). It is unchanged when y or any column is
+rescaled.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "elastic_net_path",
+    "penalty_max",
+    "penalty_grid",
+    "kkt_violation",
+    "normalize_penalty_factors",
+    "default_ratio",
+]
+
+from dataclasses import dataclass, field
+
+import numpy as np
+from sklearn.linear_model._cd_fast import (
+    enet_coordinate_descent,
+    enet_coordinate_descent_gram,
+)
+
+from engine.fitting.path import PenaltyPath
+from engine.fitting.standardize import _BLOCK_ROWS, column_moments
+from engine.progress import Progress
+
+# mix below this is treated like this when sizing the grid (common practice for ridge-like mixes)
+_MIN_MIX_FOR_GRID = 1e-3
+# a column whose training-part variance is below this share of its full-data variance is taken
+# as constant on that part (exact zero is lost to rounding in the Gram downdate)
+_CONSTANT_VARIANCE_SHARE = 1e-10
+
+
+def default_ratio(n: int, p: int) -> float:
+    """lambda_min / lambda_max: 1e-4 when rows outnumber columns, else 1e-2 (common practice)."""
+    return 1e-4 if n > p else 1e-2
+
+
+def normalize_penalty_factors(penalty_factors: np.ndarray | None, p: int) -> np.ndarray:
+    """Per-column penalty factors rescaled to sum to p (common practice); None gives ones."""
+    if penalty_factors is None:
+        return np.ones(p)
+    v = np.asarray(penalty_factors, dtype=float).ravel()
+    if v.shape[0] != p:
+        raise ValueError(f"penalty_factors has {v.shape[0]} entries for {p} columns")
+    if not np.all(np.isfinite(v)) or np.any(v < 0):
+        raise ValueError("penalty factors must be finite and non-negative")
+    total = v.sum()
+    if total <= 0:
+        raise ValueError("at least one column must be penalized (all penalty factors are 0)")
+    return v * (p / total)
+
+
+# --------------------------------------------------------------------------------------------
+# Standardized problem data for one set of rows, in two forms
+
+
+@dataclass
+class _Scaling:
+    """Centring and scaling of one set of rows (original units)."""
+
+    n: int
+    means: np.ndarray
+    sds: np.ndarray  # 1.0 where constant
+    constant: np.ndarray
+    y_mean: float
+
+    @property
+    def inv_sd(self) -> np.ndarray:
+        inv = 1.0 / self.sds
+        inv[self.constant] = 0.0
+        return inv
+
+
+class _GramProblem:
+    """Z'Z, Z'yc and yc'yc of the standardized rows; the solve runs on Z'Z directly."""
+
+    def __init__(self, Q: np.ndarray, q: np.ndarray, yy: float, n: int):
+        self.Q = Q
+        self.q = q
+        self.yy = max(float(yy), 0.0)
+        self.n = n
+        self.p = q.shape[0]
+        self.r_norm2 = self.yy
+
+    def gradient(self, beta: np.ndarray) -> np.ndarray:
+        """z_j' r for all columns, r = yc - Z beta."""
+        nz = np.flatnonzero(beta)
+        if nz.size == 0:
+            return self.q.copy()
+        return self.q - beta[nz] @ self.Q[nz]
+
+    def solve(self, W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng):
+        Qw = self.Q[np.ix_(W, W)]
+        qw = self.q[W]
+        if scale is not None:
+            Qw *= np.outer(scale, scale)
+            qw = qw * scale
+        if l2_diag is not None:
+            Qw[np.diag_indices_from(Qw)] += l2_diag
+        Qw = np.ascontiguousarray(Qw)
+        w = np.ascontiguousarray(gamma0, dtype=float)
+        yarr = np.array([np.sqrt(self.yy)])  # the Gram solver uses y only through ||y||^2
+        w, gap, tol_abs, it = enet_coordinate_descent_gram(
+            w, alpha, beta_l2, Qw, np.ascontiguousarray(qw), yarr, max_sweeps, tol, rng, 0, 0, 1
+        )
+        return np.asarray(w), int(it), bool(gap > tol_abs)
+
+
+class _ResidualProblem:
+    """Rows of X (not copied) with algebraic centring/scaling; solves on copied working columns."""
+
+    def __init__(self, X: np.ndarray, rows: np.ndarray | None, sc: _Scaling, yc: np.ndarray):
+        self.X = X
+        self.rows = rows
+        self.sc = sc
+        self.inv_sd = sc.inv_sd
+        self.yc = yc
+        self.n = sc.n
+        self.p = X.shape[1]
+        self._r_full = np.zeros(X.shape[0]) if rows is not None else None
+        self._cache_key: bytes | None = None
+        self._cache_cols: np.ndarray | None = None
+        self.r = yc.copy()
+        self.r_norm2 = float(yc @ yc)
+        self.q = self._xt(self.yc)
+
+    def _xt(self, r: np.ndarray) -> np.ndarray:
+        """Z' r = ((X_rows - mean)' r) / sd without forming Z."""
+        if self.rows is None:
+            xr = self.X.T @ r
+        else:
+            self._r_full[self.rows] = r
+            xr = self.X.T @ self._r_full
+        return (xr - self.sc.means * r.sum()) * self.inv_sd
+
+    def columns(self, W: np.ndarray) -> np.ndarray:
+        key = W.tobytes()
+        if key == self._cache_key:
+            return self._cache_cols
+        sub = self.X[:, W] if self.rows is None else self.X[np.ix_(self.rows, W)]
+        Zw = np.asfortranarray((sub - self.sc.means[W]) * self.inv_sd[W])
+        self._cache_key, self._cache_cols = key, Zw
+        return Zw
+
+    def gradient(self, beta: np.ndarray) -> np.ndarray:
+        nz = np.flatnonzero(beta)
+        if nz.size == 0:
+            self.r = self.yc.copy()
+        else:
+            sub = self.X[:, nz] if self.rows is None else self.X[np.ix_(self.rows, nz)]
+            self.r = self.yc - ((sub - self.sc.means[nz]) * self.inv_sd[nz]) @ beta[nz]
+        self.r_norm2 = float(self.r @ self.r)
+        return self._xt(self.r)
+
+    def solve(self, W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng):
+        Zw = self.columns(W)
+        y = self.yc
+        if scale is not None:
+            Zw = np.asfortranarray(Zw * scale)
+        if l2_diag is not None:
+            # per-column ridge weights: augment with rows sqrt(b_j) e_j (and zero responses)
+            Zw = np.asfortranarray(np.vstack([Zw, np.diag(np.sqrt(l2_diag))]))
+            y = np.concatenate([y, np.zeros(W.size)])
+        w = np.ascontiguousarray(gamma0, dtype=float)
+        w, gap, tol_abs, it = enet_coordinate_descent(
+            w, alpha, beta_l2, Zw, np.ascontiguousarray(y), max_sweeps, tol, rng, 0, 0, 1
+        )
+        return np.asarray(w), int(it), bool(gap > tol_abs)
+
+
+class _DenseProblem(_ResidualProblem):
+    """A residual problem on an already standardized dense matrix (used after partialling out)."""
+
+    def __init__(self, Z: np.ndarray, yc: np.ndarray):
+        p = Z.shape[1]
+        sc = _Scaling(Z.shape[0], np.zeros(p), np.ones(p), np.zeros(p, bool), 0.0)
+        super().__init__(Z, None, sc, yc)
+
+
+# --------------------------------------------------------------------------------------------
+# Building the standardized problem for a set of rows
+
+
+@dataclass
+class CrossProducts:
+    """Sums over a set of rows of the data centred at fixed reference values (m0, ybar0).
+
+    G = sum (x-m0)(x-m0)', s = sum (x-m0), xy = sum (x-m0)(y-ybar0), sy = sum (y-ybar0),
+    yy = sum (y-ybar0)^2. Training parts are full sums minus held-out sums; the shift to the
+    part's own means is applied algebraically (no copy of the training rows).
+    """
+
+    n: int
+    G: np.ndarray
+    s: np.ndarray
+    xy: np.ndarray
+    sy: float
+    yy: float
+
+    def minus(self, other: CrossProducts) -> CrossProducts:
+        return CrossProducts(
+            self.n - other.n,
+            self.G - other.G,
+            self.s - other.s,
+            self.xy - other.xy,
+            self.sy - other.sy,
+            self.yy - other.yy,
+        )
+
+
+def cross_products(
+    X: np.ndarray, y: np.ndarray, m0: np.ndarray, ybar0: float, rows: np.ndarray | None = None
+) -> CrossProducts:
+    """Centred cross products of ``X[rows]`` in row blocks (memory: one block)."""
+    p = X.shape[1]
+    idx = None if rows is None else np.asarray(rows)
+    n = X.shape[0] if idx is None else idx.shape[0]
+    G = np.zeros((p, p))
+    s = np.zeros(p)
+    xy = np.zeros(p)
+    sy = 0.0
+    yy = 0.0
+    for a in range(0, n, _BLOCK_ROWS):
+        b = min(a + _BLOCK_ROWS, n)
+        if idx is None:
+            xb, yb = X[a:b] - m0, y[a:b] - ybar0
+        else:
+            xb, yb = X[idx[a:b]] - m0, y[idx[a:b]] - ybar0
+        G += xb.T @ xb
+        s += xb.sum(axis=0)
+        xy += xb.T @ yb
+        sy += float(yb.sum())
+        yy += float(yb @ yb)
+    return CrossProducts(n, G, s, xy, sy, yy)
+
+
+def gram_problem(
+    cp: CrossProducts,
+    m0: np.ndarray,
+    ybar0: float,
+    constant: np.ndarray | None = None,
+    reference_var: np.ndarray | None = None,
+) -> tuple[_GramProblem, _Scaling]:
+    """Standardized Gram problem of the rows summarized in ``cp``.
+
+    constant: columns known to be constant (exact test); reference_var: full-data variances, to
+    spot columns that are constant on these rows only (variance share below 1e-10).
+    """
+    n = cp.n
+    d = cp.s / n  # mean of these rows minus m0
+    e = cp.sy / n
+    C = cp.G - n * np.outer(d, d)
+    cxy = cp.xy - n * d * e
+    yy = cp.yy - n * e * e
+    var = np.diag(C).copy() / n
+    const = np.zeros(var.shape[0], bool) if constant is None else constant.copy()
+    if reference_var is not None:
+        const |= var <= _CONSTANT_VARIANCE_SHARE * reference_var
+    const |= var <= 0
+    sds = np.sqrt(np.where(const, 1.0, var))
+    inv = np.where(const, 0.0, 1.0 / sds)
+    Q = C * np.outer(inv, inv)
+    np.fill_diagonal(Q, np.where(const, 0.0, n))  # exact n on the diagonal of Z'Z
+    q = cxy * inv
+    sc = _Scaling(n, m0 + d, sds, const, ybar0 + e)
+    return _GramProblem(Q, q, yy, n), sc
+
+
+def _residual_problem(X, y, rows, sc: _Scaling | None = None):
+    if sc is None:
+        means, sds, constant = column_moments(X, rows)
+        ysub = y if rows is None else y[rows]
+        sc = _Scaling(ysub.shape[0], means, sds, constant, float(ysub.mean()))
+    ysub = y if rows is None else y[rows]
+    return _ResidualProblem(X, rows, sc, ysub - sc.y_mean), sc
+
+
+def build_problem(X, y, rows=None, use_gram: bool | None = None):
+    """The standardized problem of ``X[rows], y[rows]`` and its scaling (Gram when n > p)."""
+    n = X.shape[0] if rows is None else len(rows)
+    p = X.shape[1]
+    if use_gram is None:
+        use_gram = n > p
+    if not use_gram:
+        return _residual_problem(X, y, rows)
+    means, sds, constant = column_moments(X, rows)
+    ysub = y if rows is None else y[rows]
+    ybar = float(ysub.mean())
+    cp = cross_products(X, y, means, ybar, rows)
+    prob, sc = gram_problem(cp, means, ybar, constant=constant)
+    sc.sds = np.where(constant, 1.0, sds)  # the two-pass sds (identical up to rounding)
+    return prob, sc
+
+
+# --------------------------------------------------------------------------------------------
+# Unpenalized columns: partial them out exactly
+
+
+class _Partialled:
+    """The penalized columns with the unpenalized ones projected out (Frisch-Waugh-Lovell)."""
+
+    def __init__(self, prob, free: np.ndarray):
+        self.free = free
+        self.pen = np.flatnonzero(~free)
+        U = np.flatnonzero(free)
+        self.U = U
+        if isinstance(prob, _GramProblem):
+            Quu = prob.Q[np.ix_(U, U)]
+            self.M = np.linalg.pinv(Quu)
+            self.A = prob.Q[np.ix_(U, self.pen)]
+            qu = prob.q[U]
+            Qpp = prob.Q[np.ix_(self.pen, self.pen)] - self.A.T @ self.M @ self.A
+            qp = prob.q[self.pen] - self.A.T @ (self.M @ qu)
+            yy = prob.yy - qu @ self.M @ qu
+            self.inner = _GramProblem(Qpp, qp, yy, prob.n)
+        else:
+            Zu = prob.columns(U).copy()
+            Zp = prob.columns(self.pen).copy() if self.pen.size else np.zeros((prob.n, 0))
+            self.M = np.linalg.pinv(Zu.T @ Zu)
+            self.A = Zu.T @ Zp
+            qu = Zu.T @ prob.yc
+            Zt = Zp - Zu @ (self.M @ self.A)
+            yt = prob.yc - Zu @ (self.M @ qu)
+            self.inner = _DenseProblem(Zt, yt)
+        self.qu = qu
+
+    def full_beta(self, beta_pen: np.ndarray, p: int) -> np.ndarray:
+        beta = np.zeros(p)
+        beta[self.pen] = beta_pen
+        beta[self.U] = self.M @ (self.qu - self.A @ beta_pen)
+        return beta
+
+
+# --------------------------------------------------------------------------------------------
+# The path
+
+
+@dataclass
+class _PathOut:
+    std_coefs: np.ndarray
+    n_iter: np.ndarray
+    kkt: np.ndarray  # (L,) scale-free violation at each penalty
+    notes: list[str] = field(default_factory=list)
+
+
+def _lambda_max_of(g0: np.ndarray, n: int, mix: float, v: np.ndarray) -> float:
+    pen = v > 0
+    if not np.any(pen):
+        return 0.0
+    return float(np.max(np.abs(g0[pen]) / v[pen]) / n / max(mix, _MIN_MIX_FOR_GRID))
+
+
+def _violation(g, beta, lam, mix, v, n):
+    """Per-column KKT violation of the n-scaled conditions (divide by n for the objective)."""
+    l1 = n * lam * mix * v
+    smooth = g - n * lam * (1.0 - mix) * v * beta
+    nz = beta != 0
+    out = np.maximum(np.abs(smooth) - l1, 0.0)
+    out[nz] = np.abs(smooth[nz] - l1[nz] * np.sign(beta[nz]))
+    return out
+
+
+def solve_path(
+    prob,
+    penalties: np.ndarray,
+    mix: float,
+    v: np.ndarray,
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    progress: Progress | None = None,
+    kkt_scale: float | None = None,
+) -> _PathOut:
+    """Standardized coefficients along decreasing ``penalties`` for a prepared problem."""
+    p = prob.p
+    free = v == 0
+    if np.any(free):
+        part = _Partialled(prob, free)
+        sub = solve_path(
+            part.inner,
+            penalties,
+            mix,
+            v[part.pen],
+            tol,
+            max_sweeps,
+            progress,
+            kkt_scale=kkt_scale if kkt_scale is not None else _g_scale(prob),
+        )
+        full = np.vstack([part.full_beta(b, p) for b in sub.std_coefs])
+        return _PathOut(full, sub.n_iter, sub.kkt, sub.notes)
+
+    n = prob.n
+    L = penalties.shape[0]
+    out = np.zeros((L, p))
+    iters = np.zeros(L, dtype=int)
+    kkt = np.zeros(L)
+    notes: list[str] = []
+    scale_den = kkt_scale if kkt_scale is not None else _g_scale(prob)
+    rng = np.random.RandomState(0)  # only seeds the unused random-order option
+
+    beta = np.zeros(p)
+    g = prob.q.copy()
+    ever = np.zeros(p, bool)
+    l1w = n * mix * v  # per unit of lambda
+    uniform = bool(np.all(v == v[0]))
+    prev = max(_lambda_max_of(g, n, mix, v), float(penalties[0]) if L else 0.0)
+    for k in range(L):
+        if progress is not None:
+            progress.check()
+        lam = float(penalties[k])
+        if mix > 0:
+            strong = ever | (np.abs(g) >= l1w * (2.0 * lam - prev))
+        else:
+            strong = np.ones(p, bool)
+        total_it = 0
+        while True:
+            W = np.flatnonzero(strong)
+            if W.size:
+                vw = v[W]
+                scale = None if uniform and v[0] == 1.0 else 1.0 / vw
+                alpha = n * lam * mix
+                l2 = n * lam * (1.0 - mix)
+                l2_diag = None
+                beta_l2 = l2
+                if uniform:
+                    beta_l2 = l2 / v[0]
+                elif l2 > 0:
+                    l2_diag, beta_l2 = l2 / vw, 0.0
+                gamma0 = beta[W] * vw
+                gam, it, unconverged = prob.solve(
+                    W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng
+                )
+                total_it += it
+                if unconverged:
+                    notes.append(
+                        f"coordinate descent stopped at {max_sweeps} sweeps before converging "
+                        f"at penalty {lam:.4g}"
+                    )
+                beta[:] = 0.0
+                beta[W] = gam / vw
+            else:
+                beta[:] = 0.0
+            g = prob.gradient(beta)
+            if mix == 0:
+                break
+            outside = ~strong & (np.abs(g) > l1w * lam)
+            if not outside.any():
+                break
+            strong |= outside
+        ever |= beta != 0
+        out[k] = beta
+        iters[k] = total_it
+        kkt[k] = float(np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)) / scale_den
+        prev = lam
+    return _PathOut(out, iters, kkt, notes)
+
+
+def _g_scale(prob) -> float:
+    s = float(np.max(np.abs(prob.q), initial=0.0))
+    return s if s > 0 else 1.0
+
+
+def penalty_grid(lam_max: float, n_penalties: int, ratio: float) -> np.ndarray:
+    """``n_penalties`` log-spaced penalties from ``lam_max`` down to ``ratio * lam_max``."""
+    if n_penalties < 1:
+        raise ValueError("n_penalties must be at least 1")
+    if lam_max <= 0:
+        return np.zeros(n_penalties) if n_penalties == 1 else np.zeros(1)
+    return np.geomspace(lam_max, lam_max * ratio, n_penalties)
+
+
+def _check_xy(X, y):
+    X = np.asarray(X, dtype=float)
+    y = np.asarray(y, dtype=float).ravel()
+    if X.ndim != 2:
+        raise ValueError(f"X must be a 2-D matrix, got shape {X.shape}")
+    if y.shape[0] != X.shape[0]:
+        raise ValueError(f"y has {y.shape[0]} values but X has {X.shape[0]} rows")
+    if not (np.all(np.isfinite(X)) and np.all(np.isfinite(y))):
+        raise ValueError("X and y must be finite (intake drops or reports missing values)")
+    return X, y
+
+
+def penalty_max(
+    X: np.ndarray, y: np.ndarray, mix: float = 1.0, penalty_factors: np.ndarray | None = None
+) -> float:
+    """Smallest penalty at which every penalized coefficient is zero.
+
+    lambda_max = max_j |z_j'yc| / (n * v_j) / max(mix, 1e-3) over penalized columns, with the
+    unpenalized columns (v_j = 0) partialled out first. For mix < 1e-3 (ridge-like) the 1e-3
+    floor is common practice so that the grid stays finite.
+    """
+    X, y = _check_xy(X, y)
+    v = normalize_penalty_factors(penalty_factors, X.shape[1])
+    prob, _ = build_problem(X, y)
+    return _problem_lambda_max(prob, mix, v)
+
+
+def _problem_lambda_max(prob, mix, v) -> float:
+    free = v == 0
+    if np.any(free):
+        part = _Partialled(prob, free)
+        return _lambda_max_of(part.inner.q, prob.n, mix, v[part.pen])
+    return _lambda_max_of(prob.q, prob.n, mix, v)
+
+
+def _path_from(
+    prob, sc: _Scaling, mix, penalties, n_penalties, ratio, v, tol, max_sweeps, progress
+) -> PenaltyPath:
+    if penalties is None:
+        ratio = default_ratio(sc.n, prob.p) if ratio is None else float(ratio)
+        penalties = penalty_grid(_problem_lambda_max(prob, mix, v), n_penalties, ratio)
+    res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress)
+    coefs = res.std_coefs / sc.sds
+    coefs[:, sc.constant] = 0.0
+    intercepts = sc.y_mean - coefs @ sc.means
+    path = PenaltyPath(
+        penalties=penalties,
+        std_coefs=res.std_coefs,
+        coefs=coefs,
+        intercepts=intercepts,
+        mix=float(mix),
+        n_iter=res.n_iter,
+        max_kkt_violation=float(np.max(res.kkt, initial=0.0)),
+        kkt_violations=res.kkt,
+        notes=sorted(set(res.notes)),
+    )
+    return path
+
+
+def _check_penalties(penalties) -> np.ndarray | None:
+    if penalties is None:
+        return None
+    lam = np.asarray(penalties, dtype=float).ravel()
+    if lam.size == 0 or not np.all(np.isfinite(lam)) or np.any(lam < 0):
+        raise ValueError("penalties must be a non-empty list of finite non-negative numbers")
+    return np.sort(lam)[::-1].copy()
+
+
+def elastic_net_path(
+    X: np.ndarray,
+    y: np.ndarray,
+    mix: float = 1.0,
+    penalties: np.ndarray | None = None,
+    n_penalties: int = 100,
+    ratio: float | None = None,
+    penalty_factors: np.ndarray | None = None,
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    progress: Progress | None = None,
+    use_gram: bool | None = None,
+) -> PenaltyPath:
+    """Lasso (mix = 1) / elastic-net (0 < mix < 1) solutions along a decreasing penalty grid.
+
+    X: (n, p) candidate columns, original units; y: (n,) response. penalties: explicit grid
+    (sorted to decreasing); otherwise ``n_penalties`` log-spaced values from
+    ``penalty_max`` down by ``ratio`` (default 1e-4 when n > p, else 1e-2, common practice).
+    penalty_factors: (p,) non-negative weights v_j (0 = unpenalized), rescaled to sum to p.
+    tol: duality-gap tolerance of each inner solve, relative to ||yc||^2. use_gram: force the
+    Gram (True) or residual (False) route; default Gram when n > p.
+    Returns a PenaltyPath (coefficients in both unit systems, sweeps per penalty,
+    ``max_kkt_violation`` as defined in the module docstring). mix = 0 without penalty factors
+    is handed to ``ridge_path`` (one SVD gives the whole path).
+    """
+    X, y = _check_xy(X, y)
+    if not 0.0 <= mix <= 1.0:
+        raise ValueError(f"mix must lie in [0, 1], got {mix}")
+    lam = _check_penalties(penalties)
+    if mix == 0 and penalty_factors is None:
+        from engine.fitting.ridge import ridge_path
+
+        return ridge_path(
+            X, y, penalties=lam, n_penalties=n_penalties, ratio=ratio, progress=progress
+        )
+    v = normalize_penalty_factors(penalty_factors, X.shape[1])
+    prob, sc = build_problem(X, y, use_gram=use_gram)
+    return _path_from(prob, sc, mix, lam, n_penalties, ratio, v, tol, max_sweeps, progress)
+
+
+def kkt_violation(
+    X: np.ndarray,
+    y: np.ndarray,
+    std_coefs: np.ndarray,
+    penalties: np.ndarray,
+    mix: float,
+    penalty_factors: np.ndarray | None = None,
+) -> np.ndarray:
+    """Scale-free KKT violation (module docstring) of given standardized solutions, per penalty.
+
+    An independent check written directly from the objective, on an explicit standardized copy
+    of the data; used by tests and the benchmark to score any solver's output.
+    """
+    from engine.fitting.standardize import standardize
+
+    X, y = _check_xy(X, y)
+    st = standardize(X, y)
+    n = X.shape[0]
+    v = normalize_penalty_factors(penalty_factors, X.shape[1])
+    scale = float(np.max(np.abs(st.Z.T @ st.yc))) or 1.0
+    B = np.atleast_2d(std_coefs)
+    lams = np.atleast_1d(np.asarray(penalties, dtype=float))
+    out = np.zeros(B.shape[0])
+    for k in range(B.shape[0]):
+        g = st.Z.T @ (st.yc - st.Z @ B[k])
+        out[k] = float(np.max(_violation(g, B[k], lams[k], mix, v, n), initial=0.0)) / scale
+    return out

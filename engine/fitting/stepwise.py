@@ -1,0 +1,124 @@
+"""Forward stepwise selection: the whole greedy sequence of least-squares fits.
+
+At each step the column that lowers the residual sum of squares (RSS) most is added; every fit
+has an unpenalized intercept. The sequence is computed with modified Gram-Schmidt updates
+(a QR factorization grown one column at a time, Golub & Van Loan, Matrix Computations, 5.2):
+the response and every remaining candidate are kept orthogonal to the columns already chosen,
+so one step costs O(n p) -- linear in the size of the data -- instead of refitting every
+candidate model from scratch.
+"""
+
+from __future__ import annotations
+
+__all__ = ["StepwisePath", "forward_stepwise"]
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from engine.errors import InputProblem
+from engine.progress import Progress, silent
+
+# a candidate whose part orthogonal to the chosen columns has lost all but this share of its
+# sum of squares is (numerically) a combination of them and can no longer enter
+_COLLINEAR = 1e-10
+
+
+@dataclass
+class StepwisePath:
+    """The greedy sequence: ``order[:k]`` is the model of size k, ``rss[k-1]`` its RSS.
+
+    ``tss`` is the RSS of the intercept-only model (size 0). ``note`` says why the sequence
+    stopped before ``min(n - 1, p)`` steps (remaining columns are combinations of chosen ones).
+    """
+
+    order: np.ndarray  # (K,) column indices in order of entry
+    rss: np.ndarray  # (K,) residual sum of squares of the model with the first k columns
+    tss: float  # total sum of squares around the mean
+    n_rows: int
+    note: str | None = None
+
+    @property
+    def sizes(self) -> np.ndarray:
+        return np.arange(1, len(self.order) + 1)
+
+    def subset(self, size: int) -> tuple[int, ...]:
+        """Column indices (sorted) of the model with ``size`` columns."""
+        return tuple(sorted(int(j) for j in self.order[:size]))
+
+
+def forward_stepwise(
+    X: np.ndarray,
+    y: np.ndarray,
+    max_steps: int | None = None,
+    progress: Progress | None = None,
+) -> StepwisePath:
+    """Forward stepwise least squares with intercept, up to ``min(n - 1, p, max_steps)`` steps.
+
+    X: (n, p) float, y: (n,) float. Ties between candidates go to the lower column index.
+    Returns a :class:`StepwisePath`.
+    """
+    progress = progress or silent()
+    X, y = _check_xy(X, y)
+    n, p = X.shape
+    limit = min(n - 1, p)
+    if max_steps is not None:
+        if max_steps < 0:
+            raise InputProblem(f"the number of stepwise steps must be 0 or more; got {max_steps}")
+        limit = min(limit, int(max_steps))
+
+    Z = X - X.mean(axis=0)  # candidates, kept orthogonal to the chosen columns
+    r = y - y.mean()  # residual of the current model
+    tss = float(r @ r)
+    start_norms = np.einsum("ij,ij->j", Z, Z)
+    usable = start_norms > 0.0
+    Q = np.empty((n, limit))  # orthonormal basis of the chosen (centred) columns
+    order: list[int] = []
+    rss: list[float] = []
+    note = None
+    for step in range(limit):
+        progress.step(step / max(limit, 1), f"forward stepwise, step {step + 1} of {limit}")
+        norms = np.einsum("ij,ij->j", Z, Z)
+        alive = usable & (norms > _COLLINEAR * start_norms)
+        if not alive.any():
+            note = (
+                f"stopped after {step} steps: every remaining column is a combination of the "
+                "columns already chosen"
+            )
+            break
+        gain = np.full(p, -np.inf)
+        zr = Z[:, alive].T @ r
+        gain[alive] = zr * zr / norms[alive]
+        j = int(np.argmax(gain))
+        q = Z[:, j] / np.sqrt(norms[j])
+        if step:  # re-orthogonalize once against the basis ("twice is enough", Parlett)
+            B = Q[:, :step]
+            q = q - B @ (B.T @ q)
+            q /= np.linalg.norm(q)
+        Q[:, step] = q
+        Z -= np.outer(q, q @ Z)
+        Z[:, j] = 0.0
+        usable[j] = False
+        r = r - q * (q @ r)
+        order.append(j)
+        rss.append(float(r @ r))
+    progress.step(1.0, "forward stepwise done")
+    return StepwisePath(
+        order=np.asarray(order, dtype=int), rss=np.asarray(rss), tss=tss, n_rows=n, note=note
+    )
+
+
+def _check_xy(X: np.ndarray, y: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    X = np.asarray(X, dtype=float)
+    y = np.asarray(y, dtype=float).ravel()
+    if X.ndim != 2:
+        raise InputProblem(f"the candidate matrix must be two-dimensional; got shape {X.shape}")
+    if X.shape[0] != y.shape[0]:
+        raise InputProblem(
+            f"the candidates have {X.shape[0]} rows but the response has {y.shape[0]}"
+        )
+    if X.shape[0] < 3:
+        raise InputProblem(f"subset selection needs at least 3 rows; got {X.shape[0]}")
+    if not (np.isfinite(X).all() and np.isfinite(y).all()):
+        raise InputProblem("the candidates or the response contain missing or infinite values")
+    return X, y

@@ -67,6 +67,8 @@ class Table:
     blank_rows_skipped: int = 0
     warnings: list[str] = field(default_factory=list)
     file_format: str = "xlsx"  # xlsx, xlsm, xls, ods, csv
+    # how a text file was read, in words: {"encoding": "utf-8", "delimiter": "';'", "decimal mark": "','"}
+    reading: dict[str, str] = field(default_factory=dict)
 
     @property
     def n_rows(self) -> int:

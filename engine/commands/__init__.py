@@ -1,0 +1,1 @@
+"""One module per `tamis` subcommand; each offers ``run(args, ctx) -> int``."""

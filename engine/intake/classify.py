@@ -1,0 +1,368 @@
+"""Decide what one column holds and convert its cells to typed values.
+
+Rules (applied to the cells that hold something; empty cells, spreadsheet error values and
+formulas saved without a result are missing from the start):
+
+- empty: nothing at all.
+- flag: every value is a yes/no token (engine.intake.cells.FLAG_TRUE / FLAG_FALSE, booleans,
+  the numbers 1 and 0), and the column is not just numbers that happen to be one of 0 or 1
+  (a numeric 0/1 column needs both values to count as a flag). At least 80% tokens with a
+  word or boolean among them also makes a flag; the rest is treated as missing with a note.
+- number: at least 80% of the values are numbers, real or written as text ("1,234.5",
+  "12%" -> 0.12, "(1.5)" -> -1.5, "1 234,5" with a decimal comma). The other values are
+  treated as missing and the note names up to three of their cells. A text column of codes
+  with leading zeros ("007") is never read as numbers.
+- date: at least 80% dates (date cells or date text); the rest missing with a note.
+- otherwise text: a category when the distinct values are at most half of the values and
+  at most 200 (a few labels that repeat), else an identifier (mostly unique text: codes,
+  names). Numbers and dates in a text column keep the text a person would see ("12", "2021-03-04").
+
+One pass over a column's cells in Python at most; columns of plain numbers (with or without
+empty cells) take a vectorized path.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "UNCACHED",
+    "classify_column",
+    "CATEGORY_MAX_SHARE",
+    "CATEGORY_MAX_LEVELS",
+    "DOMINANT_SHARE",
+]
+
+import datetime as dt
+from collections import Counter
+
+import numpy as np
+
+from engine.intake.cells import (
+    ERROR_VALUES,
+    FLAG_FALSE,
+    FLAG_TRUE,
+    cell_name,
+    format_plain,
+    parse_number_text,
+    text_number_convention,
+)
+from engine.intake.table import Column, ColumnKind
+from engine.intake.text_dates import looks_like_date, parse_date_texts
+
+DOMINANT_SHARE = 0.8  # share of values of one kind that decides the column's kind
+CATEGORY_MAX_SHARE = 0.5  # distinct labels / values at most this for a category
+CATEGORY_MAX_LEVELS = 200
+
+
+class _Uncached:
+    """Marks a formula cell that was saved without its result."""
+
+    def __repr__(self) -> str:
+        return "<formula without stored result>"
+
+
+UNCACHED = _Uncached()
+
+# codes of what a non-empty cell holds
+_MISSING, _ERROR, _NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT, _NOFORMULA = (
+    range(10)
+)
+_ERRORS = frozenset(ERROR_VALUES)
+_FLAG_VALUE = {**{t: 1.0 for t in FLAG_TRUE}, **{t: 0.0 for t in FLAG_FALSE}}
+_FLAG_WORDS = {t: v for t, v in _FLAG_VALUE.items() if t not in ("1", "0")}
+
+
+def _is_code(text: str) -> bool:
+    s = text.strip()
+    return len(s) > 1 and s[0] == "0" and s[1].isdigit()
+
+
+def classify_column(
+    cells: np.ndarray,
+    *,
+    name: str,
+    heading: str,
+    letter: str,
+    row_numbers: np.ndarray,
+    decimal: str = ".",
+    day_first: bool = False,
+    from_text_file: bool = False,
+) -> Column:
+    """Classify `cells` (object array, one per data row; "" empty) into a typed Column."""
+    n = len(cells)
+    if cells.dtype != object:  # the caller's block path: plain floats, nothing missing
+        return _number_column(
+            cells.astype(np.float64, copy=False), name, heading, letter, n_missing=0
+        )
+
+    empty = cells == ""
+    if not isinstance(empty, np.ndarray):  # defensive: numpy falls back to a scalar on odd input
+        empty = np.array([isinstance(v, str) and v == "" for v in cells], dtype=bool)
+    present_idx = np.flatnonzero(~empty)
+    present = cells[present_idx]
+    if present.size == 0:
+        return Column(name, heading, letter, ColumnKind.EMPTY, np.full(n, np.nan), missing=n)
+
+    types = set(map(type, present))
+    if types <= {float, int}:
+        values = np.full(n, np.nan)
+        values[present_idx] = present.astype(np.float64)
+        return _number_column(values, name, heading, letter, n_missing=int(empty.sum()))
+
+    return _classify_mixed(
+        cells,
+        present_idx,
+        n,
+        name,
+        heading,
+        letter,
+        row_numbers,
+        decimal,
+        day_first,
+        from_text_file,
+    )
+
+
+def _number_column(
+    values: np.ndarray, name: str, heading: str, letter: str, n_missing: int
+) -> Column:
+    ok = ~np.isnan(values)
+    uniq = np.unique(values[ok])
+    if uniq.size == 2 and uniq[0] == 0.0 and uniq[1] == 1.0:
+        kind = ColumnKind.FLAG
+    else:
+        kind = ColumnKind.NUMBER
+    col = Column(name, heading, letter, kind, values, missing=n_missing)
+    _fill_numeric_summary(col, uniq)
+    return col
+
+
+def _fill_numeric_summary(col: Column, uniq: np.ndarray) -> None:
+    col.distinct = int(uniq.size)
+    if uniq.size:
+        col.minimum = float(uniq[0])
+        col.maximum = float(uniq[-1])
+    col.constant = uniq.size == 1
+
+
+def _classify_mixed(
+    cells: np.ndarray,
+    present_idx: np.ndarray,
+    n: int,
+    name: str,
+    heading: str,
+    letter: str,
+    row_numbers: np.ndarray,
+    decimal: str,
+    day_first: bool,
+    from_text_file: bool,
+) -> Column:
+    m = present_idx.size
+    codes = np.full(m, _TEXT, dtype=np.int8)
+    numbers = np.full(m, np.nan)
+    flags = np.full(m, np.nan)
+    dates: list[dt.datetime | None] = [None] * m
+    shown: list[str] = [""] * m  # the text a person sees, for text columns and notes
+    error_codes: Counter[str] = Counter()
+
+    # Texts are classified once per distinct text (labels repeat a lot).
+    text_pos: list[int] = []
+    for k, i in enumerate(present_idx):
+        v = cells[i]
+        t = type(v)
+        if t is str:
+            text_pos.append(k)
+        elif t is float or t is int:
+            codes[k] = _NUMBER
+            numbers[k] = v
+            if v == 0 or v == 1:
+                flags[k] = float(v)
+            shown[k] = format_plain(float(v))
+        elif t is bool:
+            codes[k] = _BOOL
+            flags[k] = 1.0 if v else 0.0
+            shown[k] = format_plain(v)
+        elif t is dt.datetime or t is dt.date:
+            codes[k] = _DATE
+            dates[k] = v if t is dt.datetime else dt.datetime(v.year, v.month, v.day)
+            shown[k] = format_plain(v)
+        elif v is UNCACHED:
+            codes[k] = _NOFORMULA
+        elif t is dt.timedelta:  # a duration: read in days, as the spreadsheet stores it
+            codes[k] = _NUMBER
+            numbers[k] = v.total_seconds() / 86400.0
+            shown[k] = str(v)
+        else:  # time of day and anything unforeseen: keep the text
+            text_pos.append(k)
+            cells_text = format_plain(v)
+            shown[k] = cells_text
+
+    if text_pos:
+        texts = [
+            cells[present_idx[k]] if type(cells[present_idx[k]]) is str else shown[k]
+            for k in text_pos
+        ]
+        unique = list(dict.fromkeys(texts))
+        conv = text_number_convention(unique, default=decimal)
+        date_like = [u for u in unique if looks_like_date(u)]
+        parsed_dates: dict[str, dt.datetime | None] = {}
+        date_note = None
+        if date_like:
+            got, date_note = parse_date_texts(date_like, day_first)
+            parsed_dates = dict(zip(date_like, got))
+        info: dict[str, tuple[int, float, float, str]] = {}
+        for u in unique:
+            s = " ".join(u.split())
+            low = s.lower()
+            if not s:
+                info[u] = (_MISSING, np.nan, np.nan, "")
+            elif s.upper() in _ERRORS:
+                info[u] = (_ERROR, np.nan, np.nan, s.upper())
+            elif parsed_dates.get(u) is not None:
+                info[u] = (_TEXT_DATE, np.nan, np.nan, s)
+            else:
+                num = None if _is_code(s) else parse_number_text(s, conv)
+                if num is not None:
+                    info[u] = (_TEXT_NUMBER, num, num if num in (0.0, 1.0) else np.nan, s)
+                elif low in _FLAG_WORDS:
+                    info[u] = (_TEXT_FLAG, np.nan, _FLAG_WORDS[low], s)
+                else:
+                    info[u] = (_TEXT, np.nan, np.nan, s)
+        any_code = any(_is_code(u) for u in unique)
+        for k, u in zip(text_pos, texts):
+            code, num, flag, s = info[u]
+            codes[k] = code
+            numbers[k] = num
+            flags[k] = flag
+            shown[k] = s
+            if code == _TEXT_DATE:
+                dates[k] = parsed_dates[u]
+            elif code == _ERROR:
+                error_codes[s] += 1
+    else:
+        any_code = False
+        date_note = None
+
+    counts = np.bincount(codes, minlength=10)
+    n_errors = int(counts[_ERROR])
+    usable = m - int(counts[_MISSING] + counts[_ERROR] + counts[_NOFORMULA])
+    empty_cells = n - m + int(counts[_MISSING])
+    notes: list[str] = []
+    if n_errors:
+        kinds = ", ".join(f"{c} {e}" if c > 1 else e for e, c in error_codes.most_common())
+        notes.append(
+            f"{n_errors} spreadsheet error value{'s' if n_errors > 1 else ''} ({kinds}) treated as missing"
+        )
+
+    def cell_at(k: int) -> str:
+        return cell_name(letter, int(row_numbers[present_idx[k]]))
+
+    def unusable_note(keep: np.ndarray, what: str) -> int:
+        bad = np.flatnonzero(
+            ~keep
+            & np.isin(codes, (_NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT))
+        )
+        if bad.size:
+            named = ", ".join(f"{cell_at(k)} '{shown[k]}'" for k in bad[:3])
+            more = f" and {bad.size - 3} more" if bad.size > 3 else ""
+            notes.append(
+                f"{bad.size} cell{'s' if bad.size > 1 else ''} that {'are' if bad.size > 1 else 'is'} not {what} treated as missing: {named}{more}"
+            )
+        return int(bad.size)
+
+    if usable == 0:
+        col = Column(
+            name,
+            heading,
+            letter,
+            ColumnKind.EMPTY,
+            np.full(n, np.nan),
+            missing=n,
+            errors=n_errors,
+            notes=notes,
+        )
+        return col
+
+    n_numeric = int(counts[_NUMBER] + counts[_TEXT_NUMBER])
+    n_words = int(counts[_BOOL] + counts[_TEXT_FLAG])
+    n_flaglike = n_words + int(
+        np.count_nonzero(~np.isnan(flags) & np.isin(codes, (_NUMBER, _TEXT_NUMBER)))
+    )
+    n_dates = int(counts[_DATE] + counts[_TEXT_DATE])
+    numbers_ok = not (any_code and counts[_NUMBER] == 0)
+
+    if n_words and n_flaglike >= DOMINANT_SHARE * usable:
+        keep = ~np.isnan(flags)
+        bad = unusable_note(keep, "yes/no values")
+        values = np.full(n, np.nan)
+        values[present_idx[keep]] = flags[keep]
+        col = Column(name, heading, letter, ColumnKind.FLAG, values)
+        col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
+        _fill_numeric_summary(col, np.unique(flags[keep]))
+    elif numbers_ok and n_numeric and n_numeric >= DOMINANT_SHARE * usable:
+        keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER))
+        bad = unusable_note(keep, "numbers")
+        values = np.full(n, np.nan)
+        values[present_idx[keep]] = numbers[keep]
+        uniq = np.unique(numbers[keep])
+        is_flag = uniq.size == 2 and uniq[0] == 0.0 and uniq[1] == 1.0
+        col = Column(
+            name, heading, letter, ColumnKind.FLAG if is_flag else ColumnKind.NUMBER, values
+        )
+        col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
+        _fill_numeric_summary(col, uniq)
+        if not from_text_file and counts[_TEXT_NUMBER]:
+            col.text_numbers = int(counts[_TEXT_NUMBER])
+            first = int(np.flatnonzero(codes == _TEXT_NUMBER)[0])
+            notes.append(
+                f"{col.text_numbers} number{'s' if col.text_numbers > 1 else ''} stored as text read as "
+                f"number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} '{shown[first]}')"
+            )
+    elif n_dates and n_dates >= DOMINANT_SHARE * usable:
+        keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
+        bad = unusable_note(keep, "dates")
+        values = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
+        values[present_idx[keep]] = np.array(
+            [dates[k] for k in np.flatnonzero(keep)], dtype="datetime64[ns]"
+        )
+        col = Column(name, heading, letter, ColumnKind.DATE, values)
+        col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
+        uniq = np.unique(values[present_idx[keep]])
+        col.distinct = int(uniq.size)
+        col.constant = uniq.size == 1
+        if uniq.size:
+            col.minimum = _iso(uniq[0])
+            col.maximum = _iso(uniq[-1])
+        if date_note and counts[_TEXT_DATE]:
+            notes.append(date_note)
+    else:
+        keep = ~np.isin(codes, (_MISSING, _ERROR, _NOFORMULA))
+        labels = np.full(n, None, dtype=object)
+        shown_arr = np.array(shown, dtype=object)
+        labels[present_idx[keep]] = shown_arr[keep]
+        tally = Counter(shown_arr[keep].tolist())
+        distinct = len(tally)
+        if distinct <= CATEGORY_MAX_SHARE * usable and distinct <= CATEGORY_MAX_LEVELS:
+            kind = ColumnKind.CATEGORY
+        else:
+            kind = ColumnKind.IDENTIFIER
+        col = Column(name, heading, letter, kind, labels)
+        col.missing = empty_cells + n_errors + int(counts[_NOFORMULA])
+        col.distinct = distinct
+        col.constant = distinct == 1
+        if kind == ColumnKind.CATEGORY:
+            col.levels = [
+                label for label, _ in sorted(tally.items(), key=lambda kv: (-kv[1], kv[0]))
+            ]
+        if n_numeric and n_numeric > usable / 2:
+            notes.append(
+                f"{n_numeric} of {usable} values are numbers, too few for a number column "
+                f"(needs {int(DOMINANT_SHARE * 100)}%); read as text"
+            )
+    col.errors = n_errors
+    col.notes = notes
+    return col
+
+
+def _iso(value: np.datetime64) -> str:
+    text = str(np.datetime_as_string(value, unit="s"))
+    return text[:10] if text.endswith("T00:00:00") else text.replace("T", " ")

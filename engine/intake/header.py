@@ -1,0 +1,66 @@
+"""Find the row that holds the column headings.
+
+Workbooks often carry a title, a few lines of notes or a blank line above the headings. The
+rule: among the first 60 rows that hold anything, take the first row that
+
+- is about as wide as the table (at least half the widest row, and at least 2 cells when the
+  table has 2 or more columns), and
+- holds mostly words (at least 60% of its cells are text that is not a number, a date or an
+  error value), and
+- has at least one row below it that holds anything,
+
+preferring a row that fills at least 80% of the widest row. When no row qualifies (headings
+that are all numbers, say) the first row that holds anything is used. The caller can always
+override with an explicit header row.
+"""
+
+from __future__ import annotations
+
+__all__ = ["detect_header_row", "SCAN_ROWS"]
+
+import math
+
+from engine.intake.cells import ERROR_VALUES, parse_number_text
+from engine.intake.text_dates import looks_like_date
+
+SCAN_ROWS = 60
+
+
+def _is_word(value: object) -> bool:
+    if not isinstance(value, str):
+        return False
+    s = value.strip()
+    if not s or s.upper() in ERROR_VALUES or looks_like_date(s):
+        return False
+    return parse_number_text(s, ".") is None and parse_number_text(s, ",") is None
+
+
+def _filled(value: object) -> bool:
+    return not (isinstance(value, str) and not value.strip())
+
+
+def detect_header_row(rows: list[list]) -> int | None:
+    """0-based index into `rows` of the heading row, or None when every row is empty."""
+    sample: list[tuple[int, int, int]] = []  # (index, filled cells, word cells)
+    for i, row in enumerate(rows):
+        filled = sum(1 for v in row if _filled(v))
+        if filled:
+            words = sum(1 for v in row if _is_word(v))
+            sample.append((i, filled, words))
+            if len(sample) >= SCAN_ROWS:
+                break
+    if not sample:
+        return None
+    widest = max(f for _, f, _ in sample)
+    need = 1 if widest < 2 else max(2, math.ceil(0.5 * widest))
+    candidates = [
+        (i, f)
+        for k, (i, f, w) in enumerate(sample)
+        if f >= need and w >= 0.6 * f and k + 1 < len(sample)
+    ]
+    for i, f in candidates:
+        if f >= 0.8 * widest:
+            return i
+    if candidates:
+        return candidates[0][0]
+    return sample[0][0]

@@ -1,0 +1,156 @@
+"""Facts about a workbook package that the cell reader does not report.
+
+python-calamine returns an error cell (#N/A, #DIV/0! ...) and a formula cell that was saved
+without its result both as an empty cell. To count errors and to warn about formulas nobody
+calculated, the sheet's own XML is read here, with defusedxml (see engine.xmlsafe). The scan
+only runs when the sheet has empty cells where such cells could hide, and a quick byte search
+skips the parse when the XML holds no formula and no error at all.
+
+Positions are 0-based (row, column) pairs.
+"""
+
+from __future__ import annotations
+
+__all__ = ["PackageFacts", "guard_parts", "scan_sheet"]
+
+import posixpath
+import re
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from engine.errors import InputProblem, Place
+from engine.intake.cells import column_index
+from engine.xmlsafe import check_prolog, iterparse_xml, parse_xml
+
+_MAIN = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
+_REL = "{http://schemas.openxmlformats.org/officeDocument/2006/relationships}"
+_PKG_REL = "{http://schemas.openxmlformats.org/package/2006/relationships}"
+_TABLE = "{urn:oasis:names:tc:opendocument:xmlns:table:1.0}"
+_OFFICE = "{urn:oasis:names:tc:opendocument:xmlns:office:1.0}"
+_CALCEXT = "{urn:org:documentfoundation:names:experimental:calc:xmlns:calcext:1.0}"
+_TEXT = "{urn:oasis:names:tc:opendocument:xmlns:text:1.0}"
+_CELL_REF = re.compile(r"([A-Z]+)(\d+)")
+
+
+@dataclass
+class PackageFacts:
+    errors: dict[tuple[int, int], str] = field(default_factory=dict)  # position -> "#DIV/0!"
+    uncached: list[tuple[int, int]] = field(default_factory=list)  # formulas with no result
+
+
+def guard_parts(path: Path) -> None:
+    """Refuse the file if any XML part declares a document type (entity bombs and the like)."""
+    place = Place(file=str(path))
+    with zipfile.ZipFile(path) as zf:
+        for info in zf.infolist():
+            if not info.filename.endswith((".xml", ".rels")):
+                continue
+            with zf.open(info) as fh:
+                check_prolog(fh.read(65536), info.filename, place)
+
+
+def _sheet_part(zf: zipfile.ZipFile, sheet: str, place: Place) -> str | None:
+    root = parse_xml(zf.read("xl/workbook.xml"), "xl/workbook.xml", place)
+    rel_id = None
+    for el in root.iter(f"{_MAIN}sheet"):
+        if el.get("name") == sheet:
+            rel_id = el.get(f"{_REL}id")
+    if rel_id is None:
+        return None
+    rels_name = "xl/_rels/workbook.xml.rels"
+    rels = parse_xml(zf.read(rels_name), rels_name, place)
+    for el in rels.iter(f"{_PKG_REL}Relationship"):
+        if el.get("Id") == rel_id:
+            target = el.get("Target", "")
+            if target.startswith("/"):
+                return target.lstrip("/")
+            return posixpath.normpath(posixpath.join("xl", target))
+    return None
+
+
+def _contains(zf: zipfile.ZipFile, part: str, needles: tuple[bytes, ...]) -> bool:
+    tail = b""
+    with zf.open(part) as fh:
+        while chunk := fh.read(1 << 20):
+            window = tail + chunk
+            if any(n in window for n in needles):
+                return True
+            tail = chunk[-32:]
+    return False
+
+
+def _scan_xlsx(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
+    facts = PackageFacts()
+    part = _sheet_part(zf, sheet, place)
+    if part is None or part not in zf.namelist():
+        return facts
+    if not _contains(zf, part, (b"<f", b't="e"', b"t='e'", b":f")):
+        return facts
+    with zf.open(part) as fh:
+        for el in iterparse_xml(fh, part, place):
+            tag = el.tag
+            if tag == f"{_MAIN}c":
+                m = _CELL_REF.fullmatch(el.get("r", ""))
+                if m:
+                    pos = (int(m.group(2)) - 1, column_index(m.group(1)))
+                    kind = el.get("t")
+                    f = el.find(f"{_MAIN}f")
+                    v = el.find(f"{_MAIN}v")
+                    if kind == "e" and v is not None and v.text:
+                        facts.errors[pos] = v.text.strip()
+                    elif f is not None and (
+                        v is None or (not v.text and kind not in ("str", "inlineStr"))
+                    ):
+                        facts.uncached.append(pos)
+                el.clear()
+            elif tag == f"{_MAIN}row":
+                el.clear()
+    return facts
+
+
+def _scan_ods(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
+    facts = PackageFacts()
+    if not _contains(zf, "content.xml", (b'value-type="error"',)):
+        return facts
+    # Walk the sheet's rows counting repeats; the element tree is built per row and cleared.
+    with zf.open("content.xml") as fh:
+        row = 0
+        for el in iterparse_xml(fh, "content.xml", place):
+            tag = el.tag
+            if tag == f"{_TABLE}table-row":
+                col = 0
+                for cell in el:
+                    if cell.tag not in (f"{_TABLE}table-cell", f"{_TABLE}covered-table-cell"):
+                        continue
+                    repeat = int(cell.get(f"{_TABLE}number-columns-repeated", "1"))
+                    if cell.get(f"{_CALCEXT}value-type") == "error":
+                        code = "".join(cell.itertext()).strip() or "#VALUE!"
+                        for k in range(min(repeat, 16384)):
+                            facts.errors[(row, col + k)] = code
+                    col += repeat
+                row += int(el.get(f"{_TABLE}number-rows-repeated", "1"))
+                el.clear()
+            elif tag == f"{_TABLE}table":
+                if el.get(f"{_TABLE}name") == sheet:
+                    return facts
+                facts = PackageFacts()
+                row = 0
+                el.clear()
+    return PackageFacts()
+
+
+def scan_sheet(path: Path, fmt: str, sheet: str) -> PackageFacts:
+    """Error cells and formulas saved without a result in one sheet of an xlsx/xlsm/ods file."""
+    place = Place(file=str(path), sheet=sheet)
+    try:
+        with zipfile.ZipFile(path) as zf:
+            if fmt in ("xlsx", "xlsm"):
+                return _scan_xlsx(zf, sheet, place)
+            if fmt == "ods":
+                return _scan_ods(zf, sheet, place)
+    except (zipfile.BadZipFile, KeyError, OSError) as exc:
+        raise InputProblem(
+            f"{place.describe()}: the workbook package is damaged ({exc})", place
+        ) from exc
+    return PackageFacts()

@@ -1,0 +1,296 @@
+"""Turn one sheet (or CSV file) into a Table: find the headings, skip blank rows, type columns.
+
+The file is opened for reading only; nothing is ever written back to it.
+"""
+
+from __future__ import annotations
+
+__all__ = ["list_sheets", "read_table"]
+
+from pathlib import Path
+
+import numpy as np
+
+from engine.errors import InputProblem, Place
+from engine.intake.cells import cell_name, column_letter, format_heading
+from engine.intake.classify import UNCACHED, classify_column
+from engine.intake.delimited import read_delimited
+from engine.intake.header import detect_header_row
+from engine.intake.package import PackageFacts, guard_parts, scan_sheet
+from engine.intake.similarity import mark_near_duplicates
+from engine.intake.table import Column, SheetInfo, Table
+from engine.intake.workbook import check_path, open_workbook, read_grid, sheet_infos, sniff_format
+from engine.progress import Progress, silent
+
+NAMED_CELLS = 5  # how many cells a warning names before it gives only a count
+
+
+def list_sheets(path: str | Path) -> list[SheetInfo]:
+    """The sheets of a workbook in order, hidden ones flagged; a CSV file has one sheet."""
+    path = Path(path)
+    check_path(path)
+    if path.suffix.lower() == ".csv":
+        return [SheetInfo(name=path.stem, index=0)]
+    fmt = sniff_format(path)
+    if fmt != "xls":
+        guard_parts(path)
+    book = open_workbook(path, fmt)
+    try:
+        return sheet_infos(book)
+    finally:
+        book.close()
+
+
+def _choose_sheet(path: Path, infos: list[SheetInfo], sheet: str | None) -> str:
+    place = Place(file=str(path))
+    if not infos:
+        raise InputProblem(f"file '{path}' has no worksheets", place)
+    if sheet is None:
+        visible = [s for s in infos if not s.hidden]
+        return (visible or infos)[0].name
+    names = [s.name for s in infos]
+    if sheet in names:
+        return sheet
+    folded = [n for n in names if n.strip().casefold() == sheet.strip().casefold()]
+    if len(folded) == 1:
+        return folded[0]
+    listed = ", ".join(f"'{n}'" + (" (hidden)" if s.hidden else "") for n, s in zip(names, infos))
+    raise InputProblem(
+        f"file '{path}' has no sheet named '{sheet}'; its sheets are: {listed}",
+        Place(file=str(path), sheet=sheet),
+    )
+
+
+def read_table(
+    path: str | Path,
+    sheet: str | None = None,
+    header_row: int | None = None,
+    progress: Progress | None = None,
+) -> Table:
+    """Read one sheet as typed columns with a report (see engine.intake.table).
+
+    `sheet` None takes the first visible sheet; `header_row` (1-based sheet row) None detects
+    the heading row. Raises InputProblem naming the file, sheet, row or cell when the input
+    cannot be used.
+    """
+    path = Path(path)
+    progress = progress or silent()
+    check_path(path)
+    progress.step(0.0, "opening the file")
+    if path.suffix.lower() == ".csv":
+        text = read_delimited(path)
+        if sheet is not None and sheet.strip().casefold() != path.stem.casefold():
+            raise InputProblem(
+                f"file '{path}' is a CSV file with a single sheet, '{path.stem}'; "
+                f"there is no sheet '{sheet}'",
+                Place(file=str(path), sheet=sheet),
+            )
+        infos = [SheetInfo(name=path.stem, index=0)]
+        rows: list[list] = text.rows
+        name, fmt = path.stem, "csv"
+        decimal, day_first = text.decimal, text.decimal == ","
+        facts_source = None
+    else:
+        fmt = sniff_format(path)
+        if fmt != "xls":
+            guard_parts(path)
+        book = open_workbook(path, fmt)
+        try:
+            infos = sheet_infos(book)
+            name = _choose_sheet(path, infos, sheet)
+            progress.step(0.05, f"reading sheet '{name}'")
+            rows = read_grid(book, name, path)
+        finally:
+            book.close()
+        decimal, day_first = ".", False
+        facts_source = fmt
+    progress.step(0.5, "typing the columns")
+    table = _build_table(
+        path, fmt, name, infos, rows, header_row, decimal, day_first, facts_source, progress
+    )
+    if fmt == "csv":
+        shown = {"\t": "tab", ",": "comma", ";": "semicolon", "|": "vertical bar"}
+        table.reading = {
+            "encoding": text.encoding,
+            "delimiter": shown.get(text.delimiter, repr(text.delimiter)),
+            "decimal mark": "comma" if text.decimal == "," else "point",
+        }
+    progress.step(1.0, "done")
+    return table
+
+
+def _build_table(
+    path: Path,
+    fmt: str,
+    sheet: str,
+    infos: list[SheetInfo],
+    rows: list[list],
+    header_row: int | None,
+    decimal: str,
+    day_first: bool,
+    facts_source: str | None,
+    progress: Progress,
+) -> Table:
+    place = Place(file=str(path), sheet=sheet)
+    where = place.describe()
+    width = max((len(r) for r in rows), default=0)
+    if width == 0 or not any(not (isinstance(v, str) and not v.strip()) for r in rows for v in r):
+        raise InputProblem(
+            f"{where}: the sheet is empty; choose the sheet that holds the data", place
+        )
+    if any(len(r) != width for r in rows):
+        rows = [list(r) + [""] * (width - len(r)) for r in rows]
+
+    if header_row is None:
+        h = detect_header_row(rows)
+        assert h is not None  # the sheet is not empty
+    else:
+        if header_row < 1 or header_row > len(rows):
+            raise InputProblem(
+                f"{where}: header row {header_row} is outside the sheet, whose last row with "
+                f"anything in it is {len(rows)}",
+                Place(file=str(path), sheet=sheet, row=header_row),
+            )
+        h = header_row - 1
+        if all(isinstance(v, str) and not v.strip() for v in rows[h]):
+            raise InputProblem(
+                f"{where}: row {header_row} is empty, so it cannot hold the headings; "
+                "give the row number where the column headings are",
+                Place(file=str(path), sheet=sheet, row=header_row),
+            )
+
+    block = np.empty((len(rows) - h - 1, width), dtype=object)
+    for i, r in enumerate(rows[h + 1 :]):
+        block[i, :] = r
+    empty = block == ""
+    if not isinstance(empty, np.ndarray) or empty.shape != block.shape:
+        empty = np.zeros(block.shape, dtype=bool)
+
+    warnings: list[str] = []
+    if facts_source in ("xlsx", "xlsm", "ods") and empty.any():
+        facts = scan_sheet(path, facts_source, sheet)
+        _apply_facts(facts, block, empty, h, sheet, warnings)
+
+    row_has = ~empty.all(axis=1)
+    if not row_has.any():
+        raise InputProblem(
+            f"{where}: the headings are in row {h + 1} but there are no data rows below them",
+            Place(file=str(path), sheet=sheet, row=h + 1),
+        )
+    last = int(np.flatnonzero(row_has)[-1])
+    keep_rows = np.flatnonzero(row_has)
+    blank_skipped = int((~row_has[: last + 1]).sum())
+    block = block[keep_rows]
+    empty = empty[keep_rows]
+    row_numbers = (keep_rows + h + 2).astype(np.int64)
+
+    headings = [format_heading(v) for v in rows[h]]
+    col_has = ~empty.all(axis=0)
+    keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
+
+    dense = not empty[:, keep_cols].any()
+    numeric_block = None
+    if dense and fmt != "csv":
+        sub = block[:, keep_cols]
+        if set(map(type, sub.ravel().tolist())) <= {float, int}:
+            numeric_block = sub.astype(np.float64)
+
+    columns: list[Column] = []
+    seen: dict[str, str] = {}  # casefolded name -> first column's name
+    taken: set[str] = set()
+    unnamed: list[str] = []
+    for k, j in enumerate(keep_cols):
+        letter = str(j + 1) if fmt == "csv" else column_letter(j)
+        heading = headings[j]
+        base = heading or (f"column {letter}")
+        if not heading:
+            unnamed.append(letter)
+        name = base
+        dup_of = seen.get(base.casefold())
+        if dup_of is not None:
+            n = 2
+            while f"{base} ({n})".casefold() in taken:
+                n += 1
+            name = f"{base} ({n})"
+        else:
+            seen[base.casefold()] = base
+        taken.add(name.casefold())
+        cells = (
+            numeric_block[:, k]
+            if numeric_block is not None
+            else np.where(empty[:, j], "", block[:, j])
+        )
+        col = classify_column(
+            cells,
+            name=name,
+            heading=heading,
+            letter=letter,
+            row_numbers=row_numbers,
+            decimal=decimal,
+            day_first=day_first,
+            from_text_file=fmt == "csv",
+        )
+        if dup_of is not None:
+            col.duplicate_of = dup_of
+            col.notes.insert(
+                0, f"heading '{base}' is also used by an earlier column; renamed '{name}'"
+            )
+        columns.append(col)
+        if k % 8 == 7:
+            progress.step(
+                0.5 + 0.4 * (k + 1) / len(keep_cols), f"typed {k + 1} of {len(keep_cols)} columns"
+            )
+
+    if unnamed:
+        shown = ", ".join(unnamed[:NAMED_CELLS]) + (" ..." if len(unnamed) > NAMED_CELLS else "")
+        warnings.append(
+            f"{len(unnamed)} column{'s' if len(unnamed) > 1 else ''} with values but no heading in "
+            f"row {h + 1} ({shown}) {'are' if len(unnamed) > 1 else 'is'} named after {'their' if len(unnamed) > 1 else 'its'} position"
+        )
+    progress.step(0.92, "looking for repeated columns")
+    mark_near_duplicates(columns)
+    return Table(
+        source=path,
+        sheet=sheet,
+        sheets=infos,
+        header_row=h + 1,
+        columns=columns,
+        row_numbers=row_numbers,
+        blank_rows_skipped=blank_skipped,
+        warnings=warnings,
+        file_format=fmt,
+    )
+
+
+def _apply_facts(
+    facts: PackageFacts,
+    block: np.ndarray,
+    empty: np.ndarray,
+    h: int,
+    sheet: str,
+    warnings: list[str],
+) -> None:
+    """Put error values and formulas without results back where the cell reader left blanks."""
+    n_rows, n_cols = block.shape
+    for (r, c), code in facts.errors.items():
+        i = r - h - 1
+        if 0 <= i < n_rows and 0 <= c < n_cols and empty[i, c]:
+            block[i, c] = code
+            empty[i, c] = False
+    for r, c in facts.uncached:
+        i = r - h - 1
+        if 0 <= i < n_rows and 0 <= c < n_cols and empty[i, c]:
+            block[i, c] = UNCACHED
+            empty[i, c] = False
+    if facts.uncached:
+        cells = sorted(facts.uncached)
+        named = ", ".join(
+            f"{sheet}!{cell_name(column_letter(c), r + 1)}" for r, c in cells[:NAMED_CELLS]
+        )
+        more = f" and {len(cells) - NAMED_CELLS} more" if len(cells) > NAMED_CELLS else ""
+        warnings.append(
+            f"{len(cells)} formula cell{'s' if len(cells) > 1 else ''} in sheet '{sheet}' "
+            f"{'have' if len(cells) > 1 else 'has'} no stored result ({named}{more}); the file was "
+            "saved by a program that does not calculate formulas, so these cells read as missing. "
+            "Open the file in a spreadsheet program and save it to store the results"
+        )

@@ -1,0 +1,77 @@
+"""What every chart shares: a white plot frame in our palette, a log-penalty axis, export."""
+
+from __future__ import annotations
+
+__all__ = ["LogPenaltyAxis", "make_plot", "export_plot", "EXPORT_FILTER"]
+
+from pathlib import Path
+
+import numpy as np
+import pyqtgraph as pg
+import pyqtgraph.exporters as pg_exporters
+from PySide6.QtGui import QFont
+
+from desktop.theme import INK, MUTED
+
+EXPORT_FILTER = "PNG picture (*.png);;SVG drawing (*.svg)"
+
+pg.setConfigOptions(antialias=True, background="w", foreground=INK)
+
+
+class LogPenaltyAxis(pg.AxisItem):
+    """An axis whose view coordinates are log10(penalty) but whose labels are penalties.
+
+    With ``log_labels`` False it is a plain axis (the same chart switches to the budget t).
+    """
+
+    log_labels = True
+
+    def tickStrings(self, values, scale, spacing):  # noqa: N802 - pyqtgraph name
+        if not self.log_labels:
+            return super().tickStrings(values, scale, spacing)
+        out = []
+        for v in values:
+            x = 10.0**v
+            out.append(f"{x:.2g}" if 1e-3 <= x < 1e4 else f"{x:.0e}")
+        return out
+
+
+def make_plot(bottom: pg.AxisItem | None = None) -> pg.PlotWidget:
+    axes = {"bottom": bottom} if bottom is not None else {}
+    w = pg.PlotWidget(axisItems=axes)
+    item = w.getPlotItem()
+    item.showGrid(x=True, y=True, alpha=0.15)
+    item.hideButtons()
+    item.setMenuEnabled(False)
+    font = QFont()
+    font.setPointSizeF(9)
+    for name in ("bottom", "left"):
+        ax = item.getAxis(name)
+        ax.setTickFont(font)
+        ax.setTextPen(pg.mkPen(INK))
+        ax.setPen(pg.mkPen(MUTED))
+    return w
+
+
+def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:
+    """Write the chart as PNG (at twice the screen size) or SVG, chosen by the file's ending."""
+    path = Path(path)
+    item = widget.getPlotItem()
+    if path.suffix.lower() == ".svg":
+        exporter = pg_exporters.SVGExporter(item)
+    else:
+        if path.suffix.lower() != ".png":
+            path = path.with_suffix(".png")
+        exporter = pg_exporters.ImageExporter(item)
+        width = max(int(item.sceneBoundingRect().width() * 2), 800)
+        exporter.parameters()["width"] = width
+    exporter.export(str(path))
+    return path
+
+
+def log10_positive(x: np.ndarray) -> np.ndarray:
+    """log10 for penalties; a zero penalty (plain least squares) sits just past the smallest."""
+    x = np.asarray(x, dtype=float)
+    pos = x[x > 0]
+    floor = pos.min() / 10 if pos.size else 1e-6
+    return np.log10(np.where(x > 0, x, floor))

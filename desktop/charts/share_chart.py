@@ -1,0 +1,58 @@
+"""Stability shares as horizontal bars, largest first, with the guidance threshold marked."""
+
+from __future__ import annotations
+
+__all__ = ["ShareChart"]
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QVBoxLayout, QWidget
+
+from desktop.charts.common import make_plot
+from desktop.theme import ACCENT, MUTED, SERIES
+from engine.study_result import StabilityResult
+
+_SHOWN = 25
+
+
+class ShareChart(QWidget):
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.plot = make_plot()
+        self.item = self.plot.getPlotItem()
+        self.item.setLabel("bottom", "Share of half-samples in which the column was chosen")
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(self.plot)
+        self.shown: list[str] = []
+
+    def set_stability(self, stab: StabilityResult | None) -> None:
+        self.item.clear()
+        self.shown = []
+        if stab is None or not stab.shares:
+            self.item.setTitle("Stability was not run")
+            return
+        ranked = sorted(stab.shares.items(), key=lambda kv: (-kv[1], kv[0]))[:_SHOWN]
+        self.shown = [n for n, _ in ranked]
+        n = len(ranked)
+        ys = np.arange(n)[::-1].astype(float)  # largest at the top
+        shares = np.array([s for _, s in ranked])
+        brushes = [pg.mkBrush(ACCENT if s >= stab.threshold else SERIES[9]) for s in shares]
+        bars = pg.BarGraphItem(
+            x0=np.zeros(n), y=ys, height=0.7, width=shares, brushes=brushes, pen=None
+        )
+        self.item.addItem(bars)
+        self.item.getAxis("left").setTicks([[(float(y), name) for y, (name, _) in zip(ys, ranked)]])
+        self.item.addItem(
+            pg.InfiniteLine(
+                pos=stab.threshold,
+                angle=90,
+                pen=pg.mkPen(MUTED, width=1.5, style=Qt.PenStyle.DashLine),
+                label=f"threshold {stab.threshold:.2g}",
+                labelOpts={"position": 0.02, "color": MUTED},
+            )
+        )
+        self.item.setTitle(f"{stab.runs} half-samples; the {n} most often chosen columns")
+        self.item.setXRange(0, 1.02, padding=0)
+        self.item.setYRange(-0.7, n - 0.3, padding=0)

@@ -1,0 +1,88 @@
+"""The engine functions the window calls, gathered in one injectable object.
+
+The window never imports engine modules that do work at start-up; it calls these, on a worker
+thread, through ``desktop.worker.TaskRunner``. Tests may pass an object with the same methods.
+"""
+
+from __future__ import annotations
+
+__all__ = ["EngineCalls", "LoadedBook", "load_book"]
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from engine.errors import Cancelled, InputProblem
+from engine.intake.table import SheetInfo, Table
+from engine.progress import Progress
+from engine.study_spec import StudySpec
+
+
+class EngineCalls:
+    """Thin forwarding to ``engine.intake``, ``engine.study`` and ``engine.report`` (imported lazily)."""
+
+    def list_sheets(self, path: Path) -> list[SheetInfo]:
+        from engine.intake import list_sheets
+
+        return list_sheets(path)
+
+    def read_table(
+        self, path: Path, sheet: str | None, header_row: int | None, progress: Progress
+    ) -> Table:
+        from engine.intake import read_table
+
+        return read_table(path, sheet=sheet, header_row=header_row, progress=progress)
+
+    def run_study(self, spec: StudySpec, progress: Progress) -> Any:
+        from engine.study import run_study
+
+        return run_study(spec, progress)
+
+    def run_study_on_table(self, spec: StudySpec, table: Table, progress: Progress) -> Any:
+        """Run on the table the window already read (same file, sheet and header row as ``spec``)."""
+        from engine.study import run_study
+
+        return run_study(spec, progress, table=table)
+
+    def write_results(
+        self, result: Any, *, out: Path | None, in_place: bool, progress: Progress
+    ) -> Path:
+        from engine.report import write_results
+
+        return write_results(result, out=out, in_place=in_place, progress=progress)
+
+    def read_settings(self, path: Path) -> StudySpec:
+        from engine.report import read_settings
+
+        return read_settings(path)
+
+
+@dataclass
+class LoadedBook:
+    path: Path
+    sheets: list[SheetInfo]
+    table: Table
+    saved_spec: StudySpec | None  # the analysis stored in a results workbook, if any
+
+
+def load_book(
+    calls: EngineCalls, path: Path, sheet: str | None, header_row: int | None, progress: Progress
+) -> LoadedBook:
+    """Sheets, the chosen sheet as a table, and a saved analysis if the workbook holds one."""
+    progress.step(0.0, "looking at the sheets")
+    sheets = calls.list_sheets(path)
+    saved = None
+    if path.suffix.lower() != ".csv":
+        try:
+            saved = calls.read_settings(path)
+        except (InputProblem, ImportError, KeyError, ValueError, OSError):
+            saved = None  # an ordinary workbook: no settings sheet of ours
+        except Cancelled:
+            raise
+    names = [s.name for s in sheets]
+    if sheet not in names:
+        sheet = saved.sheet if saved is not None and saved.sheet in names else None
+        header_row = saved.header_row if saved is not None and sheet is not None else None
+    progress.step(0.1, "reading the sheet")
+    table = calls.read_table(path, sheet, header_row, progress.part(0.1, 1.0, "reading the sheet"))
+    return LoadedBook(path, sheets, table, saved)

@@ -1,0 +1,507 @@
+"""Findings: everything a StudyResult holds, drawn and tabled; nothing here computes statistics.
+
+Tabs: Path (with the live cursor), Validation, Compare, Sizes, Stability, Focal effect,
+Read before use. Moving the path cursor reads the coefficients at that point straight from
+the engine's computed ``PenaltyPath``.
+"""
+
+from __future__ import annotations
+
+__all__ = ["ResultView", "cursor_rows"]
+
+from pathlib import Path
+
+import numpy as np
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QButtonGroup,
+    QComboBox,
+    QFileDialog,
+    QHBoxLayout,
+    QHeaderView,
+    QLabel,
+    QPushButton,
+    QRadioButton,
+    QSplitter,
+    QTableView,
+    QTabWidget,
+    QTextBrowser,
+    QVBoxLayout,
+    QWidget,
+)
+
+from desktop.cautions import cautions_html
+from desktop.charts.common import EXPORT_FILTER, export_plot
+from desktop.charts.curve_chart import CurveChart
+from desktop.charts.focal_chart import FocalChart
+from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
+from desktop.charts.share_chart import ShareChart
+from desktop.rows_model import RowsModel, fmt
+from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
+from engine.fitting.path import PenaltyPath
+from engine.methods import method_info
+from engine.study_result import ModelResult, StudyResult
+
+
+def cursor_rows(path: PenaltyPath, names: list[str], i: int) -> list[list[object]]:
+    """Coefficient rows at path point ``i``: nonzero columns, largest standardized effect first."""
+    std = path.std_coefs[i]
+    orig = path.coefs[i]
+    nz = np.flatnonzero(std != 0)
+    nz = nz[np.argsort(-np.abs(std[nz]), kind="stable")]
+    return [[names[j], float(orig[j]), float(std[j])] for j in nz]
+
+
+def _table(model: RowsModel) -> QTableView:
+    v = QTableView()
+    v.setModel(model)
+    v.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+    v.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+    v.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+    v.setAlternatingRowColors(True)
+    v.verticalHeader().setVisible(False)
+    v.horizontalHeader().setStretchLastSection(True)
+    v.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+    v.setWordWrap(False)
+    return v
+
+
+def _export_button(parent: QWidget, chart_widget, name: str) -> QPushButton:
+    b = QPushButton("Save chart as picture…")
+    b.setToolTip("Write this chart as a PNG picture or an SVG drawing (choose by the file ending).")
+
+    def go() -> None:
+        path, _ = QFileDialog.getSaveFileName(parent, "Save chart", f"{name}.png", EXPORT_FILTER)
+        if path:
+            export_plot(chart_widget.plot, path)
+
+    b.clicked.connect(go)
+    return b
+
+
+class ResultView(QWidget):
+    """The Findings page. ``show_result(result)`` fills every tab."""
+
+    cursor_moved = Signal(int)
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.result: StudyResult | None = None
+        self.current: ModelResult | None = None
+
+        self.summary = QLabel("Run a study to see its findings here.")
+        self.summary.setObjectName("headline")
+        self.summary.setWordWrap(True)
+        self.method_box = QComboBox()
+        self.method_box.setToolTip("The method whose path and validation curve are drawn.")
+        self.method_box.currentIndexChanged.connect(self._on_method)
+        head = QHBoxLayout()
+        head.addWidget(self.summary, 1)
+        head.addWidget(QLabel("Method"))
+        head.addWidget(self.method_box)
+
+        self.tabs = QTabWidget()
+        self.tabs.setDocumentMode(True)
+        self.tabs.addTab(self._build_path_tab(), "Path")
+        self.tabs.addTab(self._build_curve_tab(), "Validation")
+        self.tabs.addTab(self._build_compare_tab(), "Compare")
+        self.tabs.addTab(self._build_sizes_tab(), "Sizes")
+        self.tabs.addTab(self._build_share_tab(), "Stability")
+        self.tabs.addTab(self._build_focal_tab(), "Focal effect")
+        self.cautions = QTextBrowser()
+        self.cautions.setOpenExternalLinks(False)
+        self.cautions.setHtml(cautions_html())
+        self.tabs.addTab(self.cautions, "Read before use")
+        self.CAUTIONS_TAB = self.tabs.count() - 1
+
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(8, 8, 8, 8)
+        lay.addLayout(head)
+        lay.addWidget(self.tabs, 1)
+
+    # tabs -------------------------------------------------------------------------------
+    def _build_path_tab(self) -> QWidget:
+        self.path_chart = PathChart()
+        self.path_chart.index_changed.connect(self._on_cursor)
+        self.axis_penalty = QRadioButton("Against the penalty")
+        self.axis_penalty.setToolTip(
+            "Horizontal axis: the penalty on a log scale, strongest on the left."
+        )
+        self.axis_budget = QRadioButton("Against the budget t")
+        self.axis_budget.setToolTip(
+            "Horizontal axis: the sum of absolute standardized coefficients, the 'budget' of the equivalent "
+            "constrained problem. It grows as the penalty weakens."
+        )
+        self.axis_penalty.setChecked(True)
+        group = QButtonGroup(self)
+        group.addButton(self.axis_penalty)
+        group.addButton(self.axis_budget)
+        self.axis_budget.toggled.connect(
+            lambda on: self.path_chart.set_axis(AXIS_BUDGET if on else AXIS_PENALTY)
+        )
+        self.back_button = QPushButton("Back to the chosen point")
+        self.back_button.setToolTip("Return the cursor to the penalty the choice rule picked.")
+        self.back_button.clicked.connect(self.reset_cursor)
+        bar = QHBoxLayout()
+        bar.addWidget(self.axis_penalty)
+        bar.addWidget(self.axis_budget)
+        bar.addStretch(1)
+        bar.addWidget(self.back_button)
+        bar.addWidget(_export_button(self, self.path_chart, "tamis-path"))
+
+        self.readout = QLabel("")
+        self.readout.setWordWrap(True)
+        self.readout.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.coef_model = RowsModel(
+            ["Column", "Coefficient", "Per SD"],
+            [
+                "Model column (a category level shows as column=level).",
+                "Change in the response for one unit of the column, in the sheet's own units.",
+                "Change in the response for one standard deviation of the column; compares columns fairly.",
+            ],
+        )
+        self.coef_view = _table(self.coef_model)
+        self.coef_view.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        self.coef_view.clicked.connect(
+            lambda idx: self.highlight(self.coef_model.rows[idx.row()][0])
+        )
+        hint = QLabel("Drag the blue line across the chart. Click a row to pick out its line.")
+        hint.setObjectName("caption")
+        hint.setWordWrap(True)
+        side = QWidget()
+        sl = QVBoxLayout(side)
+        sl.setContentsMargins(0, 0, 0, 0)
+        sl.addWidget(self.readout)
+        sl.addWidget(self.coef_view, 1)
+        sl.addWidget(hint)
+
+        split = QSplitter(Qt.Orientation.Horizontal)
+        left = QWidget()
+        ll = QVBoxLayout(left)
+        ll.setContentsMargins(0, 0, 0, 0)
+        ll.addLayout(bar)
+        ll.addWidget(self.path_chart, 1)
+        split.addWidget(left)
+        split.addWidget(side)
+        split.setStretchFactor(0, 3)
+        split.setStretchFactor(1, 2)
+        return split
+
+    def _build_curve_tab(self) -> QWidget:
+        self.curve_chart = CurveChart()
+        self.curve_note = QLabel("")
+        self.curve_note.setWordWrap(True)
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        bar = QHBoxLayout()
+        bar.addWidget(self.curve_note, 1)
+        bar.addWidget(_export_button(self, self.curve_chart, "tamis-validation"))
+        lay.addLayout(bar)
+        lay.addWidget(self.curve_chart, 1)
+        return w
+
+    def _build_compare_tab(self) -> QWidget:
+        self.compare_model = RowsModel(
+            [
+                "Method",
+                "Columns kept",
+                "Held-out error",
+                "± SE",
+                "R squared",
+                "Penalty",
+                "Chosen by",
+                "Kept",
+            ],
+            [
+                "",
+                "How many columns have a nonzero coefficient.",
+                "Mean squared error on rows held out during validation (lower is better).",
+                "Standard error of that mean over the validation parts.",
+                "Share of the response's variation explained, on the rows used (in-sample; flatters large models).",
+                "The chosen penalty, where the method has one.",
+                "The rule that picked the point.",
+                "The columns kept, largest effect first.",
+            ],
+        )
+        self.compare_view = _table(self.compare_model)
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        note = QLabel(
+            "Compare held-out error, not R squared: R squared on the rows used always favours more columns."
+        )
+        note.setObjectName("caption")
+        note.setWordWrap(True)
+        lay.addWidget(note)
+        lay.addWidget(self.compare_view, 1)
+        return w
+
+    def _build_sizes_tab(self) -> QWidget:
+        self.sizes_box = QComboBox()
+        self.sizes_box.setToolTip("Subset methods report the best set of each size.")
+        self.sizes_box.currentIndexChanged.connect(self._fill_sizes)
+        self.sizes_model = RowsModel(
+            ["Size", "R squared", "Residual sum of squares", "BIC", "Columns"],
+            [
+                "Number of columns in the set.",
+                "In-sample share of variation explained.",
+                "",
+                "Bayesian information criterion (lower is better).",
+                "",
+            ],
+        )
+        self.sizes_view = _table(self.sizes_model)
+        self.sizes_note = QLabel("")
+        self.sizes_note.setWordWrap(True)
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        bar = QHBoxLayout()
+        bar.addWidget(QLabel("Method"))
+        bar.addWidget(self.sizes_box)
+        bar.addWidget(self.sizes_note, 1)
+        lay.addLayout(bar)
+        lay.addWidget(self.sizes_view, 1)
+        return w
+
+    def _build_share_tab(self) -> QWidget:
+        self.share_chart = ShareChart()
+        self.share_note = QLabel("")
+        self.share_note.setWordWrap(True)
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        bar = QHBoxLayout()
+        bar.addWidget(self.share_note, 1)
+        bar.addWidget(_export_button(self, self.share_chart, "tamis-stability"))
+        lay.addLayout(bar)
+        lay.addWidget(self.share_chart, 1)
+        return w
+
+    def _build_focal_tab(self) -> QWidget:
+        self.focal_text = QLabel("")
+        self.focal_text.setWordWrap(True)
+        self.focal_text.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.focal_chart = FocalChart()
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        bar = QHBoxLayout()
+        bar.addWidget(self.focal_text, 1)
+        bar.addWidget(
+            _export_button(self, self.focal_chart, "tamis-focal"), 0, Qt.AlignmentFlag.AlignTop
+        )
+        lay.addLayout(bar)
+        lay.addWidget(self.focal_chart, 1)
+        return w
+
+    # filling ----------------------------------------------------------------------------
+    def show_result(self, result: StudyResult) -> None:
+        self.result = result
+        d = result.design
+        dropped = f", {d.rows_dropped} left out" if d.rows_dropped else ""
+        took = f" in {result.seconds:.1f} s" if result.seconds else ""
+        self.summary.setText(
+            f"{d.response} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"
+        )
+        self.method_box.blockSignals(True)
+        self.method_box.clear()
+        for m in result.models:
+            self.method_box.addItem(method_info(m.method).title, m.method)
+        first = next((i for i, m in enumerate(result.models) if m.path is not None), 0)
+        self.method_box.setCurrentIndex(first)
+        self.method_box.blockSignals(False)
+        self._fill_compare()
+        self.sizes_box.blockSignals(True)
+        self.sizes_box.clear()
+        for m in result.models:
+            if m.by_size:
+                self.sizes_box.addItem(method_info(m.method).title, m.method)
+        self.sizes_box.blockSignals(False)
+        self._fill_sizes()
+        self._fill_stability()
+        self._fill_focal()
+        notes = list(result.warnings) + list(d.warnings)
+        notes += [f"Column '{c}' left out: {why}" for c, why in d.dropped_columns.items()]
+        for m in result.models:
+            notes += [f"{method_info(m.method).title}: {n}" for n in m.notes]
+        self.cautions.setHtml(cautions_html(list(dict.fromkeys(notes))))
+        self._on_method()
+
+    def _on_method(self, *_: object) -> None:
+        if self.result is None or self.method_box.count() == 0:
+            return
+        m = self.result.model(self.method_box.currentData())
+        self.current = m
+        names = list(self.result.design.names)
+        chosen = self._chosen_index(m)
+        self.path_chart.set_path(m.path, names, chosen)
+        self.back_button.setEnabled(m.path is not None)
+        if m.path is None:
+            self.coef_model.set_rows(
+                sorted(
+                    (
+                        [
+                            n,
+                            float(m.coefficients.get(n, 0.0)),
+                            float(m.std_coefficients.get(n, 0.0)),
+                        ]
+                        for n in m.selected
+                    ),
+                    key=lambda r: -abs(r[2]),
+                )
+            )
+            self.readout.setText(
+                f"<b>{method_info(m.method).title}</b> has no penalty path; "
+                f"its {len(m.selected)} kept columns are listed."
+            )
+        else:
+            self._on_cursor(self.path_chart.index)
+        rule = m.choice if m.choice in ("min", "one-se") else None
+        self.curve_chart.set_curve(m.curve, rule)
+        if m.curve is not None:
+            c = m.curve
+            scheme = SCHEME_WORDS.get(c.scheme, c.scheme)
+            self.curve_note.setText(
+                f"{scheme}, {c.parts} held-out parts. Lowest error: {fmt(float(c.mean_error[c.index_min]))} "
+                f"with {int(c.n_selected[c.index_min])} columns; simplest within one standard error: "
+                f"{fmt(float(c.mean_error[c.index_one_se]))} with {int(c.n_selected[c.index_one_se])} columns."
+                + (f" Chosen by: {CHOICE_WORDS[rule].lower()}." if rule else "")
+            )
+        else:
+            self.curve_note.setText("This method has no validation curve.")
+
+    def _chosen_index(self, m: ModelResult) -> int | None:
+        if m.path is None:
+            return None
+        if m.penalty is not None and len(m.path):
+            return int(
+                np.argmin(
+                    np.abs(
+                        np.log(np.maximum(m.path.penalties, 1e-300))
+                        - np.log(max(m.penalty, 1e-300))
+                    )
+                )
+            )
+        if m.curve is not None and m.curve.grid_kind == "penalty" and m.choice in ("min", "one-se"):
+            return m.curve.chosen(m.choice)
+        return None
+
+    def _on_cursor(self, i: int) -> None:
+        m = self.current
+        if self.result is None or m is None or m.path is None:
+            return
+        path = m.path
+        rows = cursor_rows(path, list(self.result.design.names), i)
+        self.coef_model.set_rows(rows)
+        chosen = " (the chosen point)" if i == self._chosen_index(m) else ""
+        self.readout.setText(
+            f"<b>{len(rows)} columns selected</b>{chosen}<br>"
+            f"penalty {fmt(float(path.penalties[i]))} · budget t {fmt(float(path.l1_budget[i]))} · "
+            f"point {i + 1} of {len(path)}"
+        )
+        self.cursor_moved.emit(i)
+
+    def selected_at_cursor(self) -> list[str]:
+        return [r[0] for r in self.coef_model.rows]
+
+    def reset_cursor(self) -> None:
+        if self.current is not None:
+            i = self._chosen_index(self.current)
+            if i is not None:
+                self.path_chart.set_index(i)
+
+    def highlight(self, name: str | None) -> None:
+        self.path_chart.highlight(name)
+        if name:
+            for r, row in enumerate(self.coef_model.rows):
+                if row[0] == name:
+                    self.coef_view.selectRow(r)
+                    break
+
+    def show_cautions(self) -> None:
+        self.tabs.setCurrentIndex(self.CAUTIONS_TAB)
+
+    def _fill_compare(self) -> None:
+        assert self.result is not None
+        rows = []
+        for m in self.result.models:
+            kept = sorted(m.selected, key=lambda n: -abs(m.std_coefficients.get(n, 0.0)))
+            title = method_info(m.method).title + (" (approximate search)" if m.approximate else "")
+            rows.append(
+                [
+                    title,
+                    len(m.selected),
+                    m.cv_error,
+                    m.cv_error_se,
+                    m.r2,
+                    m.penalty,
+                    CHOICE_WORDS.get(m.choice or "", m.choice or "–"),
+                    ", ".join(kept),
+                ]
+            )
+        self.compare_model.set_rows(rows)
+        self.compare_view.resizeColumnsToContents()
+
+    def _fill_sizes(self, *_: object) -> None:
+        if self.result is None or self.sizes_box.count() == 0:
+            self.sizes_model.set_rows([])
+            self.sizes_note.setText(
+                "No subset method was run (tick Best subset or Forward stepwise)."
+            )
+            return
+        m = self.result.model(self.sizes_box.currentData())
+        chosen = len(m.selected)
+        self.sizes_model.set_rows(
+            [[r.size, r.r2, r.rss, r.bic, ", ".join(r.columns)] for r in m.by_size or []]
+        )
+        self.sizes_note.setText(
+            f"The chosen size is {chosen}."
+            + (
+                " Found by an approximate search (too many columns for an exact one)."
+                if m.approximate
+                else ""
+            )
+        )
+        self.sizes_view.resizeColumnsToContents()
+        if chosen < len(self.sizes_model.rows):
+            for r, row in enumerate(self.sizes_model.rows):
+                if row[0] == chosen:
+                    self.sizes_view.selectRow(r)
+
+    def _fill_stability(self) -> None:
+        assert self.result is not None
+        s = self.result.stability
+        self.share_chart.set_stability(s)
+        if s is None:
+            self.share_note.setText(
+                "Stability was not run. Set 'Stability half-samples' in Run settings to see "
+                "how often each column is chosen when the rows change."
+            )
+        else:
+            self.share_note.setText(
+                f"Columns chosen in at least {s.threshold:.0%} of {s.runs} half-samples: "
+                + (", ".join(s.stable) if s.stable else "none")
+                + "."
+            )
+
+    def _fill_focal(self) -> None:
+        assert self.result is not None
+        f = self.result.focal
+        self.focal_chart.set_focal(f)
+        if f is None:
+            self.focal_text.setText(
+                "No focal column. Give one column the role 'focal' to estimate its own effect "
+                "with controls chosen by double selection."
+            )
+            return
+        naive = (
+            ""
+            if f.naive_estimate is None
+            else f"<br>Choosing controls from the response equation alone would give {fmt(f.naive_estimate)}."
+        )
+        self.focal_text.setText(
+            f"<b>Effect of {f.column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, {f.covariance}); "
+            f"interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.<br>"
+            f"{len(f.controls)} controls: {', '.join(f.controls) or 'none'}.{naive}"
+        )
+
+    def export_current_path(self, path: Path | str) -> Path:
+        return export_plot(self.path_chart.plot, path)

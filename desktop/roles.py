@@ -1,0 +1,216 @@
+"""Column roles: what the user says each column is for, the checks that block a run, and the request.
+
+Plain Python (no Qt) so the rules are tested without a window. The desktop holds no statistics:
+these checks only catch choices the engine would refuse anyway, early and next to the column.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "Role",
+    "ROLE_HELP",
+    "RoleProblem",
+    "SETTING_FIELDS",
+    "default_roles",
+    "all_numeric_as_candidates",
+    "check_roles",
+    "build_spec",
+    "roles_from_spec",
+    "settings_from_spec",
+]
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from enum import StrEnum
+from typing import Any
+
+from engine.intake.table import Column, ColumnKind, Table
+from engine.study_spec import StudySpec
+
+
+class Role(StrEnum):
+    """What a column is for in the study. The value is the word shown on screen."""
+
+    IGNORE = "ignore"
+    CANDIDATE = "candidate"
+    RESPONSE = "response"
+    FOCAL = "focal"
+    GROUP = "group"
+    TIME_ORDER = "time order"
+
+
+ROLE_HELP: dict[Role, str] = {
+    Role.IGNORE: "Left out of the study.",
+    Role.CANDIDATE: "A column the methods may choose or leave out.",
+    Role.RESPONSE: "The column to explain and predict (exactly one).",
+    Role.FOCAL: "The column whose own effect you want, with controls chosen by double selection "
+    "(at most one).",
+    Role.GROUP: "Rows sharing a value here stay together in one validation part (at most one).",
+    Role.TIME_ORDER: "Dates or sequence numbers; validation trains on the past and checks on "
+    "the next block (at most one).",
+}
+
+_SINGLE = (Role.RESPONSE, Role.FOCAL, Role.GROUP, Role.TIME_ORDER)
+_NUMERIC_KINDS = (ColumnKind.NUMBER, ColumnKind.FLAG)
+
+
+@dataclass(frozen=True)
+class RoleProblem:
+    """A reason the run cannot start; ``column`` is None for a problem of the whole setup."""
+
+    message: str
+    column: str | None = None
+
+
+def default_roles(table: Table) -> dict[str, Role]:
+    """Numbers, flags, categories and dates start as candidates; identifiers and empties are ignored."""
+    roles: dict[str, Role] = {}
+    for c in table.columns:
+        usable = c.kind in (*_NUMERIC_KINDS, ColumnKind.CATEGORY, ColumnKind.DATE)
+        roles[c.name] = Role.CANDIDATE if usable and not c.constant else Role.IGNORE
+    return roles
+
+
+def all_numeric_as_candidates(table: Table, roles: Mapping[str, Role]) -> dict[str, Role]:
+    """Every numeric column that has no other role becomes a candidate; the rest keep their role."""
+    out = dict(roles)
+    for c in table.columns:
+        if (
+            c.is_numeric
+            and not c.constant
+            and out.get(c.name, Role.IGNORE) in (Role.IGNORE, Role.CANDIDATE)
+        ):
+            out[c.name] = Role.CANDIDATE
+    return out
+
+
+def _column_problem(c: Column, role: Role) -> str | None:
+    if role is Role.IGNORE:
+        return None
+    if c.kind is ColumnKind.EMPTY:
+        return "This column has no values; set it to ignore."
+    if role in (Role.RESPONSE, Role.FOCAL) and c.kind not in _NUMERIC_KINDS:
+        word = "response" if role is Role.RESPONSE else "focal column"
+        return f"The {word} must hold numbers, but this column holds {c.kind.value} values."
+    if role is Role.CANDIDATE and c.kind is ColumnKind.IDENTIFIER:
+        return "Almost every row has its own value here, so it cannot be a candidate; set it to ignore or group."
+    if role is Role.TIME_ORDER and c.kind not in (*_NUMERIC_KINDS, ColumnKind.DATE):
+        return f"A time order needs dates or numbers, but this column holds {c.kind.value} values."
+    if role in (Role.RESPONSE, Role.FOCAL) and c.constant:
+        return "This column has the same value in every row, so there is nothing to explain."
+    return None
+
+
+def check_roles(
+    table: Table,
+    roles: Mapping[str, Role],
+    scheme: str = "kfold",
+    methods: tuple[str, ...] = ("lasso",),
+) -> list[RoleProblem]:
+    """Every reason the run cannot start yet; empty when it can."""
+    problems: list[RoleProblem] = []
+    by_role: dict[Role, list[str]] = {r: [] for r in Role}
+    for c in table.columns:
+        role = roles.get(c.name, Role.IGNORE)
+        by_role[role].append(c.name)
+        msg = _column_problem(c, role)
+        if msg:
+            problems.append(RoleProblem(msg, c.name))
+    for role in _SINGLE:
+        names = by_role[role]
+        if len(names) > 1:
+            for n in names:
+                problems.append(RoleProblem(f"Only one column can have the role {role.value}.", n))
+    if not by_role[Role.RESPONSE]:
+        problems.append(RoleProblem("Choose the response: set one column's role to 'response'."))
+    if not by_role[Role.CANDIDATE] and not by_role[Role.FOCAL]:
+        problems.append(RoleProblem("Choose at least one candidate column."))
+    if scheme == "grouped" and not by_role[Role.GROUP]:
+        problems.append(
+            RoleProblem("Folds that keep groups together need one column with the role 'group'.")
+        )
+    if scheme == "time" and not by_role[Role.TIME_ORDER]:
+        problems.append(
+            RoleProblem("Time-ordered folds need one column with the role 'time order'.")
+        )
+    if not methods:
+        problems.append(RoleProblem("Tick at least one method under Run settings."))
+    return problems
+
+
+def build_spec(
+    table: Table,
+    roles: Mapping[str, Role],
+    settings: Mapping[str, Any],
+    header_row: int | None = None,
+) -> StudySpec:
+    """The frozen request for ``engine.study.run_study``. Call only when ``check_roles`` is empty.
+
+    ``settings`` holds StudySpec field names (methods, folds, scheme, choose, seed, missing ...).
+    The focal column is also passed as a candidate: double selection needs it in the design.
+    """
+
+    def one(role: Role) -> str | None:
+        names = [c.name for c in table.columns if roles.get(c.name) is role]
+        return names[0] if names else None
+
+    focal = one(Role.FOCAL)
+    candidates = [c.name for c in table.columns if roles.get(c.name) is Role.CANDIDATE]
+    if focal is not None and focal not in candidates:
+        candidates.append(focal)
+    return StudySpec(
+        source=str(table.source),
+        response=one(Role.RESPONSE) or "",
+        sheet=table.sheet if table.file_format != "csv" else None,
+        header_row=header_row if header_row is not None else table.header_row,
+        candidates=tuple(candidates),
+        focal=focal,
+        group=one(Role.GROUP),
+        time_order=one(Role.TIME_ORDER),
+        **dict(settings),
+    )
+
+
+def roles_from_spec(table: Table, spec: StudySpec) -> dict[str, Role]:
+    """The roles a saved request implies, so a results workbook shows its analysis again."""
+    roles = {c.name: Role.IGNORE for c in table.columns}
+    if spec.candidates is None:
+        roles.update(default_roles(table))
+    else:
+        for n in spec.candidates:
+            if n in roles:
+                roles[n] = Role.CANDIDATE
+    for n in spec.exclude:
+        if n in roles:
+            roles[n] = Role.IGNORE
+    for name, role in (
+        (spec.group, Role.GROUP),
+        (spec.time_order, Role.TIME_ORDER),
+        (spec.focal, Role.FOCAL),
+        (spec.response, Role.RESPONSE),
+    ):
+        if name and name in roles:
+            roles[name] = role
+    return roles
+
+
+SETTING_FIELDS = (
+    "methods",
+    "mix",
+    "folds",
+    "scheme",
+    "repeats",
+    "choose",
+    "seed",
+    "n_penalties",
+    "missing",
+    "date_parts",
+    "stability_runs",
+    "focal_penalty",
+)
+
+
+def settings_from_spec(spec: StudySpec) -> dict[str, Any]:
+    """The run settings part of a saved request, in the form the settings panel takes."""
+    d = spec.to_dict()
+    return {k: d[k] for k in SETTING_FIELDS}

@@ -1,0 +1,287 @@
+"""Run settings: methods, validation, choice rule, seed, missing values, stability, focal penalty.
+
+The method check boxes and their tooltips come from ``engine.methods.METHODS`` (declared once,
+rendered here). Defaults equal ``StudySpec``'s, so a run works without touching anything.
+"""
+
+from __future__ import annotations
+
+__all__ = ["SettingsPanel", "SCHEME_WORDS", "CHOICE_WORDS", "MISSING_WORDS"]
+
+from collections.abc import Mapping
+from typing import Any
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QCheckBox,
+    QComboBox,
+    QDoubleSpinBox,
+    QFormLayout,
+    QGridLayout,
+    QGroupBox,
+    QLabel,
+    QScrollArea,
+    QSpinBox,
+    QVBoxLayout,
+    QWidget,
+)
+
+from engine.methods import DEFAULT_METHODS, METHODS
+from engine.study_spec import StudySpec
+
+SCHEME_WORDS = {
+    "kfold": "Shuffled folds",
+    "repeated": "Shuffled folds, repeated",
+    "grouped": "Folds that keep groups together",
+    "time": "Time-ordered blocks",
+    "loo": "Leave one row out",
+}
+SCHEME_TIPS = {
+    "kfold": "Rows are shuffled (with the seed) and split into equal parts; each part is held out once.",
+    "repeated": "The shuffled split is done several times with different shuffles and the errors averaged; steadier, slower.",
+    "grouped": "Rows that share a value in the 'group' column are always held out together (stores, farms, patients).",
+    "time": "Rows are put in time order; each block is checked by a model fitted on the blocks before it.",
+    "loo": "Each row is held out on its own; only sensible for small sheets.",
+}
+CHOICE_WORDS = {"min": "Lowest validation error", "one-se": "Simplest within one standard error"}
+MISSING_WORDS = {
+    "drop": "Leave out rows with a missing value",
+    "fill": "Fill with the median and mark the gap",
+}
+FOCAL_WORDS = {"plugin": "Formula-based (plug-in)", "cv": "By validation"}
+
+_DEFAULT = StudySpec(source="", response="")
+
+
+class SettingsPanel(QScrollArea):
+    """A form whose ``values()`` are StudySpec field names; ``changed`` fires on every edit."""
+
+    changed = Signal()
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setWidgetResizable(True)
+        body = QWidget()
+        body.setObjectName("page")
+        self.setWidget(body)
+        outer = QVBoxLayout(body)
+
+        # methods, grouped by family, straight from the catalogue
+        box = QGroupBox("Methods")
+        box.setToolTip(
+            "Which ways of choosing columns to run and compare. Each has its own tooltip."
+        )
+        grid = QGridLayout(box)
+        self.method_boxes: dict[str, QCheckBox] = {}
+        families: list[str] = []
+        for m in METHODS:
+            if m.family not in families:
+                families.append(m.family)
+        for col, fam in enumerate(families):
+            head = QLabel(fam.capitalize())
+            head.setObjectName("caption")
+            grid.addWidget(head, 0, col)
+            row = 1
+            for m in METHODS:
+                if m.family != fam:
+                    continue
+                cb = QCheckBox(m.title)
+                cb.setToolTip(m.help)
+                cb.setChecked(m.name in DEFAULT_METHODS)
+                cb.toggled.connect(self._on_change)
+                grid.addWidget(cb, row, col)
+                self.method_boxes[m.name] = cb
+                row += 1
+        grid.setRowStretch(grid.rowCount(), 1)
+        outer.addWidget(box)
+
+        form_box = QGroupBox("Validation and choice")
+        form = QFormLayout(form_box)
+        form.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.FieldsStayAtSizeHint)
+
+        self.scheme = self._combo(SCHEME_WORDS, _DEFAULT.scheme, SCHEME_TIPS)
+        self._row(
+            form,
+            "Validation",
+            self.scheme,
+            "How rows are held out to measure prediction error on data the fit has not seen.",
+        )
+        self.folds = self._spin(2, 100, _DEFAULT.folds)
+        self._row(
+            form,
+            "Parts (folds)",
+            self.folds,
+            "Into how many parts the rows are split; each part is held out once. 5 or 10 is usual.",
+        )
+        self.repeats = self._spin(1, 50, _DEFAULT.repeats)
+        self._row(
+            form,
+            "Repeats",
+            self.repeats,
+            "How many different shuffles to average over (only for 'Shuffled folds, repeated').",
+        )
+        self.choose = self._combo(CHOICE_WORDS, _DEFAULT.choose)
+        self._row(
+            form,
+            "Choose the penalty by",
+            self.choose,
+            "Lowest validation error: the best-scoring point. Simplest within one standard error: "
+            "the fewest columns whose error is statistically as good; usually a smaller set.",
+        )
+        self.seed = self._spin(0, 2_147_483_647, _DEFAULT.seed)
+        self._row(
+            form,
+            "Seed",
+            self.seed,
+            "Starting number for the random shuffles. The same seed gives the same result every time.",
+        )
+        self.n_penalties = self._spin(10, 500, _DEFAULT.n_penalties)
+        self._row(
+            form,
+            "Points on each path",
+            self.n_penalties,
+            "How many penalty values from 'nothing chosen' to 'little shrinkage' are tried. More is finer and slower.",
+        )
+        self.mix = QDoubleSpinBox()
+        self.mix.setRange(0.0, 1.0)
+        self.mix.setSingleStep(0.05)
+        self.mix.setDecimals(2)
+        self.mix.setValue(_DEFAULT.mix)
+        self.mix.valueChanged.connect(self._on_change)
+        self._row(
+            form,
+            "Elastic-net blend",
+            self.mix,
+            "For the elastic net: 1 behaves like the lasso, 0 like ridge; 0.5 is halfway.",
+        )
+        outer.addWidget(form_box)
+
+        data_box = QGroupBox("Data handling")
+        form2 = QFormLayout(data_box)
+        form2.setFieldGrowthPolicy(QFormLayout.FieldGrowthPolicy.FieldsStayAtSizeHint)
+        self.missing = self._combo(MISSING_WORDS, _DEFAULT.missing)
+        self._row(
+            form2,
+            "Missing values",
+            self.missing,
+            "Leave out rows: any row with an empty candidate or response cell is not used. "
+            "Fill: a gap in a candidate gets the column's median and a new yes/no column says it was empty.",
+        )
+        self.date_parts = QCheckBox("Add month and weekday for date columns")
+        self.date_parts.setChecked(_DEFAULT.date_parts)
+        self.date_parts.toggled.connect(self._on_change)
+        self._row(
+            form2,
+            "Dates",
+            self.date_parts,
+            "Besides the trend over time, let each month and weekday have its own level.",
+        )
+        self.stability_runs = self._spin(0, 2000, _DEFAULT.stability_runs)
+        self.stability_runs.setSpecialValueText("off")
+        self._row(
+            form2,
+            "Stability half-samples",
+            self.stability_runs,
+            "Refit the lasso on this many random halves of the rows and report how often each column "
+            "is chosen. 100 is a good start; 'off' skips it.",
+        )
+        self.focal_penalty = self._combo(FOCAL_WORDS, _DEFAULT.focal_penalty)
+        self._row(
+            form2,
+            "Focal effect penalty",
+            self.focal_penalty,
+            "Only used when a column has the role 'focal'. Formula-based is the published default; "
+            "'by validation' picks the penalty like the other methods.",
+        )
+        outer.addWidget(data_box)
+        outer.addStretch(1)
+        self.scheme.currentIndexChanged.connect(self._sync_enabled)
+        self._sync_enabled()
+
+    # helpers ----------------------------------------------------------------------------
+    def _combo(
+        self, words: Mapping[str, str], default: str, tips: Mapping[str, str] | None = None
+    ) -> QComboBox:
+        box = QComboBox()
+        for key, text in words.items():
+            box.addItem(text, key)
+            if tips:
+                box.setItemData(box.count() - 1, tips[key], Qt.ItemDataRole.ToolTipRole)
+        box.setCurrentIndex(box.findData(default))
+        box.currentIndexChanged.connect(self._on_change)
+        return box
+
+    def _spin(self, lo: int, hi: int, default: int) -> QSpinBox:
+        s = QSpinBox()
+        s.setRange(lo, hi)
+        s.setValue(default)
+        s.valueChanged.connect(self._on_change)
+        return s
+
+    @staticmethod
+    def _row(form: QFormLayout, label: str, widget: QWidget, tip: str) -> None:
+        lab = QLabel(label)
+        lab.setToolTip(tip)
+        widget.setToolTip(tip)
+        form.addRow(lab, widget)
+
+    def _on_change(self, *_: object) -> None:
+        self._sync_enabled()
+        self.changed.emit()
+
+    def _sync_enabled(self) -> None:
+        scheme = self.scheme.currentData()
+        self.folds.setEnabled(scheme != "loo")
+        self.repeats.setEnabled(scheme == "repeated")
+        self.mix.setEnabled(self.method_boxes["elastic-net"].isChecked())
+
+    # values -----------------------------------------------------------------------------
+    def values(self) -> dict[str, Any]:
+        return {
+            "methods": tuple(n for n, cb in self.method_boxes.items() if cb.isChecked()),
+            "mix": float(self.mix.value()),
+            "folds": int(self.folds.value()),
+            "scheme": self.scheme.currentData(),
+            "repeats": int(self.repeats.value()),
+            "choose": self.choose.currentData(),
+            "seed": int(self.seed.value()),
+            "n_penalties": int(self.n_penalties.value()),
+            "missing": self.missing.currentData(),
+            "date_parts": bool(self.date_parts.isChecked()),
+            "stability_runs": int(self.stability_runs.value()),
+            "focal_penalty": self.focal_penalty.currentData(),
+        }
+
+    def set_values(self, values: Mapping[str, Any]) -> None:
+        """Apply remembered or saved settings; unknown keys and bad values are skipped."""
+        self.blockSignals(True)
+        try:
+            if "methods" in values:
+                chosen = set(values["methods"] or ())
+                for n, cb in self.method_boxes.items():
+                    cb.setChecked(n in chosen)
+            for key, box in (
+                ("scheme", self.scheme),
+                ("choose", self.choose),
+                ("missing", self.missing),
+                ("focal_penalty", self.focal_penalty),
+            ):
+                if key in values and box.findData(values[key]) >= 0:
+                    box.setCurrentIndex(box.findData(values[key]))
+            for key, spin in (
+                ("folds", self.folds),
+                ("repeats", self.repeats),
+                ("seed", self.seed),
+                ("n_penalties", self.n_penalties),
+                ("stability_runs", self.stability_runs),
+            ):
+                if isinstance(values.get(key), int | float):
+                    spin.setValue(int(values[key]))
+            if isinstance(values.get("mix"), int | float):
+                self.mix.setValue(float(values["mix"]))
+            if "date_parts" in values:
+                self.date_parts.setChecked(bool(values["date_parts"]))
+        finally:
+            self.blockSignals(False)
+        self._sync_enabled()
+        self.changed.emit()

@@ -1,0 +1,258 @@
+"""Qt item models over intake's Table: the sheet preview and the column ledger.
+
+Both are ``QAbstractTableModel`` subclasses that format cells only when the view asks for
+them, so a 100,000-row sheet scrolls as smoothly as a ten-row one (no widget per cell).
+"""
+
+from __future__ import annotations
+
+__all__ = ["SheetPreviewModel", "ColumnLedgerModel", "LEDGER_HEADINGS", "format_value"]
+
+import math
+from collections.abc import Mapping
+
+import numpy as np
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt, Signal
+from PySide6.QtGui import QBrush, QColor
+
+from desktop.roles import ROLE_HELP, Role
+from desktop.theme import MUTED, PROBLEM, PROBLEM_SOFT
+from engine.intake.table import Column, ColumnKind, Table
+
+_Index = QModelIndex | QPersistentModelIndex
+_DISPLAY = Qt.ItemDataRole.DisplayRole
+
+
+def format_value(col: Column, i: int) -> str:
+    """One cell as short text; '' for a missing value."""
+    v = col.values[i]
+    if col.kind is ColumnKind.DATE:
+        return "" if np.isnat(v) else str(np.datetime_as_string(v, unit="D"))
+    if col.kind in (ColumnKind.NUMBER, ColumnKind.FLAG) or isinstance(v, float | np.floating):
+        f = float(v)
+        if math.isnan(f):
+            return ""
+        if col.kind is ColumnKind.FLAG:
+            return "yes" if f else "no"
+        return f"{f:.6g}"
+    return "" if v is None else str(v)
+
+
+class SheetPreviewModel(QAbstractTableModel):
+    """Read-only view of the table's values; row headings are the sheet's own row numbers."""
+
+    def __init__(self, table: Table | None = None) -> None:
+        super().__init__()
+        self._table = table
+
+    def set_table(self, table: Table | None) -> None:
+        self.beginResetModel()
+        self._table = table
+        self.endResetModel()
+
+    def rowCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008 - Qt signature
+        return 0 if self._table is None or parent.isValid() else self._table.n_rows
+
+    def columnCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if self._table is None or parent.isValid() else len(self._table.columns)
+
+    def data(self, index: _Index, role: int = _DISPLAY):
+        if self._table is None or not index.isValid():
+            return None
+        col = self._table.columns[index.column()]
+        if role == _DISPLAY:
+            return format_value(col, index.row())
+        if role == Qt.ItemDataRole.TextAlignmentRole:
+            if col.kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
+                return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+    def headerData(self, section: int, orientation: Qt.Orientation, role: int = _DISPLAY):
+        if self._table is None:
+            return None
+        if orientation == Qt.Orientation.Horizontal:
+            col = self._table.columns[section]
+            if role == _DISPLAY:
+                return f"{col.name}\n{col.letter} · {col.kind.value}"
+            if role == Qt.ItemDataRole.ToolTipRole:
+                return _column_tooltip(col)
+        elif role == _DISPLAY:
+            return str(int(self._table.row_numbers[section]))
+        return None
+
+
+def _column_tooltip(col: Column) -> str:
+    lines = [f"{col.name} (column {col.letter}), {col.kind.value}"]
+    if col.heading and col.heading != col.name:
+        lines.append(f"Heading as written: '{col.heading}'")
+    lines.append(f"{col.missing} missing, {col.distinct} distinct values")
+    if col.minimum is not None:
+        lines.append(f"From {col.minimum} to {col.maximum}")
+    lines.extend(col.notes)
+    return "\n".join(lines)
+
+
+LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "Check")
+COL_NAME, COL_LETTER, COL_KIND, COL_MISSING, COL_ROLE, COL_CHECK = range(6)
+
+
+class ColumnLedgerModel(QAbstractTableModel):
+    """One row per column: name, letter, kind, missing count, role (editable), check.
+
+    The Check cell shows the blocking problem for that column in the problem colour, or the
+    intake notes (numbers stored as text, near duplicates ...) in a muted colour.
+    ``roles_changed`` fires after any role edit, with the full mapping.
+    """
+
+    roles_changed = Signal(dict)
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._table: Table | None = None
+        self._roles: dict[str, Role] = {}
+        self._problems: dict[str, str] = {}
+        self._highlight: str | None = None
+
+    # state ------------------------------------------------------------------------------
+    @property
+    def table(self) -> Table | None:
+        return self._table
+
+    def roles(self) -> dict[str, Role]:
+        return dict(self._roles)
+
+    def set_table(self, table: Table | None, roles: Mapping[str, Role] | None = None) -> None:
+        self.beginResetModel()
+        self._table = table
+        names = [c.name for c in table.columns] if table is not None else []
+        given = roles or {}
+        self._roles = {n: given.get(n, Role.IGNORE) for n in names}
+        self._problems = {}
+        self.endResetModel()
+
+    def set_roles(self, changes: Mapping[str, Role]) -> None:
+        """Change some roles (unknown names are ignored) and announce the new mapping once."""
+        changed = False
+        for name, role in changes.items():
+            if name in self._roles and self._roles[name] is not role:
+                self._roles[name] = Role(role)
+                changed = True
+        if changed:
+            self._emit_all(COL_ROLE)
+            self.roles_changed.emit(self.roles())
+
+    def set_problems(self, problems: Mapping[str, str]) -> None:
+        self._problems = dict(problems)
+        self._emit_all(COL_CHECK)
+
+    def problem(self, name: str) -> str | None:
+        return self._problems.get(name)
+
+    def name_at(self, row: int) -> str:
+        assert self._table is not None
+        return self._table.columns[row].name
+
+    def row_of(self, name: str) -> int:
+        assert self._table is not None
+        for i, c in enumerate(self._table.columns):
+            if c.name == name:
+                return i
+        return -1
+
+    def _emit_all(self, column: int) -> None:
+        if self._table is not None and self._table.columns:
+            last = len(self._table.columns) - 1
+            self.dataChanged.emit(self.index(0, column), self.index(last, column))
+
+    # Qt model ---------------------------------------------------------------------------
+    def rowCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if self._table is None or parent.isValid() else len(self._table.columns)
+
+    def columnCount(self, parent: _Index = QModelIndex()) -> int:  # noqa: B008
+        return 0 if parent.isValid() else len(LEDGER_HEADINGS)
+
+    def headerData(self, section: int, orientation: Qt.Orientation, role: int = _DISPLAY):
+        if orientation == Qt.Orientation.Horizontal:
+            if role == _DISPLAY:
+                return LEDGER_HEADINGS[section]
+            if role == Qt.ItemDataRole.ToolTipRole:
+                return _HEADING_TIPS[section]
+        return None
+
+    def flags(self, index: _Index) -> Qt.ItemFlag:
+        f = super().flags(index)
+        if index.isValid() and index.column() == COL_ROLE:
+            f |= Qt.ItemFlag.ItemIsEditable
+        return f
+
+    def data(self, index: _Index, role: int = _DISPLAY):
+        if self._table is None or not index.isValid():
+            return None
+        col = self._table.columns[index.row()]
+        c = index.column()
+        if role in (_DISPLAY, Qt.ItemDataRole.EditRole):
+            if c == COL_NAME:
+                return col.name
+            if c == COL_LETTER:
+                return col.letter
+            if c == COL_KIND:
+                return col.kind.value + (" (constant)" if col.constant else "")
+            if c == COL_MISSING:
+                return (
+                    col.missing
+                    if role == Qt.ItemDataRole.EditRole
+                    else (str(col.missing) if col.missing else "")
+                )
+            if c == COL_ROLE:
+                return self._roles[col.name].value
+            if c == COL_CHECK:
+                return self._problems.get(col.name) or "; ".join(col.notes)
+        if role == Qt.ItemDataRole.ToolTipRole:
+            if c == COL_ROLE:
+                return (
+                    ROLE_HELP[self._roles[col.name]]
+                    + "\nDouble-click to change; applies to every selected row."
+                )
+            if c == COL_CHECK and (self._problems.get(col.name) or col.notes):
+                return "\n".join([p for p in [self._problems.get(col.name)] if p] + list(col.notes))
+            return _column_tooltip(col)
+        if role == Qt.ItemDataRole.ForegroundRole:
+            if c == COL_CHECK:
+                return QBrush(QColor(PROBLEM if col.name in self._problems else MUTED))
+            if self._roles[col.name] is Role.IGNORE and c != COL_ROLE:
+                return QBrush(QColor(MUTED))
+        if role == Qt.ItemDataRole.BackgroundRole and col.name in self._problems:
+            return QBrush(QColor(PROBLEM_SOFT))
+        if (
+            role == Qt.ItemDataRole.FontRole
+            and c == COL_ROLE
+            and self._roles[col.name] in (Role.RESPONSE, Role.FOCAL)
+        ):
+            from PySide6.QtGui import QFont
+
+            f = QFont()
+            f.setBold(True)
+            return f
+        if role == Qt.ItemDataRole.TextAlignmentRole and c == COL_MISSING:
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+    def setData(self, index: _Index, value, role: int = Qt.ItemDataRole.EditRole) -> bool:
+        if self._table is None or not index.isValid() or index.column() != COL_ROLE:
+            return False
+        try:
+            new = Role(value)
+        except ValueError:
+            return False
+        self.set_roles({self._table.columns[index.row()].name: new})
+        return True
+
+
+_HEADING_TIPS = (
+    "The column's name as read from the header row.",
+    "Where the column sits in the sheet.",
+    "What the column holds, as Tamis read it: number, flag (yes/no), category, date, identifier or empty.",
+    "Cells that are empty, hold an error value or text that is not a number.",
+    "What the column is for in this study. Select several rows to set them together.",
+    "Problems that stop the run (highlighted) and notes from reading the sheet.",
+)

@@ -26,8 +26,11 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports usage problems as exit 2 through our boundary instead of exiting."""
 
     def error(self, message: str):  # type: ignore[override]
-        raise _UsageError(f"{message} (see 'tamis {self.prog.split()[-1]} --help')"
-                          if " " in self.prog else message)
+        raise _UsageError(
+            f"{message} (see 'tamis {self.prog.split()[-1]} --help')"
+            if " " in self.prog
+            else message
+        )
 
 
 class _UsageError(Exception):
@@ -35,60 +38,138 @@ class _UsageError(Exception):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    p = _Parser(prog="tamis", description="Choose the columns that matter in a workbook and write "
-                "the results back as sheets with charts and live scoring formulas.")
+    p = _Parser(
+        prog="tamis",
+        description="Choose the columns that matter in a workbook and write "
+        "the results back as sheets with charts and live scoring formulas.",
+    )
     p.add_argument("--version", action="version", version=f"tamis {__version__}")
-    p.add_argument("--traceback", action="store_true", help="print the full traceback of an unexpected failure")
+    p.add_argument(
+        "--traceback", action="store_true", help="print the full traceback of an unexpected failure"
+    )
     sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
     s = sub.add_parser("inspect", help="list the sheets and describe every column of one sheet")
     s.add_argument("book", help="workbook or CSV file")
     s.add_argument("--sheet", help="sheet name (default: the first visible sheet)")
-    s.add_argument("--header-row", type=int, help="1-based row holding the column headings (default: detected)")
+    s.add_argument(
+        "--header-row", type=int, help="1-based row holding the column headings (default: detected)"
+    )
     s.add_argument("--json", action="store_true", help="print one JSON document instead of a table")
 
-    f = sub.add_parser("fit", help="fit and cross-validate the chosen methods and write the result sheets")
+    f = sub.add_parser(
+        "fit", help="fit and cross-validate the chosen methods and write the result sheets"
+    )
     f.add_argument("book", help="workbook or CSV file")
     f.add_argument("--response", required=True, help="the column to predict")
     f.add_argument("--sheet", help="sheet name (default: the first visible sheet)")
-    f.add_argument("--header-row", type=int, help="1-based row holding the column headings (default: detected)")
-    f.add_argument("--candidates", nargs="+", metavar="COLUMN", help="candidate columns (default: every usable column)")
-    f.add_argument("--exclude", nargs="+", metavar="COLUMN", default=[], help="columns to leave out")
-    f.add_argument("--methods", help="comma-separated methods (default: %(default)s)",
-                   default="lasso,ridge,elastic-net,post-lasso,forward-stepwise")
-    f.add_argument("--folds", type=int, default=10, help="cross-validation folds (default: %(default)s)")
-    f.add_argument("--scheme", default="kfold", choices=["kfold", "repeated", "grouped", "time", "loo"],
-                   help="how rows are split for validation (default: %(default)s)")
+    f.add_argument(
+        "--header-row", type=int, help="1-based row holding the column headings (default: detected)"
+    )
+    f.add_argument(
+        "--candidates",
+        nargs="+",
+        metavar="COLUMN",
+        help="candidate columns (default: every usable column)",
+    )
+    f.add_argument(
+        "--exclude", nargs="+", metavar="COLUMN", default=[], help="columns to leave out"
+    )
+    f.add_argument(
+        "--methods",
+        help="comma-separated methods (default: %(default)s)",
+        default="lasso,ridge,elastic-net,post-lasso,forward-stepwise",
+    )
+    f.add_argument(
+        "--folds", type=int, default=10, help="cross-validation folds (default: %(default)s)"
+    )
+    f.add_argument(
+        "--scheme",
+        default="kfold",
+        choices=["kfold", "repeated", "grouped", "time", "loo"],
+        help="how rows are split for validation (default: %(default)s)",
+    )
     f.add_argument("--repeats", type=int, default=1, help="repetitions for --scheme repeated")
-    f.add_argument("--group", metavar="COLUMN", help="rows sharing this column's value stay in one fold")
-    f.add_argument("--time-order", metavar="COLUMN", help="column giving the time order for --scheme time")
-    f.add_argument("--choose", default="min", choices=["min", "one-se"],
-                   help="pick the penalty with the smallest error, or the simplest within one standard error")
-    f.add_argument("--seed", type=int, default=0, help="seed for the random fold split (default: %(default)s)")
-    f.add_argument("--penalties", type=int, default=100, help="penalty values on each path (default: %(default)s)")
-    f.add_argument("--mix", type=float, default=0.5, help="elastic-net blend, 1 = lasso, 0 = ridge (default: %(default)s)")
-    f.add_argument("--missing", default="drop", choices=["drop", "fill"],
-                   help="rows with a missing candidate: drop them, or fill with the median and add a missing indicator")
-    f.add_argument("--focal", metavar="COLUMN", help="estimate this column's effect by double selection of controls")
-    f.add_argument("--focal-penalty", default="plugin", choices=["plugin", "cv"],
-                   help="penalty for double selection: the plug-in rule or cross-validation")
-    f.add_argument("--stability", type=int, default=0, metavar="RUNS",
-                   help="half-samples for stability of selection (0 skips; 100 is usual)")
-    f.add_argument("--date-parts", action="store_true", help="add month and weekday categories for date columns")
+    f.add_argument(
+        "--group", metavar="COLUMN", help="rows sharing this column's value stay in one fold"
+    )
+    f.add_argument(
+        "--time-order", metavar="COLUMN", help="column giving the time order for --scheme time"
+    )
+    f.add_argument(
+        "--choose",
+        default="min",
+        choices=["min", "one-se"],
+        help="pick the penalty with the smallest error, or the simplest within one standard error",
+    )
+    f.add_argument(
+        "--seed", type=int, default=0, help="seed for the random fold split (default: %(default)s)"
+    )
+    f.add_argument(
+        "--penalties",
+        type=int,
+        default=100,
+        help="penalty values on each path (default: %(default)s)",
+    )
+    f.add_argument(
+        "--mix",
+        type=float,
+        default=0.5,
+        help="elastic-net blend, 1 = lasso, 0 = ridge (default: %(default)s)",
+    )
+    f.add_argument(
+        "--missing",
+        default="drop",
+        choices=["drop", "fill"],
+        help="rows with a missing candidate: drop them, or fill with the median and add a missing indicator",
+    )
+    f.add_argument(
+        "--focal",
+        metavar="COLUMN",
+        help="estimate this column's effect by double selection of controls",
+    )
+    f.add_argument(
+        "--focal-penalty",
+        default="plugin",
+        choices=["plugin", "cv"],
+        help="penalty for double selection: the plug-in rule or cross-validation",
+    )
+    f.add_argument(
+        "--stability",
+        type=int,
+        default=0,
+        metavar="RUNS",
+        help="half-samples for stability of selection (0 skips; 100 is usual)",
+    )
+    f.add_argument(
+        "--date-parts",
+        action="store_true",
+        help="add month and weekday categories for date columns",
+    )
     f.add_argument("--workers", type=int, help="parallel workers (default: the machine's cores)")
     where = f.add_mutually_exclusive_group()
-    where.add_argument("--out", metavar="PATH", help="write a new workbook with the input's sheets plus ours")
-    where.add_argument("--in-place", action="store_true", help="add our sheets to the input .xlsx/.xlsm itself")
+    where.add_argument(
+        "--out", metavar="PATH", help="write a new workbook with the input's sheets plus ours"
+    )
+    where.add_argument(
+        "--in-place", action="store_true", help="add our sheets to the input .xlsx/.xlsm itself"
+    )
     f.add_argument("--json", action="store_true", help="print one JSON document with the result")
 
     sc = sub.add_parser("score", help="predict new rows with a model stored in a results workbook")
     sc.add_argument("book", help="workbook or CSV file with new rows")
     sc.add_argument("--results", required=True, help="a workbook written by 'tamis fit'")
     sc.add_argument("--sheet", help="sheet of BOOK holding the new rows")
-    sc.add_argument("--out", metavar="PATH", help="where to write the predictions (default: BOOK-scored.xlsx)")
+    sc.add_argument(
+        "--out", metavar="PATH", help="where to write the predictions (default: BOOK-scored.xlsx)"
+    )
 
     d = sub.add_parser("demo", help="write the demo workbook and run the default analysis on it")
-    d.add_argument("--out", metavar="PATH", help="where to write the demo workbook (default: ./tamis-demo.xlsx)")
+    d.add_argument(
+        "--out",
+        metavar="PATH",
+        help="where to write the demo workbook (default: ./tamis-demo.xlsx)",
+    )
     d.add_argument("--json", action="store_true", help="print one JSON document with the result")
 
     w = sub.add_parser("desktop", help="open the desktop window")
@@ -124,8 +205,10 @@ def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
         if args.traceback:
             print(text, file=ctx.stderr)
         log = _write_log(ctx, text)
-        print(f"tamis: unexpected failure (a bug in Tamis; nothing was written). Details: {log}",
-              file=ctx.stderr)
+        print(
+            f"tamis: unexpected failure (a bug in Tamis; nothing was written). Details: {log}",
+            file=ctx.stderr,
+        )
         return 1
 
 
@@ -133,7 +216,9 @@ def _write_log(ctx: Context, text: str) -> str:
     try:
         ctx.config_dir.mkdir(parents=True, exist_ok=True)
         with open(ctx.log_file, "a", encoding="utf-8") as fh:
-            fh.write(f"--- {_dt.datetime.now().isoformat(timespec='seconds')} tamis {__version__}\n{text}\n")
+            fh.write(
+                f"--- {_dt.datetime.now().isoformat(timespec='seconds')} tamis {__version__}\n{text}\n"
+            )
         return str(ctx.log_file)
     except OSError:
         return "(the log file could not be written; run again with --traceback)"

@@ -72,7 +72,9 @@ class Design:
     order: np.ndarray | None = None  # (n,) float time order for blocked folds
     focal_index: int | None = None  # index into names of the focal column
     dropped_columns: dict[str, str] = field(default_factory=dict)  # column -> why it was left out
-    category_levels: dict[str, list[str]] = field(default_factory=dict)  # source -> all levels, reference first
+    category_levels: dict[str, list[str]] = field(
+        default_factory=dict
+    )  # source -> all levels, reference first
     warnings: list[str] = field(default_factory=list)
 
     @property
@@ -109,7 +111,11 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     for c in (group_col, order_col):
         if c is not None:
             roles_taken.add(c.name)
-    if order_col is not None and order_col.kind not in (ColumnKind.NUMBER, ColumnKind.DATE, ColumnKind.FLAG):
+    if order_col is not None and order_col.kind not in (
+        ColumnKind.NUMBER,
+        ColumnKind.DATE,
+        ColumnKind.FLAG,
+    ):
         raise InputProblem(
             f"the time-order column '{order_col.name}' in {where} holds {order_col.kind.value} values; "
             "choose a date or numeric column",
@@ -154,7 +160,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     if not usable:
         raise InputProblem(
             f"no usable candidate column in {where}: "
-            + ("; ".join(f"'{k}' {v}" for k, v in list(dropped_columns.items())[:5]) or "only the response is there")
+            + (
+                "; ".join(f"'{k}' {v}" for k, v in list(dropped_columns.items())[:5])
+                or "only the response is there"
+            )
             + "; mark numeric, category, date or yes/no columns as candidates",
             place(),
         )
@@ -174,7 +183,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     drop(~np.isfinite(y_all), f"response '{response.name}' missing")
     for c in (group_col, order_col):
         if c is not None:
-            drop(_missing_mask(c), f"{'group' if c is group_col else 'time order'} '{c.name}' missing")
+            drop(
+                _missing_mask(c),
+                f"{'group' if c is group_col else 'time order'} '{c.name}' missing",
+            )
     if spec.missing == "drop":
         for c in usable:
             drop(_missing_mask(c), f"missing in candidate '{c.name}'")
@@ -222,8 +234,12 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             category_levels[c.name] = present
             for lv in present[1:]:
                 label = lv if lv != "" else "(blank)"
-                add(Encoding(f"{c.name}={label}", c.name, c.letter, "level", level=lv, reference=ref),
-                    (labels == lv).astype(float))
+                add(
+                    Encoding(
+                        f"{c.name}={label}", c.name, c.letter, "level", level=lv, reference=ref
+                    ),
+                    (labels == lv).astype(float),
+                )
         elif c.kind == ColumnKind.DATE:
             d = np.asarray(c.values, dtype="datetime64[ns]")[keep]
             ok = ~np.isnat(d)
@@ -236,19 +252,38 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             if fill_policy:
                 fill = float(np.nanmedian(days))
                 days = np.where(ok, days, fill)
-            add(Encoding(f"{c.name}:trend", c.name, c.letter, "trend", fill=fill, origin=str(origin)), days)
+            add(
+                Encoding(
+                    f"{c.name}:trend", c.name, c.letter, "trend", fill=fill, origin=str(origin)
+                ),
+                days,
+            )
             if spec.date_parts:
                 dd = d[ok]
                 months = (dd.astype("datetime64[M]").astype(int) % 12) + 1
                 monthly = np.full(d.shape, 0, dtype=int)
                 monthly[ok] = months
                 weekday = np.full(d.shape, 0, dtype=int)
-                weekday[ok] = ((d[ok].astype("datetime64[D]").astype(int) + 3) % 7) + 1  # 1970-01-01 was a Thursday
-                for part, vals, kind in (("month", monthly, "month"), ("weekday", weekday, "weekday")):
+                weekday[ok] = (
+                    (d[ok].astype("datetime64[D]").astype(int) + 3) % 7
+                ) + 1  # 1970-01-01 was a Thursday
+                for part, vals, kind in (
+                    ("month", monthly, "month"),
+                    ("weekday", weekday, "weekday"),
+                ):
                     seen = sorted(set(vals[ok].tolist()))
                     for lv in seen[1:]:
-                        add(Encoding(f"{c.name}:{part}={lv}", c.name, c.letter, kind, level=str(lv), reference=str(seen[0])),
-                            (vals == lv).astype(float))
+                        add(
+                            Encoding(
+                                f"{c.name}:{part}={lv}",
+                                c.name,
+                                c.letter,
+                                kind,
+                                level=str(lv),
+                                reference=str(seen[0]),
+                            ),
+                            (vals == lv).astype(float),
+                        )
         if fill_policy:
             add(Encoding(f"{c.name}:missing", c.name, c.letter, "missing"), miss.astype(float))
 
@@ -286,11 +321,17 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     groups = None
     if group_col is not None:
-        groups = np.array([str(v) for v in np.asarray(group_col.values, dtype=object)[keep]], dtype=object)
+        groups = np.array(
+            [str(v) for v in np.asarray(group_col.values, dtype=object)[keep]], dtype=object
+        )
     order = None
     if order_col is not None:
         ov = order_col.values[keep]
-        order = ov.astype("datetime64[ns]").astype("int64").astype(float) if order_col.kind == ColumnKind.DATE else ov.astype(float)
+        order = (
+            ov.astype("datetime64[ns]").astype("int64").astype(float)
+            if order_col.kind == ColumnKind.DATE
+            else ov.astype(float)
+        )
 
     focal_index = names.index(spec.focal) if spec.focal and spec.focal in names else None
     if spec.focal and focal_index is None:
@@ -299,12 +340,25 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             place(spec.focal),
         )
     return Design(
-        source=str(table.source), sheet=table.sheet, header_row=table.header_row,
-        response=response.name, names=names, encodings=encodings, X=X, y=y,
-        row_numbers=np.asarray(table.row_numbers)[keep], means=means, sds=sds,
-        rows_dropped=n_all - n, drop_reasons=drop_reasons, groups=groups, order=order,
-        focal_index=focal_index, dropped_columns=dropped_columns,
-        category_levels=category_levels, warnings=warnings,
+        source=str(table.source),
+        sheet=table.sheet,
+        header_row=table.header_row,
+        response=response.name,
+        names=names,
+        encodings=encodings,
+        X=X,
+        y=y,
+        row_numbers=np.asarray(table.row_numbers)[keep],
+        means=means,
+        sds=sds,
+        rows_dropped=n_all - n,
+        drop_reasons=drop_reasons,
+        groups=groups,
+        order=order,
+        focal_index=focal_index,
+        dropped_columns=dropped_columns,
+        category_levels=category_levels,
+        warnings=warnings,
     )
 
 
@@ -314,14 +368,18 @@ def _missing_mask(c: Column) -> np.ndarray:
         return ~np.isfinite(v)
     if v.dtype.kind == "M":
         return np.isnat(v)
-    return np.array([x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool)
+    return np.array(
+        [x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool
+    )
 
 
 def _reasons_text(reasons: dict[str, int]) -> str:
     return "; ".join(f"{k}: {v} rows" for k, v in reasons.items()) or "none"
 
 
-def _duplicate_warnings(X: np.ndarray, names: list[str], means: np.ndarray, sds: np.ndarray) -> list[str]:
+def _duplicate_warnings(
+    X: np.ndarray, names: list[str], means: np.ndarray, sds: np.ndarray
+) -> list[str]:
     """Name pairs of model columns that are exact copies (or exact negatives) of each other."""
     if X.shape[1] < 2:
         return []
@@ -335,8 +393,10 @@ def _duplicate_warnings(X: np.ndarray, names: list[str], means: np.ndarray, sds:
             if key in seen:
                 k = seen[key]
                 rel = "an exact copy" if sign == 1 else "an exact mirror (negative multiple)"
-                out.append(f"column '{names[j]}' is {rel} of '{names[k]}' on the rows used; "
-                           "their effects cannot be told apart")
+                out.append(
+                    f"column '{names[j]}' is {rel} of '{names[k]}' on the rows used; "
+                    "their effects cannot be told apart"
+                )
                 break
         else:
             seen[col.tobytes()] = j

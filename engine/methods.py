@@ -20,31 +20,69 @@ class MethodInfo:
 
 
 METHODS: tuple[MethodInfo, ...] = (
-    MethodInfo("ols", "Least squares", "least squares",
-               "Ordinary least squares on every candidate; only possible when rows outnumber columns."),
-    MethodInfo("ridge", "Ridge", "shrinkage",
-               "Shrinks all coefficients towards zero by a squared penalty; keeps every column.",
-               has_penalty_path=True),
-    MethodInfo("lasso", "Lasso", "shrinkage",
-               "Shrinks coefficients by an absolute-value penalty and sets many exactly to zero.",
-               has_penalty_path=True),
-    MethodInfo("elastic-net", "Elastic net", "shrinkage",
-               "A blend of lasso and ridge penalties; keeps groups of correlated columns together.",
-               has_penalty_path=True),
-    MethodInfo("adaptive-lasso", "Adaptive lasso", "shrinkage",
-               "Lasso with weights from a first ridge or least-squares fit, so strong columns are penalized less (Zou 2006).",
-               has_penalty_path=True),
-    MethodInfo("post-lasso", "Least squares after lasso", "after selection",
-               "Refits least squares on the columns the lasso kept, removing the shrinkage bias (Belloni & Chernozhukov 2013)."),
-    MethodInfo("best-subset", "Best subset", "subset",
-               "For each size, the set of columns with the smallest residual sum of squares, found exactly by branch and bound.",
-               has_sizes=True),
-    MethodInfo("forward-stepwise", "Forward stepwise", "subset",
-               "Adds one column at a time, always the one that lowers the residual sum of squares most.",
-               has_sizes=True),
+    MethodInfo(
+        "ols",
+        "Least squares",
+        "least squares",
+        "Ordinary least squares on every candidate; only possible when rows outnumber columns.",
+    ),
+    MethodInfo(
+        "ridge",
+        "Ridge",
+        "shrinkage",
+        "Shrinks all coefficients towards zero by a squared penalty; keeps every column.",
+        has_penalty_path=True,
+    ),
+    MethodInfo(
+        "lasso",
+        "Lasso",
+        "shrinkage",
+        "Shrinks coefficients by an absolute-value penalty and sets many exactly to zero.",
+        has_penalty_path=True,
+    ),
+    MethodInfo(
+        "elastic-net",
+        "Elastic net",
+        "shrinkage",
+        "A blend of lasso and ridge penalties; keeps groups of correlated columns together.",
+        has_penalty_path=True,
+    ),
+    MethodInfo(
+        "adaptive-lasso",
+        "Adaptive lasso",
+        "shrinkage",
+        "Lasso with weights from a first ridge or least-squares fit, so strong columns are penalized less (Zou 2006).",
+        has_penalty_path=True,
+    ),
+    MethodInfo(
+        "post-lasso",
+        "Least squares after lasso",
+        "after selection",
+        "Refits least squares on the columns the lasso kept, removing the shrinkage bias (Belloni & Chernozhukov 2013).",
+    ),
+    MethodInfo(
+        "best-subset",
+        "Best subset",
+        "subset",
+        "For each size, the set of columns with the smallest residual sum of squares, found exactly by branch and bound.",
+        has_sizes=True,
+    ),
+    MethodInfo(
+        "forward-stepwise",
+        "Forward stepwise",
+        "subset",
+        "Adds one column at a time, always the one that lowers the residual sum of squares most.",
+        has_sizes=True,
+    ),
 )
 
-DEFAULT_METHODS: tuple[str, ...] = ("lasso", "ridge", "elastic-net", "post-lasso", "forward-stepwise")
+DEFAULT_METHODS: tuple[str, ...] = (
+    "lasso",
+    "ridge",
+    "elastic-net",
+    "post-lasso",
+    "forward-stepwise",
+)
 
 
 def method_info(name: str) -> MethodInfo:

@@ -27,8 +27,16 @@ from engine.study_result import Criteria, ModelResult, StudyResult
 from engine.study_spec import StudySpec
 
 # relative cost of each method, to move one progress bar evenly
-_COST = {"ols": 1, "ridge": 2, "lasso": 6, "elastic-net": 6, "adaptive-lasso": 8,
-         "post-lasso": 4, "best-subset": 10, "forward-stepwise": 5}
+_COST = {
+    "ols": 1,
+    "ridge": 2,
+    "lasso": 6,
+    "elastic-net": 6,
+    "adaptive-lasso": 8,
+    "post-lasso": 4,
+    "best-subset": 10,
+    "forward-stepwise": 5,
+}
 
 
 def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
@@ -37,7 +45,9 @@ def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
     return read_table(spec.source, sheet=spec.sheet, header_row=spec.header_row, progress=progress)
 
 
-def run_study(spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None) -> StudyResult:
+def run_study(
+    spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None
+) -> StudyResult:
     """Run every method of ``spec`` and return the result (nothing is written to disk)."""
     progress = progress or silent()
     started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
@@ -90,8 +100,14 @@ def run_study(spec: StudySpec, progress: Progress | None = None, *, table: Table
             notes.append(str(w.message))
     progress.step(1.0, "done")
     return StudyResult(
-        spec=spec, design=design, models=models, focal=focal, stability=stability,
-        warnings=_unique(notes), tool_version=__version__, started=started,
+        spec=spec,
+        design=design,
+        models=models,
+        focal=focal,
+        stability=stability,
+        warnings=_unique(notes),
+        tool_version=__version__,
+        started=started,
         seconds=time.perf_counter() - t0,
     )
 
@@ -113,12 +129,21 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
             place,
         )
     try:
-        return make_folds(n, spec.scheme, folds=spec.folds, seed=spec.seed, repeats=spec.repeats,
-                          groups=design.groups, order=design.order)
+        return make_folds(
+            n,
+            spec.scheme,
+            folds=spec.folds,
+            seed=spec.seed,
+            repeats=spec.repeats,
+            groups=design.groups,
+            order=design.order,
+        )
     except InputProblem as exc:
         col = spec.group if spec.scheme == "grouped" else spec.time_order
-        raise InputProblem(f"{exc.message} (column '{col}' in sheet '{design.sheet}')",
-                           Place(file=design.source, sheet=design.sheet, column=col)) from None
+        raise InputProblem(
+            f"{exc.message} (column '{col}' in sheet '{design.sheet}')",
+            Place(file=design.source, sheet=design.sheet, column=col),
+        ) from None
 
 
 class _MethodRunner:
@@ -145,10 +170,14 @@ class _MethodRunner:
         tss = float(np.sum((d.y - d.y.mean()) ** 2))
         selected = [nm for nm, b in zip(d.names, coef) if b != 0.0]
         return ModelResult(
-            method=method, intercept=float(intercept),
+            method=method,
+            intercept=float(intercept),
             coefficients={nm: float(b) for nm, b in zip(d.names, coef)},
             std_coefficients={nm: float(b * s) for nm, b, s in zip(d.names, coef, d.sds)},
-            selected=selected, r2=1.0 - rss / tss if tss > 0 else None, fitted=fitted, **kw,
+            selected=selected,
+            r2=1.0 - rss / tss if tss > 0 else None,
+            fitted=fitted,
+            **kw,
         )
 
     def _path_rss(self, path) -> np.ndarray:
@@ -180,7 +209,9 @@ class _MethodRunner:
             df[i] = float(np.sum(s**2 / (s**2 + n * path.penalties[i] * (1 - path.mix))))
         return df
 
-    def _penalized(self, method: str, mix: float, progress: Progress, penalty_factors=None, fold_factors=None) -> ModelResult:
+    def _penalized(
+        self, method: str, mix: float, progress: Progress, penalty_factors=None, fold_factors=None
+    ) -> ModelResult:
         from engine.fitting.coordinate import elastic_net_path
         from engine.fitting.ridge import ridge_path
         from engine.tuning.crossval import cross_validate_path
@@ -188,15 +219,32 @@ class _MethodRunner:
         d, spec = self.d, self.spec
         progress.step(0.0, "path on all rows")
         if mix == 0.0:
-            path = ridge_path(d.X, d.y, n_penalties=spec.n_penalties, ratio=self._ratio(),
-                              progress=progress.part(0.0, 0.1))
+            path = ridge_path(
+                d.X,
+                d.y,
+                n_penalties=spec.n_penalties,
+                ratio=self._ratio(),
+                progress=progress.part(0.0, 0.1),
+            )
         else:
-            path = elastic_net_path(d.X, d.y, mix=mix, n_penalties=spec.n_penalties, ratio=self._ratio(),
-                                    penalty_factors=penalty_factors, progress=progress.part(0.0, 0.15))
+            path = elastic_net_path(
+                d.X,
+                d.y,
+                mix=mix,
+                n_penalties=spec.n_penalties,
+                ratio=self._ratio(),
+                penalty_factors=penalty_factors,
+                progress=progress.part(0.0, 0.15),
+            )
         curve = cross_validate_path(
-            d.X, d.y, self.parts, mix, path.penalties,
+            d.X,
+            d.y,
+            self.parts,
+            mix,
+            path.penalties,
             penalty_factors=fold_factors if fold_factors is not None else penalty_factors,
-            choose=spec.choose, progress=progress.part(0.15, 0.95, "cross-validation"),
+            choose=spec.choose,
+            progress=progress.part(0.15, 0.95, "cross-validation"),
             workers=spec.workers,
         )
         curve.n_selected = path.n_selected.copy()
@@ -211,11 +259,22 @@ class _MethodRunner:
             df = self._enet_df(path)
         notes = []
         if idx == len(path) - 1 and mix > 0:
-            notes.append("the chosen penalty is the smallest on the grid; a wider grid (smaller penalty ratio) may fit better")
+            notes.append(
+                "the chosen penalty is the smallest on the grid; a wider grid (smaller penalty ratio) may fit better"
+            )
         return self._model(
-            method, path.coefs[idx], path.intercepts[idx], penalty=float(path.penalties[idx]), mix=mix,
-            choice=spec.choose, cv_error=float(curve.mean_error[idx]), cv_error_se=float(curve.se[idx]),
-            path=path, curve=curve, criteria=self._criteria(path, df), notes=notes,
+            method,
+            path.coefs[idx],
+            path.intercepts[idx],
+            penalty=float(path.penalties[idx]),
+            mix=mix,
+            choice=spec.choose,
+            cv_error=float(curve.mean_error[idx]),
+            cv_error_se=float(curve.se[idx]),
+            path=path,
+            curve=curve,
+            criteria=self._criteria(path, df),
+            notes=notes,
         )
 
     # -- methods ---------------------------------------------------------------------------
@@ -248,7 +307,9 @@ class _MethodRunner:
             pred = f.intercept + d.X[te] @ f.coef
             errs.append(float(np.mean((d.y[te] - pred) ** 2)))
         e = np.asarray(errs)
-        return float(e.mean()), float(e.std(ddof=1) / np.sqrt(len(e))) if len(e) > 1 else float("nan")
+        return float(e.mean()), float(e.std(ddof=1) / np.sqrt(len(e))) if len(e) > 1 else float(
+            "nan"
+        )
 
     def _fit_ridge(self, progress: Progress) -> ModelResult:
         return self._penalized("ridge", 0.0, progress)

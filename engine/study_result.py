@@ -32,8 +32,13 @@ class SizeRow:
     bic: float | None = None
 
     def to_json(self) -> dict[str, Any]:
-        return {"size": self.size, "columns": list(self.columns), "rss": float(self.rss),
-                "r2": float(self.r2), "bic": _num(self.bic)}
+        return {
+            "size": self.size,
+            "columns": list(self.columns),
+            "rss": float(self.rss),
+            "r2": float(self.r2),
+            "bic": _num(self.bic),
+        }
 
 
 @dataclass
@@ -43,7 +48,9 @@ class Criteria:
     df: np.ndarray  # lasso/elastic net: count of nonzeros (Zou, Hastie & Tibshirani 2007); ridge: trace of the hat matrix
     aic: np.ndarray
     bic: np.ndarray
-    ebic: np.ndarray  # extended BIC, Chen & Chen (2008), gamma = 1 - log(n)/(2 log p) clipped to [0, 1]
+    ebic: (
+        np.ndarray
+    )  # extended BIC, Chen & Chen (2008), gamma = 1 - log(n)/(2 log p) clipped to [0, 1]
 
 
 @dataclass
@@ -107,12 +114,16 @@ class FocalResult:
 
     def to_json(self) -> dict[str, Any]:
         return {
-            "column": self.column, "estimate": float(self.estimate),
-            "std_error": float(self.std_error), "ci_low": float(self.ci_low),
-            "ci_high": float(self.ci_high), "controls": list(self.controls),
+            "column": self.column,
+            "estimate": float(self.estimate),
+            "std_error": float(self.std_error),
+            "ci_low": float(self.ci_low),
+            "ci_high": float(self.ci_high),
+            "controls": list(self.controls),
             "controls_for_response": list(self.controls_for_response),
             "controls_for_focal": list(self.controls_for_focal),
-            "penalty_rule": self.penalty_rule, "covariance": self.covariance,
+            "penalty_rule": self.penalty_rule,
+            "covariance": self.covariance,
             "naive_estimate": _num(self.naive_estimate),
         }
 
@@ -127,9 +138,12 @@ class StabilityResult:
     stable: list[str] = field(default_factory=list)
 
     def to_json(self) -> dict[str, Any]:
-        return {"runs": self.runs, "threshold": self.threshold,
-                "shares": {k: float(v) for k, v in self.shares.items()},
-                "stable": list(self.stable)}
+        return {
+            "runs": self.runs,
+            "threshold": self.threshold,
+            "shares": {k: float(v) for k, v in self.shares.items()},
+            "stable": list(self.stable),
+        }
 
 
 @dataclass

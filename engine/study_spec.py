@@ -51,17 +51,23 @@ class StudySpec:
     date_parts: bool = False  # add month and weekday categories for date columns
     stability_runs: int = 0  # half-samples for stability of selection; 0 skips it
     adaptive_gamma: float = 1.0
-    max_exact_subset: int = 40  # above this many candidates best subset switches to a labelled approximate search
+    max_exact_subset: int = (
+        40  # above this many candidates best subset switches to a labelled approximate search
+    )
     workers: int | None = None  # parallel workers; None: the machine's cores
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "methods", parse_methods(self.methods))
         if self.scheme not in SCHEMES:
-            raise InputProblem(f"unknown validation scheme '{self.scheme}'; choose from {', '.join(SCHEMES)}")
+            raise InputProblem(
+                f"unknown validation scheme '{self.scheme}'; choose from {', '.join(SCHEMES)}"
+            )
         if self.choose not in CHOICE_RULES:
             raise InputProblem(f"unknown choice rule '{self.choose}'; choose 'min' or 'one-se'")
         if self.missing not in MISSING_POLICIES:
-            raise InputProblem(f"unknown missing-value policy '{self.missing}'; choose 'drop' or 'fill'")
+            raise InputProblem(
+                f"unknown missing-value policy '{self.missing}'; choose 'drop' or 'fill'"
+            )
         if self.focal_penalty not in FOCAL_PENALTIES:
             raise InputProblem("the focal penalty must be 'plugin' or 'cv'")
         if self.scheme != "loo" and self.folds < 2:

@@ -24,13 +24,36 @@ DEFAULT_NAME = "tamis-demo.xlsx"
 def demo_specs(book: Path) -> list[tuple[str, StudySpec]]:
     """The default analyses of the demo workbook (also used by tests and the installer check)."""
     return [
-        ("roastery", StudySpec(source=str(book), sheet="Roastery lots", response="cup_score",
-                               methods=("lasso", "ridge", "elastic-net", "adaptive-lasso", "post-lasso",
-                                        "forward-stepwise"),
-                               seed=1, stability_runs=50)),
-        ("bakery", StudySpec(source=str(book), sheet="Bakery demand", response="loaves_sold",
-                             methods=("ols", "lasso", "ridge", "post-lasso", "best-subset"),
-                             focal="price", seed=1, missing="fill")),
+        (
+            "roastery",
+            StudySpec(
+                source=str(book),
+                sheet="Roastery lots",
+                response="cup_score",
+                methods=(
+                    "lasso",
+                    "ridge",
+                    "elastic-net",
+                    "adaptive-lasso",
+                    "post-lasso",
+                    "forward-stepwise",
+                ),
+                seed=1,
+                stability_runs=50,
+            ),
+        ),
+        (
+            "bakery",
+            StudySpec(
+                source=str(book),
+                sheet="Bakery demand",
+                response="loaves_sold",
+                methods=("ols", "lasso", "ridge", "post-lasso", "best-subset"),
+                focal="price",
+                seed=1,
+                missing="fill",
+            ),
+        ),
     ]
 
 
@@ -47,7 +70,9 @@ def run(args, ctx) -> int:
 
     book = Path(args.out) if args.out else Path.cwd() / DEFAULT_NAME
     if args.out and book.exists():
-        raise InputProblem(f"'{book}' already exists; choose another --out path (the demo never overwrites a file you named)")
+        raise InputProblem(
+            f"'{book}' already exists; choose another --out path (the demo never overwrites a file you named)"
+        )
     if book.suffix.lower() != ".xlsx":
         raise InputProblem(f"the demo workbook is an .xlsx file; '{book}' has another extension")
     build_demo_workbook(book)
@@ -70,7 +95,12 @@ def run(args, ctx) -> int:
             print(summary_text(result), file=ctx.stdout)
             print(f"\nresults written to {result.output}", file=ctx.stdout)
     if args.json:
-        json.dump({"demo_workbook": str(book), "analyses": documents}, ctx.stdout, indent=2, allow_nan=False)
+        json.dump(
+            {"demo_workbook": str(book), "analyses": documents},
+            ctx.stdout,
+            indent=2,
+            allow_nan=False,
+        )
         ctx.stdout.write("\n")
         return 0
     if has_display() and not os.environ.get("TAMIS_NO_WINDOW"):
@@ -78,6 +108,9 @@ def run(args, ctx) -> int:
         from desktop.app import main as desktop_main
 
         return int(desktop_main([str(written[0])]))
-    print("\n(no display found: the same analysis ran headless; open the results workbooks in any "
-          "spreadsheet program, or run 'tamis desktop' where a display exists)", file=ctx.stdout)
+    print(
+        "\n(no display found: the same analysis ran headless; open the results workbooks in any "
+        "spreadsheet program, or run 'tamis desktop' where a display exists)",
+        file=ctx.stdout,
+    )
     return 0

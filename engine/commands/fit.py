@@ -12,12 +12,28 @@ from engine.study_spec import StudySpec
 
 def spec_from_args(args) -> StudySpec:
     return StudySpec(
-        source=str(args.book), response=args.response, sheet=args.sheet, header_row=args.header_row,
-        candidates=tuple(args.candidates) if args.candidates else None, exclude=tuple(args.exclude or ()),
-        focal=args.focal, focal_penalty=args.focal_penalty, group=args.group, time_order=args.time_order,
-        methods=args.methods, mix=args.mix, folds=args.folds, scheme=args.scheme, repeats=args.repeats,
-        choose=args.choose, seed=args.seed, n_penalties=args.penalties, missing=args.missing,
-        date_parts=args.date_parts, stability_runs=args.stability, workers=args.workers,
+        source=str(args.book),
+        response=args.response,
+        sheet=args.sheet,
+        header_row=args.header_row,
+        candidates=tuple(args.candidates) if args.candidates else None,
+        exclude=tuple(args.exclude or ()),
+        focal=args.focal,
+        focal_penalty=args.focal_penalty,
+        group=args.group,
+        time_order=args.time_order,
+        methods=args.methods,
+        mix=args.mix,
+        folds=args.folds,
+        scheme=args.scheme,
+        repeats=args.repeats,
+        choose=args.choose,
+        seed=args.seed,
+        n_penalties=args.penalties,
+        missing=args.missing,
+        date_parts=args.date_parts,
+        stability_runs=args.stability,
+        workers=args.workers,
     )
 
 
@@ -54,5 +70,8 @@ def finish(result, args, ctx) -> int:
         if result.output:
             print(f"\nresults written to {result.output}", file=ctx.stdout)
         else:
-            print("\n(nothing written: add --out PATH or --in-place to write the result sheets)", file=ctx.stdout)
+            print(
+                "\n(nothing written: add --out PATH or --in-place to write the result sheets)",
+                file=ctx.stdout,
+            )
     return 0

@@ -49,7 +49,11 @@ def summary_text(result) -> str:
     d = result.design
     lines = [
         f"{d.response} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
-        + (f" ({'; '.join(f'{k}: {v}' for k, v in d.drop_reasons.items())})" if d.drop_reasons else ""),
+        + (
+            f" ({'; '.join(f'{k}: {v}' for k, v in d.drop_reasons.items())})"
+            if d.drop_reasons
+            else ""
+        ),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
         f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'kept':>6}{'R2':>8}",
@@ -57,21 +61,30 @@ def summary_text(result) -> str:
     for m in result.models:
         lines.append(
             f"{m.method:<18}{_fmt(m.penalty):>11}{_fmt(m.cv_error):>12}{_fmt(m.cv_error_se, 3):>11}"
-            f"{len(m.selected):>6}{_fmt(m.r2, 3):>8}" + ("  (approximate search)" if m.approximate else "")
+            f"{len(m.selected):>6}{_fmt(m.r2, 3):>8}"
+            + ("  (approximate search)" if m.approximate else "")
         )
     for m in result.models:
         if 0 < len(m.selected) <= 15:
             lines.append(f"  {m.method}: {', '.join(m.selected)}")
         elif m.selected:
-            lines.append(f"  {m.method}: {', '.join(m.selected[:15])}, ... ({len(m.selected)} in all)")
+            lines.append(
+                f"  {m.method}: {', '.join(m.selected[:15])}, ... ({len(m.selected)} in all)"
+            )
     if result.focal is not None:
         f = result.focal
-        lines += ["", f"effect of {f.column} (double selection, {f.penalty_rule} penalty): {f.estimate:.4g} "
-                  f"(robust se {f.std_error:.3g}; 95% interval {f.ci_low:.4g} to {f.ci_high:.4g}); "
-                  f"{len(f.controls)} controls"]
+        lines += [
+            "",
+            f"effect of {f.column} (double selection, {f.penalty_rule} penalty): {f.estimate:.4g} "
+            f"(robust se {f.std_error:.3g}; 95% interval {f.ci_low:.4g} to {f.ci_high:.4g}); "
+            f"{len(f.controls)} controls",
+        ]
     if result.stability is not None:
         s = result.stability
-        lines += ["", f"stable over {s.runs} half-samples (share >= {s.threshold:g}): {', '.join(s.stable) or 'none'}"]
+        lines += [
+            "",
+            f"stable over {s.runs} half-samples (share >= {s.threshold:g}): {', '.join(s.stable) or 'none'}",
+        ]
     if result.warnings:
         lines += ["", "warnings:"] + [f"  - {w}" for w in result.warnings]
     lines += ["", "cautions:"] + [f"  - {c}" for c in CAUTIONS]

@@ -29,7 +29,9 @@ def test_usage_problem_exits_2_with_one_line(tmp_path):
 def test_unknown_method_is_an_input_problem(tmp_path):
     book = tmp_path / "b.csv"
     book.write_text("y,x\n1,2\n2,3\n")
-    code, out, err = _run(["fit", str(book), "--response", "y", "--methods", "lasso,magic"], tmp_path)
+    code, out, err = _run(
+        ["fit", str(book), "--response", "y", "--methods", "lasso,magic"], tmp_path
+    )
     assert code == 2 and "unknown method 'magic'" in err
 
 
@@ -59,9 +61,14 @@ def test_traceback_flag_prints_it(tmp_path, monkeypatch):
     assert code == 1 and "Traceback" in err
 
 
-@pytest.mark.parametrize("argv", [["fit", "b.xlsx", "--response", "y", "--folds", "1"],
-                                  ["fit", "b.xlsx", "--response", "y", "--mix", "1.5"],
-                                  ["fit", "b.xlsx", "--response", "y", "--scheme", "grouped"]])
+@pytest.mark.parametrize(
+    "argv",
+    [
+        ["fit", "b.xlsx", "--response", "y", "--folds", "1"],
+        ["fit", "b.xlsx", "--response", "y", "--mix", "1.5"],
+        ["fit", "b.xlsx", "--response", "y", "--scheme", "grouped"],
+    ],
+)
 def test_bad_settings_exit_2(tmp_path, argv):
     (tmp_path / "b.xlsx").write_bytes(b"")
     argv = [a if a != "b.xlsx" else str(tmp_path / "b.xlsx") for a in argv]

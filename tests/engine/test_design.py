@@ -17,18 +17,28 @@ from engine.study_spec import StudySpec
 
 
 def _col(name, kind, values, letter="A", levels=None):
-    values = np.asarray(values, dtype=object if kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER) else None)
+    values = np.asarray(
+        values, dtype=object if kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER) else None
+    )
     if kind == ColumnKind.DATE:
         values = np.asarray(values, dtype="datetime64[ns]")
     elif kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
         values = np.asarray(values, dtype=float)
-    return Column(name=name, heading=name, letter=letter, kind=kind, values=values, levels=levels or [])
+    return Column(
+        name=name, heading=name, letter=letter, kind=kind, values=values, levels=levels or []
+    )
 
 
 def _table(*cols):
     n = len(cols[0].values)
-    return Table(source=Path("book.xlsx"), sheet="Data", sheets=[], header_row=1, columns=list(cols),
-                 row_numbers=np.arange(2, n + 2))
+    return Table(
+        source=Path("book.xlsx"),
+        sheet="Data",
+        sheets=[],
+        header_row=1,
+        columns=list(cols),
+        row_numbers=np.arange(2, n + 2),
+    )
 
 
 def _spec(**kw):
@@ -39,8 +49,10 @@ def _spec(**kw):
 
 def test_category_one_hot_against_most_frequent_level_matches_pandas():
     colour = ["red", "blue", "red", "green", "red", "blue"]
-    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
-               _col("colour", ColumnKind.CATEGORY, colour, "B", levels=["red", "blue", "green"]))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
+        _col("colour", ColumnKind.CATEGORY, colour, "B", levels=["red", "blue", "green"]),
+    )
     d = build_design(t, _spec())
     assert d.names == ["colour=blue", "colour=green"]
     # Source: pandas.get_dummies (general-purpose reference library), reference level dropped
@@ -50,9 +62,11 @@ def test_category_one_hot_against_most_frequent_level_matches_pandas():
 
 
 def test_missing_policy_drop_counts_rows_and_keeps_sheet_row_numbers():
-    t = _table(_col("y", ColumnKind.NUMBER, [1, np.nan, 3, 4, 5, 6]),
-               _col("x", ColumnKind.NUMBER, [1, 2, np.nan, 4, 5, 7], "B"),
-               _col("w", ColumnKind.NUMBER, [3, 1, 4, 1, 5, 9], "C"))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, np.nan, 3, 4, 5, 6]),
+        _col("x", ColumnKind.NUMBER, [1, 2, np.nan, 4, 5, 7], "B"),
+        _col("w", ColumnKind.NUMBER, [3, 1, 4, 1, 5, 9], "C"),
+    )
     d = build_design(t, _spec())
     assert d.n_rows == 4 and d.rows_dropped == 2
     assert d.drop_reasons == {"response 'y' missing": 1, "missing in candidate 'x'": 1}
@@ -60,8 +74,10 @@ def test_missing_policy_drop_counts_rows_and_keeps_sheet_row_numbers():
 
 
 def test_missing_policy_fill_uses_median_and_adds_indicator():
-    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5]),
-               _col("x", ColumnKind.NUMBER, [10, np.nan, 30, 40, 50], "B"))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5]),
+        _col("x", ColumnKind.NUMBER, [10, np.nan, 30, 40, 50], "B"),
+    )
     d = build_design(t, _spec(missing="fill"))
     assert d.names == ["x", "x:missing"]
     assert d.X[1, 0] == 35.0  # median of 10, 30, 40, 50
@@ -71,7 +87,9 @@ def test_missing_policy_fill_uses_median_and_adds_indicator():
 
 def test_date_becomes_day_trend_and_optional_parts():
     dates = ["2024-01-01", "2024-01-08", "2024-02-05", "2024-03-04", "2024-03-11"]
-    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 5, 4]), _col("week", ColumnKind.DATE, dates, "B"))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 5, 4]), _col("week", ColumnKind.DATE, dates, "B")
+    )
     d = build_design(t, _spec(date_parts=True))
     assert d.names[0] == "week:trend"
     np.testing.assert_array_equal(d.X[:, 0], [0, 7, 35, 63, 70])
@@ -81,11 +99,13 @@ def test_date_becomes_day_trend_and_optional_parts():
 
 
 def test_constant_identifier_and_empty_columns_are_dropped_with_reasons():
-    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4]),
-               _col("x", ColumnKind.NUMBER, [1, 3, 2, 5], "B"),
-               _col("k", ColumnKind.NUMBER, [7, 7, 7, 7], "C"),
-               _col("id", ColumnKind.IDENTIFIER, ["a1", "a2", "a3", "a4"], "D"),
-               _col("blank", ColumnKind.EMPTY, [None] * 4, "E"))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4]),
+        _col("x", ColumnKind.NUMBER, [1, 3, 2, 5], "B"),
+        _col("k", ColumnKind.NUMBER, [7, 7, 7, 7], "C"),
+        _col("id", ColumnKind.IDENTIFIER, ["a1", "a2", "a3", "a4"], "D"),
+        _col("blank", ColumnKind.EMPTY, [None] * 4, "E"),
+    )
     d = build_design(t, _spec())
     assert d.names == ["x"]
     assert set(d.dropped_columns) == {"k", "id", "blank"}
@@ -93,9 +113,11 @@ def test_constant_identifier_and_empty_columns_are_dropped_with_reasons():
 
 
 def test_exact_duplicate_columns_are_reported():
-    t = _table(_col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),
-               _col("a", ColumnKind.NUMBER, [1, 3, 2, 5, 4], "B"),
-               _col("b", ColumnKind.NUMBER, [2, 6, 4, 10, 8], "C"))
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),
+        _col("a", ColumnKind.NUMBER, [1, 3, 2, 5, 4], "B"),
+        _col("b", ColumnKind.NUMBER, [2, 6, 4, 10, 8], "C"),
+    )
     d = build_design(t, _spec())
     assert any("'b' is an exact copy of 'a'" in w for w in d.warnings)
 
@@ -111,16 +133,43 @@ def test_population_standard_deviation_is_used():
 @pytest.mark.parametrize(
     "cols, spec, fragment",
     [
-        ([_col("y", ColumnKind.CATEGORY, ["a", "b", "a"], levels=["a", "b"]), _col("x", ColumnKind.NUMBER, [1, 2, 3])],
-         {}, "response column 'y' in sheet 'Data' holds category values"),
-        ([_col("y", ColumnKind.NUMBER, [2, 2, 2, 2]), _col("x", ColumnKind.NUMBER, [1, 2, 3, 4])],
-         {}, "has the same value (2) on every row used"),
-        ([_col("y", ColumnKind.NUMBER, [1, 2, 3]), _col("id", ColumnKind.IDENTIFIER, ["a", "b", "c"])],
-         {}, "no usable candidate column in sheet 'Data'"),
-        ([_col("y", ColumnKind.NUMBER, [1, 2, 3]), _col("x", ColumnKind.NUMBER, [1, 2, 3])],
-         {"candidates": ("nope",)}, "no column named 'nope' in sheet 'Data'"),
-        ([_col("y", ColumnKind.NUMBER, [1, np.nan, np.nan, 4]), _col("x", ColumnKind.NUMBER, [1, 2, 3, np.nan])],
-         {}, "only 1 of 4 rows"),
+        (
+            [
+                _col("y", ColumnKind.CATEGORY, ["a", "b", "a"], levels=["a", "b"]),
+                _col("x", ColumnKind.NUMBER, [1, 2, 3]),
+            ],
+            {},
+            "response column 'y' in sheet 'Data' holds category values",
+        ),
+        (
+            [
+                _col("y", ColumnKind.NUMBER, [2, 2, 2, 2]),
+                _col("x", ColumnKind.NUMBER, [1, 2, 3, 4]),
+            ],
+            {},
+            "has the same value (2) on every row used",
+        ),
+        (
+            [
+                _col("y", ColumnKind.NUMBER, [1, 2, 3]),
+                _col("id", ColumnKind.IDENTIFIER, ["a", "b", "c"]),
+            ],
+            {},
+            "no usable candidate column in sheet 'Data'",
+        ),
+        (
+            [_col("y", ColumnKind.NUMBER, [1, 2, 3]), _col("x", ColumnKind.NUMBER, [1, 2, 3])],
+            {"candidates": ("nope",)},
+            "no column named 'nope' in sheet 'Data'",
+        ),
+        (
+            [
+                _col("y", ColumnKind.NUMBER, [1, np.nan, np.nan, 4]),
+                _col("x", ColumnKind.NUMBER, [1, 2, 3, np.nan]),
+            ],
+            {},
+            "only 1 of 4 rows",
+        ),
     ],
 )
 def test_refusals_name_the_sheet_and_column(cols, spec, fragment):

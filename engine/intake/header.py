@@ -6,8 +6,7 @@ rule: among the first 60 rows that hold anything, take the first row that
 - is about as wide as the table (at least half the widest row, and at least 2 cells when the
   table has 2 or more columns), and
 - holds mostly words (at least 60% of its cells are text that is not a number, a date or an
-  error value), and
-- has at least one row below it that holds anything,
+  error value),
 
 preferring a row that fills at least 80% of the widest row. When no row qualifies (headings
 that are all numbers, say) the first row that holds anything is used. The caller can always
@@ -53,11 +52,7 @@ def detect_header_row(rows: list[list]) -> int | None:
         return None
     widest = max(f for _, f, _ in sample)
     need = 1 if widest < 2 else max(2, math.ceil(0.5 * widest))
-    candidates = [
-        (i, f)
-        for k, (i, f, w) in enumerate(sample)
-        if f >= need and w >= 0.6 * f and k + 1 < len(sample)
-    ]
+    candidates = [(i, f) for i, f, w in sample if f >= need and w >= 0.6 * f]
     for i, f in candidates:
         if f >= 0.8 * widest:
             return i

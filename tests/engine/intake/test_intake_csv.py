@@ -1,0 +1,120 @@
+"""CSV intake: encodings, delimiters and decimal marks (the files are written by the tests)."""
+
+from __future__ import annotations
+
+import csv
+import io
+
+import numpy as np
+import pytest
+
+from engine.intake import ColumnKind, read_table
+
+ROWS = [
+    ("North", "1,5", "1 234,5", "04/03/2021", "yes"),
+    ("South", "2,25", "12", "05/03/2021", "no"),
+    ("North", "3", "#N/A", "13/03/2021", "yes"),
+    ("East", "0,75", "-7,25", "20/03/2021", "no"),
+    ("North", "1,5", "8", "27/03/2021", "no"),
+    ("South", "2", "9,5", "03/04/2021", "yes"),
+]
+
+
+def _semicolon_text(title: bool = True) -> str:
+    lines = ["Weekly report, all stores", ""] if title else []
+    lines.append("store;price;units;when;promo")
+    for i, r in enumerate(ROWS):
+        lines.append(";".join(r))
+        if i == 2:
+            lines.append(";;;;")  # a blank record
+    return "\r\n".join(lines) + "\r\n"
+
+
+def test_semicolon_with_decimal_comma(tmp_path):
+    path = tmp_path / "report.csv"
+    path.write_text(_semicolon_text(), encoding="utf-8")
+    table = read_table(path)
+    assert table.file_format == "csv" and table.sheet == "report"
+    assert table.reading == {"encoding": "utf-8", "delimiter": "semicolon", "decimal mark": "comma"}
+    assert table.header_row == 3
+    assert table.blank_rows_skipped == 1
+    assert table.row_numbers.tolist() == [4, 5, 6, 8, 9, 10]
+    price = table.column("price")
+    assert price.kind == ColumnKind.NUMBER
+    assert price.values.tolist() == [1.5, 2.25, 3.0, 0.75, 1.5, 2.0]
+    units = table.column("units")
+    assert units.values[0] == 1234.5 and units.values[3] == -7.25
+    assert units.errors == 1 and units.missing == 1 and np.isnan(units.values[2])
+    when = table.column("when")
+    assert when.kind == ColumnKind.DATE
+    # 13/03 and 20/03 decide day-first for the whole column
+    assert when.minimum == "2021-03-04" and when.maximum == "2021-04-03"
+    assert table.column("promo").kind == ColumnKind.FLAG
+    assert table.column("promo").values.tolist() == [1.0, 0.0, 1.0, 0.0, 0.0, 1.0]
+    assert table.column("store").kind == ColumnKind.CATEGORY
+    assert [c.letter for c in table.columns] == ["1", "2", "3", "4", "5"]
+
+
+@pytest.mark.parametrize(
+    ("delimiter", "word"), [(",", "comma"), ("\t", "tab"), ("|", "vertical bar")]
+)
+def test_other_delimiters_with_decimal_point(tmp_path, delimiter, word):
+    buf = io.StringIO()
+    writer = csv.writer(buf, delimiter=delimiter, lineterminator="\n")
+    writer.writerow(["id", "amount", "share", "label, long"])
+    for i in range(12):
+        writer.writerow([f"K{i:03d}", f"{1000 + i * 250.5:,.1f}", f"{i}%", f"a, {i % 3}"])
+    path = tmp_path / "data.csv"
+    path.write_text(buf.getvalue(), encoding="utf-8")
+    table = read_table(path)
+    assert table.reading["delimiter"] == word and table.reading["decimal mark"] == "point"
+    assert table.column("amount").values.tolist() == [1000 + i * 250.5 for i in range(12)]
+    assert table.column("share").values.tolist() == pytest.approx([i / 100 for i in range(12)])
+    assert table.column("id").kind == ColumnKind.IDENTIFIER
+    assert table.column("label, long").kind == ColumnKind.CATEGORY
+    assert table.column("label, long").levels == ["a, 0", "a, 1", "a, 2"]
+
+
+@pytest.mark.parametrize(
+    ("encoding", "expected"),
+    [
+        ("utf-8-sig", "utf-8 (with byte-order mark)"),
+        ("cp1252", "windows-1252"),
+        ("utf-16", "utf-16"),
+    ],
+)
+def test_encodings(tmp_path, encoding, expected):
+    text = "ville;température\nMontréal;-3,5\nZürich;2,25\nSão Paulo;21\n"
+    path = tmp_path / "temps.csv"
+    path.write_bytes(text.encode(encoding))
+    table = read_table(path)
+    assert table.reading["encoding"] == expected
+    assert [c.name for c in table.columns] == ["ville", "température"]
+    assert table.column("ville").values.tolist() == ["Montréal", "Zürich", "São Paulo"]
+    assert table.column("température").values.tolist() == [-3.5, 2.25, 21.0]
+
+
+def test_latin1_bytes_outside_windows_1252(tmp_path):
+    # 0x81 is undefined in Windows-1252, so Latin-1 (which maps every byte) takes over
+    path = tmp_path / "odd.csv"
+    path.write_bytes(b"name,value\nab\x81c,1\nd\xe9f,2\n")
+    table = read_table(path)
+    assert table.reading["encoding"] == "latin-1"
+    assert table.column("name").values.tolist() == ["ab\x81c", "déf"]
+
+
+def test_spaces_and_accounting_negatives(tmp_path):
+    path = tmp_path / "money.csv"
+    path.write_text('item,net\na, 42 \nb,(1.5)\nc,"1,234.5"\nd,$7\n', encoding="utf-8")
+    net = read_table(path).column("net")
+    assert net.values.tolist() == [42.0, -1.5, 1234.5, 7.0]
+
+
+def test_csv_sheet_option(tmp_path):
+    path = tmp_path / "one.csv"
+    path.write_text("a,b\n1,2\n", encoding="utf-8")
+    assert read_table(path, sheet="one").n_rows == 1
+    from engine.errors import InputProblem
+
+    with pytest.raises(InputProblem, match="single sheet, 'one'"):
+        read_table(path, sheet="Data")

@@ -1,0 +1,258 @@
+"""Known answers on ugly workbooks built in the tests (facts come from the construction)."""
+
+from __future__ import annotations
+
+import math
+import os
+
+import numpy as np
+import openpyxl
+import pytest
+import xlsxwriter
+from conftest import MESSY_ROWS, write_formula_book
+
+from engine.errors import InputProblem
+from engine.intake import ColumnKind, describe_table, list_sheets, read_table
+
+
+def test_messy_sheet_layout(messy_book):
+    path, facts = messy_book
+    table = read_table(path)
+    # the first sheet is hidden, so the first visible one is read
+    assert table.sheet == facts["sheet"]
+    assert [(s.name, s.hidden) for s in table.sheets] == [("Lookup", True), ("Demand", False)]
+    assert table.header_row == facts["header_row"]
+    assert table.n_rows == MESSY_ROWS
+    assert table.blank_rows_skipped == 1
+    assert table.row_numbers.tolist() == facts["row_numbers"]
+
+
+def test_messy_sheet_kinds(messy_book):
+    path, _ = messy_book
+    table = read_table(path)
+    kinds = {c.name: c.kind for c in table.columns}
+    assert kinds == {
+        "week": ColumnKind.DATE,
+        "store": ColumnKind.CATEGORY,
+        "price": ColumnKind.NUMBER,
+        "demand": ColumnKind.NUMBER,
+        "promo": ColumnKind.FLAG,
+        "holiday": ColumnKind.FLAG,
+        "lot code": ColumnKind.IDENTIFIER,
+        "comment": ColumnKind.EMPTY,
+        "oven temp": ColumnKind.NUMBER,
+        "oven temp (2)": ColumnKind.NUMBER,
+        "price again": ColumnKind.NUMBER,
+        "price cents": ColumnKind.NUMBER,
+        "region": ColumnKind.CATEGORY,
+    }
+    assert [c.letter for c in table.columns] == list("ABCDEFGHIJKLM")
+
+
+def test_numbers_stored_as_text(messy_book):
+    path, facts = messy_book
+    price = read_table(path).column("price")
+    assert price.text_numbers == len(facts["price_texts"])
+    assert price.missing == 0
+    # the text cells were parsed to the numbers they spell
+    wb = openpyxl.load_workbook(path)
+    ws = wb["Demand"]
+    for ref, text in facts["price_texts"].items():
+        row = int(ref[1:])
+        k = int(np.flatnonzero(read_table(path).row_numbers == row)[0])
+        assert price.values[k] == pytest.approx(float(text.replace(",", "")))
+        assert ws[ref].value == text
+    assert any("stored as text" in n for n in price.notes)
+
+
+def test_errors_and_unparseable_text(messy_book):
+    path, facts = messy_book
+    demand = read_table(path).column("demand")
+    assert demand.errors == len(facts["demand_err"])
+    assert demand.missing == len(facts["demand_err"]) + len(facts["demand_bad"])
+    assert int(np.isnan(demand.values).sum()) == demand.missing
+    ((ref, text),) = facts["demand_bad"].items()
+    assert any(f"{ref} '{text}'" in n for n in demand.notes)
+    assert any("#DIV/0!" in n and "#N/A" in n for n in demand.notes)
+
+
+def test_flags_categories_identifiers(messy_book):
+    path, _ = messy_book
+    table = read_table(path)
+    promo = table.column("promo")
+    assert promo.values.tolist() == [float(i % 2) for i in range(MESSY_ROWS)]
+    holiday = table.column("holiday")
+    assert holiday.values.tolist() == [1.0 if i % 4 == 0 else 0.0 for i in range(MESSY_ROWS)]
+    store = table.column("store")
+    assert store.levels == ["East", "North", "South"]  # 8 rows each: ties are alphabetical
+    assert store.distinct == 3 and store.values[0] == "North"
+    region = table.column("region")
+    assert region.levels == ["coast", "inland"]  # equal counts: alphabetical
+    lot = table.column("lot code")
+    assert lot.distinct == MESSY_ROWS and lot.levels == []
+
+
+def test_dates(messy_book):
+    path, _ = messy_book
+    week = read_table(path).column("week")
+    assert week.values.dtype == np.dtype("datetime64[ns]")
+    assert week.minimum == "2023-01-02"
+    assert week.maximum == str(
+        np.datetime64("2023-01-02") + np.timedelta64(7 * (MESSY_ROWS - 1), "D")
+    )
+    assert week.distinct == MESSY_ROWS
+
+
+def test_constant_duplicate_and_near_duplicate(messy_book):
+    path, _ = messy_book
+    table = read_table(path)
+    oven = table.column("oven temp")
+    assert oven.constant and oven.distinct == 1 and oven.minimum == oven.maximum == 180
+    second = table.column("oven temp (2)")
+    assert second.duplicate_of == "oven temp" and second.heading == "oven temp"
+    assert not second.constant
+    assert table.column("price again").near_duplicate_of == "price"
+    assert any("same values as column 'price'" in n for n in table.column("price again").notes)
+    cents = table.column("price cents")
+    assert cents.near_duplicate_of in ("price", "price again")
+    assert any("almost the same" in n for n in cents.notes)
+    assert table.column("demand").near_duplicate_of is None
+    empty = table.column("comment")
+    assert empty.missing == MESSY_ROWS and not empty.constant
+
+
+def test_describe_counts_match_columns(messy_book):
+    path, _ = messy_book
+    table = read_table(path)
+    facts = describe_table(table)
+    for c, d in zip(table.columns, facts["columns"]):
+        # invariant: reported missing equals the missing entries in the values
+        if c.kind in (ColumnKind.NUMBER, ColumnKind.FLAG, ColumnKind.EMPTY):
+            assert d["missing"] == int(np.isnan(c.values).sum())
+        elif c.kind == ColumnKind.DATE:
+            assert d["missing"] == int(np.isnat(c.values).sum())
+        else:
+            assert d["missing"] == sum(v is None for v in c.values)
+        assert len(c.values) == table.n_rows
+
+
+def test_header_row_override(messy_book):
+    path, facts = messy_book
+    table = read_table(path, sheet="Demand", header_row=2)
+    assert table.header_row == 2
+    assert table.columns[0].name == "Notes: prices in EUR; demand in loaves"
+    # rows 3 (blank) and the heading row 4 come before the data; row 4 is now data
+    assert table.row_numbers[0] == 4
+
+
+def test_hidden_sheet_listed_and_readable_by_name(messy_book):
+    path, _ = messy_book
+    sheets = list_sheets(path)
+    assert [(s.name, s.index, s.hidden) for s in sheets] == [
+        ("Lookup", 0, True),
+        ("Demand", 1, False),
+    ]
+    table = read_table(path, sheet="Lookup")
+    assert table.sheet == "Lookup" and table.n_rows == 1
+    assert table.column("code").values.tolist() == ["internal"]
+
+
+def test_formulas_without_results_warn_with_cells(tmp_path):
+    path = tmp_path / "scripted.xlsx"
+    cells = write_formula_book(path)
+    table = read_table(path)
+    (warning,) = [w for w in table.warnings if "formula" in w]
+    assert f"{len(cells)} formula cells" in warning
+    for ref in cells[:5]:
+        assert ref in warning
+    assert cells[5] not in warning and "and 3 more" in warning
+    total = table.column("total")
+    assert total.missing == len(cells) and total.kind == ColumnKind.EMPTY
+
+
+def test_error_cells_with_cached_codes(tmp_path):
+    # xlsxwriter stores the formula and the given result; t="e" for error results
+    path = tmp_path / "errors.xlsx"
+    wb = xlsxwriter.Workbook(str(path))
+    ws = wb.add_worksheet("S")
+    ws.write_row(0, 0, ["ratio", "id"])
+    for i in range(10):
+        if i in (2, 7):
+            ws.write_formula(i + 1, 0, "=1/0", None, "#DIV/0!")
+        elif i == 4:
+            ws.write_formula(i + 1, 0, "=NA()", None, "#N/A")
+        else:
+            ws.write_formula(i + 1, 0, f"={i}/2", None, i / 2)
+        ws.write(i + 1, 1, f"r{i}")
+    wb.close()
+    table = read_table(path)
+    ratio = table.column("ratio")
+    assert ratio.kind == ColumnKind.NUMBER
+    assert ratio.errors == 3 and ratio.missing == 3
+    assert np.nansum(ratio.values) == pytest.approx(
+        sum(i / 2 for i in range(10) if i not in (2, 4, 7))
+    )
+    assert not any("formula" in w for w in table.warnings)
+
+
+def test_mostly_numbers_with_notes_naming_three_cells(tmp_path):
+    path = tmp_path / "m.xlsx"
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["x"])
+    bad = {3: "tbd", 9: "?", 12: "see note", 15: "n/a"}
+    for i in range(30):
+        ws.append([bad.get(i, i * 1.5)])
+    wb.save(path)
+    col = read_table(path).column("x")
+    assert col.kind == ColumnKind.NUMBER and col.missing == 4
+    note = next(n for n in col.notes if "not numbers" in n)
+    assert "A5 'tbd'" in note and "A11 '?'" in note and "A14 'see note'" in note
+    assert "and 1 more" in note and "A17" not in note
+
+
+def test_reading_never_modifies_the_file(messy_book):
+    path, _ = messy_book
+    before = (path.read_bytes(), os.stat(path).st_mtime_ns)
+    read_table(path)
+    list_sheets(path)
+    read_table(path, sheet="Lookup", header_row=1)
+    after = (path.read_bytes(), os.stat(path).st_mtime_ns)
+    assert before == after
+
+
+def test_leading_zero_codes_stay_text(tmp_path):
+    path = tmp_path / "codes.xlsx"
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["postcode", "amount"])
+    for i in range(12):
+        ws.append([f"0{1000 + i}" if i % 2 else f"{2000 + i}", str(i)])
+    wb.save(path)
+    table = read_table(path)
+    assert table.column("postcode").kind == ColumnKind.IDENTIFIER
+    assert table.column("postcode").values[1] == "01001"
+    amount = table.column("amount")
+    assert amount.kind == ColumnKind.NUMBER and amount.text_numbers == 12
+    assert math.isclose(float(np.sum(amount.values)), sum(range(12)))
+
+
+def test_progress_reaches_the_end_and_cancel_stops(messy_book):
+    from engine.errors import Cancelled
+    from engine.progress import CancelToken, Progress
+
+    path, _ = messy_book
+    seen: list[float] = []
+    read_table(path, progress=Progress(lambda f, w: seen.append(f)))
+    assert seen[0] == 0.0 and seen[-1] == 1.0 and seen == sorted(seen)
+    token = CancelToken()
+    token.cancel()
+    with pytest.raises(Cancelled):
+        read_table(path, progress=Progress(None, token))
+
+
+def test_sheet_name_is_matched_ignoring_case(messy_book):
+    path, _ = messy_book
+    assert read_table(path, sheet="demand").sheet == "Demand"
+    with pytest.raises(InputProblem):
+        read_table(path, sheet="Demand2")

@@ -1,0 +1,344 @@
+"""The model a results workbook scores with: encodings, centring, coefficients and predictions.
+
+One object serves three routes that must agree:
+
+- the scoring sheet's formulas (``sheets.scoring`` writes them from this object, and
+  ``cell_value`` mirrors each formula in Python to store real cached values);
+- ``ScoringModel.predict(table)``: new rows read by intake, encoded the way the design was;
+- the fitted values of the study (the same linear predictor on the design matrix).
+
+Prediction (original units): yhat = intercept + sum_j b_j x_j. The sheet writes the same
+number in centred and standardized form, centre + sum_j beta_j (x_j - mean_j) / sd_j with
+beta_j = b_j sd_j and centre = intercept + sum_j b_j mean_j, so means and standard deviations
+are visible cells (penalty convention of Friedman, Hastie & Tibshirani 2010).
+"""
+
+from __future__ import annotations
+
+__all__ = ["ScoringModel", "choose_scoring_method", "source_kind", "date_serial", "EXCEL_EPOCH"]
+
+import datetime as _dt
+import difflib
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from engine.design import Encoding
+from engine.errors import InputProblem, Place
+
+# Day 0 of the 1900 date system as Excel and LibreOffice count it for dates after 1900-03-01.
+EXCEL_EPOCH = _dt.date(1899, 12, 30)
+
+
+def date_serial(iso: str) -> float:
+    """Spreadsheet serial number of an ISO date (days since 1899-12-30)."""
+    return float((_dt.date.fromisoformat(iso[:10]) - EXCEL_EPOCH).days)
+
+
+def _flag_tokens() -> tuple[tuple[str, ...], tuple[str, ...]]:
+    from engine.intake.cells import FLAG_FALSE, FLAG_TRUE
+
+    return tuple(FLAG_TRUE), tuple(FLAG_FALSE)
+
+
+def source_kind(encodings: list[Encoding], source: str) -> str:
+    """What a source column holds, judged from its encodings: category, flag, date or number."""
+    kinds = {e.kind for e in encodings if e.source == source}
+    if "level" in kinds:
+        return "category"
+    if "flag" in kinds:
+        return "flag"
+    if kinds & {"trend", "month", "weekday"}:
+        return "date"
+    return "number"
+
+
+def choose_scoring_method(result) -> str:
+    """The method the scoring sheet uses: smallest cross-validated error, else the first."""
+    with_cv = [m for m in result.models if m.cv_error is not None and math.isfinite(m.cv_error)]
+    if with_cv:
+        return min(with_cv, key=lambda m: m.cv_error).method
+    return result.models[0].method
+
+
+@dataclass
+class ScoringModel:
+    """A fitted linear predictor over the model columns whose coefficient is not zero."""
+
+    method: str
+    response: str
+    intercept: float
+    encodings: list[Encoding]  # only the columns the prediction uses
+    coefficients: np.ndarray  # (k,) original units
+    means: np.ndarray  # (k,)
+    sds: np.ndarray  # (k,)
+    category_levels: dict[str, list[str]] = field(default_factory=dict)
+    cv_error: float | None = None
+
+    @classmethod
+    def from_parts(
+        cls,
+        method: str,
+        response: str,
+        intercept: float,
+        encodings: list[Encoding],
+        coefficients: dict[str, float],
+        means: dict[str, float],
+        sds: dict[str, float],
+        category_levels: dict[str, list[str]],
+        cv_error: float | None = None,
+    ) -> ScoringModel:
+        used = [e for e in encodings if float(coefficients.get(e.name, 0.0)) != 0.0]
+        return cls(
+            method=method,
+            response=response,
+            intercept=float(intercept),
+            encodings=used,
+            coefficients=np.array([float(coefficients[e.name]) for e in used]),
+            means=np.array([float(means[e.name]) for e in used]),
+            sds=np.array([float(sds[e.name]) for e in used]),
+            category_levels={
+                s: list(v) for s, v in category_levels.items() if any(e.source == s for e in used)
+            },
+            cv_error=cv_error,
+        )
+
+    @classmethod
+    def from_result(cls, result, method: str | None = None) -> ScoringModel:
+        d = result.design
+        m = result.model(method or choose_scoring_method(result))
+        return cls.from_parts(
+            m.method,
+            d.response,
+            m.intercept,
+            list(d.encodings),
+            m.coefficients,
+            dict(zip(d.names, d.means)),
+            dict(zip(d.names, d.sds)),
+            d.category_levels,
+            m.cv_error,
+        )
+
+    # -- the centred and standardized form written in the sheet
+    @property
+    def std_coefficients(self) -> np.ndarray:
+        return self.coefficients * self.sds
+
+    @property
+    def centre(self) -> float:
+        return float(self.intercept + np.dot(self.coefficients, self.means))
+
+    @property
+    def sources(self) -> list[str]:
+        """Source columns the prediction needs, in order of first use."""
+        out: list[str] = []
+        for e in self.encodings:
+            if e.source not in out:
+                out.append(e.source)
+        return out
+
+    # -- predictions on rows read by intake
+    def predict(self, table) -> np.ndarray:
+        """Predictions for every data row of an intake ``Table`` (NaN where a value is missing)."""
+        return self.predict_with_notes(table)[0]
+
+    def predict_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
+        """Predictions plus one note per row that could not be scored ("" when it could)."""
+        n = table.n_rows
+        X = np.empty((n, len(self.encodings)))
+        missing_in: list[list[str]] = [[] for _ in range(n)]
+        for j, enc in enumerate(self.encodings):
+            col = self._find_column(table, enc.source)
+            X[:, j] = self._encode(enc, col, table)
+            for i in np.flatnonzero(~np.isfinite(X[:, j])):
+                if enc.source not in missing_in[i]:
+                    missing_in[i].append(enc.source)
+        pred = (
+            self.intercept + X @ self.coefficients
+            if len(self.encodings)
+            else np.full(n, self.intercept)
+        )
+        notes = [
+            "" if not m else "no usable value in " + ", ".join(f"'{s}'" for s in m)
+            for m in missing_in
+        ]
+        return np.asarray(pred, dtype=float), notes
+
+    def _find_column(self, table, source: str):
+        for c in table.columns:
+            if c.name == source:
+                return c
+        for c in table.columns:
+            if c.heading.strip().lower() == source.strip().lower():
+                return c
+        names = [c.name for c in table.columns]
+        close = difflib.get_close_matches(source, names, n=3, cutoff=0.6)
+        hint = f"; close matches: {', '.join(repr(c) for c in close)}" if close else ""
+        raise InputProblem(
+            f"the model needs column '{source}', which is not in sheet '{table.sheet}' "
+            f"(header row {table.header_row}){hint}; rename the heading to '{source}' or add the column",
+            Place(file=str(table.source), sheet=table.sheet, column=source),
+        )
+
+    def _encode(self, enc: Encoding, col, table) -> np.ndarray:
+        from engine.intake.table import ColumnKind
+
+        kind = col.kind
+        values = col.values
+        miss = np.nan if enc.fill is None else float(enc.fill)
+        if enc.kind in ("number", "flag"):
+            if kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
+                v = np.asarray(values, dtype=float).copy()
+            elif enc.kind == "flag" and kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER):
+                yes, no = _flag_tokens()
+                v = np.array(
+                    [1.0 if _low(x) in yes else 0.0 if _low(x) in no else np.nan for x in values]
+                )
+            else:
+                raise self._wrong_kind(enc, col, table, "numbers")
+            if enc.kind == "flag":
+                v = np.where(np.isfinite(v), (v != 0).astype(float), np.nan)
+            return np.where(np.isfinite(v), v, miss)
+        if enc.kind == "level":
+            labels = _labels(col)
+            known = self.category_levels.get(enc.source)
+            if known is not None:
+                for i, lab in enumerate(labels):
+                    if lab not in known and lab != "":
+                        raise InputProblem(
+                            f"column '{enc.source}' holds the level '{lab}' in row "
+                            f"{int(table.row_numbers[i])}, which the model never saw; known levels: "
+                            + ", ".join(repr(k) for k in known if k != "")
+                            + "; correct the cell or leave those rows out",
+                            Place(
+                                file=str(table.source),
+                                sheet=table.sheet,
+                                column=enc.source,
+                                row=int(table.row_numbers[i]),
+                            ),
+                        )
+            blank_known = known is not None and "" in known
+            out = np.array([float(lab == (enc.level or "")) for lab in labels])
+            if not blank_known:
+                out[np.array([lab == "" for lab in labels], dtype=bool)] = np.nan
+            return out
+        if enc.kind in ("trend", "month", "weekday"):
+            days = _as_days(col)
+            if enc.kind == "trend":
+                origin = np.datetime64(enc.origin[:10], "D").astype("int64") if enc.origin else 0
+                v = days - float(origin)
+                return np.where(np.isfinite(v), v, miss)
+            ok = np.isfinite(days)
+            d = np.where(ok, days, 0).astype("int64").astype("datetime64[D]")
+            if enc.kind == "month":
+                part = (d.astype("datetime64[M]").astype(int) % 12) + 1
+            else:
+                part = ((d.astype(int) + 3) % 7) + 1  # 1970-01-01 was a Thursday (ISO weekday 4)
+            return np.where(ok, (part == int(enc.level or 0)).astype(float), 0.0)
+        if enc.kind == "missing":
+            return _missing_mask(col).astype(float)
+        raise ValueError(f"unknown encoding kind {enc.kind!r}")
+
+    def _wrong_kind(self, enc: Encoding, col, table, expected: str) -> InputProblem:
+        return InputProblem(
+            f"column '{enc.source}' in sheet '{table.sheet}' holds {col.kind.value} values; "
+            f"the model expects {expected} there",
+            Place(file=str(table.source), sheet=table.sheet, column=enc.source),
+        )
+
+    # -- Python mirror of each sheet formula, for cached values of the example rows
+    def cell_value(self, enc: Encoding, raw: object) -> float:
+        """The value the scoring sheet's formula gives for the raw cell ``raw``.
+
+        ``raw`` is what a cell holds: None (blank), a float (numbers and date serials), a bool
+        or a str. NaN stands for the formula's #N/A.
+        """
+        kind = source_kind(self.encodings, enc.source)
+        miss = math.nan if enc.fill is None else float(enc.fill)
+        is_num = isinstance(raw, (int, float)) and not isinstance(raw, bool)
+        if enc.kind == "number":
+            return float(raw) if is_num else miss
+        if enc.kind == "flag":
+            if is_num:
+                return 1.0 if raw != 0 else 0.0
+            if isinstance(raw, bool):
+                return 1.0 if raw else 0.0
+            yes, no = _flag_tokens()
+            t = "" if raw is None else str(raw).strip().lower()
+            return 1.0 if t in yes else 0.0 if t in no else miss
+        if enc.kind == "level":
+            levels = self.category_levels.get(enc.source, [])
+            if raw is None or raw == "":
+                return (1.0 if (enc.level or "") == "" else 0.0) if "" in levels else math.nan
+            return 1.0 if _plain(raw) == (enc.level or "") else 0.0
+        if enc.kind == "trend":
+            return math.floor(raw) - date_serial(enc.origin or "1899-12-30") if is_num else miss
+        if enc.kind in ("month", "weekday"):
+            if not is_num:
+                return 0.0
+            day = EXCEL_EPOCH + _dt.timedelta(days=math.floor(raw))
+            part = day.month if enc.kind == "month" else day.isoweekday()
+            return 1.0 if part == int(enc.level or 0) else 0.0
+        if enc.kind == "missing":
+            if kind == "category":
+                return 1.0 if raw is None or raw == "" else 0.0
+            if kind == "flag":
+                return (
+                    1.0
+                    if math.isnan(self.cell_value(Encoding("", enc.source, "", "flag"), raw))
+                    else 0.0
+                )
+            return 0.0 if is_num else 1.0
+        raise ValueError(enc.kind)
+
+    def sheet_prediction(self, encoded: list[float]) -> float:
+        """The prediction formula of the sheet, evaluated in the same centred form."""
+        x = np.asarray(encoded, dtype=float)
+        return float(self.centre + np.sum(self.std_coefficients * ((x - self.means) / self.sds)))
+
+
+def _low(x: object) -> str:
+    return "" if x is None else str(x).strip().lower()
+
+
+def _plain(x: object) -> str:
+    if isinstance(x, float) and x.is_integer():
+        return str(int(x))
+    return str(x)
+
+
+def _labels(col) -> list[str]:
+    out = []
+    for x in col.values:
+        if x is None or (isinstance(x, float) and not math.isfinite(x)):
+            out.append("")
+        else:
+            out.append(_plain(x))
+    return out
+
+
+def _as_days(col) -> np.ndarray:
+    """Whole days since 1970-01-01 (float, NaN missing) from a date or serial-number column."""
+    from engine.intake.table import ColumnKind
+
+    v = col.values
+    if col.kind == ColumnKind.DATE or np.asarray(v).dtype.kind == "M":
+        d = np.asarray(v, dtype="datetime64[ns]")
+        out = d.astype("datetime64[D]").astype("int64").astype(float)
+        out[np.isnat(d)] = np.nan
+        return out
+    serial = np.asarray(v, dtype=float)
+    offset = (EXCEL_EPOCH - _dt.date(1970, 1, 1)).days
+    return np.floor(serial) + offset
+
+
+def _missing_mask(col) -> np.ndarray:
+    v = col.values
+    if v.dtype.kind == "f":
+        return ~np.isfinite(v)
+    if v.dtype.kind == "M":
+        return np.isnat(v)
+    return np.array(
+        [x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool
+    )

@@ -1,0 +1,75 @@
+"""Shared cell formats and safe cell writers for the result sheets.
+
+Every text that may have come from the user's workbook goes through ``text`` (xlsxwriter's
+``write_string``), so a heading such as "=cmd|' /C calc'!A0" stays inert text.
+"""
+
+from __future__ import annotations
+
+__all__ = ["Formats", "text", "number", "col_name", "cell_ref", "range_ref"]
+
+import math
+
+from xlsxwriter.utility import xl_col_to_name, xl_rowcol_to_cell
+
+
+class Formats:
+    """The few formats the sheets use, created once per workbook."""
+
+    def __init__(self, book) -> None:
+        add = book.add_format
+        self.title = add({"bold": True, "font_size": 14})
+        self.heading = add({"bold": True, "bottom": 1})
+        self.label = add({"bold": True})
+        self.note = add({"italic": True, "font_color": "#595959", "text_wrap": False})
+        self.wrap = add({"text_wrap": True, "valign": "top"})
+        self.number = add({"num_format": "General"})
+        # a zero coefficient: shown as a centred dot, grey italic (shape and colour, not colour alone)
+        self.zero = add(
+            {"num_format": '0;-0;"·"', "italic": True, "font_color": "#7F7F7F", "align": "center"}
+        )
+        self.kept = add({"num_format": "General", "bold": True})
+        self.share = add({"num_format": "0.00"})
+        self.date = add({"num_format": "yyyy-mm-dd"})
+        self.paste = add({"bg_color": "#FFF2CC", "border": 1, "border_color": "#BFBFBF"})
+        self.paste_date = add(
+            {
+                "bg_color": "#FFF2CC",
+                "border": 1,
+                "border_color": "#BFBFBF",
+                "num_format": "yyyy-mm-dd",
+            }
+        )
+        self.prediction = add({"bold": True, "num_format": "General", "left": 2})
+        self.param = add({"num_format": "General", "font_color": "#404040"})
+        self.days = add({"num_format": "0"})  # a whole count of days, never shown as a date
+        self.param_label = add({"italic": True, "font_color": "#404040"})
+
+
+def text(ws, row: int, col: int, value: object, fmt=None) -> None:
+    """Write any value as text (never interpreted as a formula, number or link)."""
+    ws.write_string(row, col, "" if value is None else str(value), fmt)
+
+
+def number(ws, row: int, col: int, value: float | int | None, fmt=None) -> None:
+    """Write a finite number; leave the cell empty for None, NaN or infinity."""
+    if value is None:
+        return
+    x = float(value)
+    if math.isfinite(x):
+        ws.write_number(row, col, x, fmt)
+
+
+def col_name(col: int) -> str:
+    return xl_col_to_name(col)
+
+
+def cell_ref(row: int, col: int, row_abs: bool = False, col_abs: bool = False) -> str:
+    return xl_rowcol_to_cell(row, col, row_abs, col_abs)
+
+
+def range_ref(sheet: str, r0: int, c0: int, r1: int, c1: int) -> str:
+    """An absolute range on a named sheet, quoted: 'TM Path'!$B$5:$B$104."""
+    a = xl_rowcol_to_cell(r0, c0, True, True)
+    b = xl_rowcol_to_cell(r1, c1, True, True)
+    return f"'{sheet}'!{a}:{b}"

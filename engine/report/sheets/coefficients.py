@@ -1,0 +1,113 @@
+"""The coefficients sheet: one row per model column, one column per method.
+
+Original units first, then the standardized values (per standard deviation of the column).
+A zero is shown as a grey italic dot (number format, so the cell still holds 0) and a "kept by"
+column names the methods that kept the row's column, so selection is visible without colour.
+Then stability shares (Meinshausen & Buhlmann 2010), robust standard errors where a method has
+them (e.g. least squares after lasso), and the focal-effect block of double selection
+(Belloni, Chernozhukov & Hansen 2014).
+"""
+
+from __future__ import annotations
+
+__all__ = ["write"]
+
+from engine.report.sheets.cells import Formats, number, text
+
+
+def _coef(ws, r: int, c: int, value: float, fm: Formats) -> None:
+    if value == 0.0:
+        ws.write_number(r, c, 0.0, fm.zero)
+    else:
+        number(ws, r, c, value, fm.number)
+
+
+def write(book, ws, result, fm: Formats) -> None:
+    d = result.design
+    models = result.models
+    stab = result.stability
+    with_se = [m for m in models if m.std_errors]
+    text(ws, 0, 0, "Coefficients", fm.title)
+    text(
+        ws,
+        1,
+        0,
+        "Original units: change in the response per unit of the column. Standardized: per "
+        "standard deviation of the column. A dot (·) marks a coefficient of exactly zero "
+        "(the method left the column out).",
+        fm.note,
+    )
+    heads = ["Model column", "Source column", "Encoding", "Kept by"]
+    heads += [f"{m.method}" for m in models]
+    heads += [f"{m.method} (standardized)" for m in models]
+    if stab is not None:
+        heads += [f"Stability share ({stab.runs} half-samples)", "Stable"]
+    heads += [f"{m.method} robust standard error" for m in with_se]
+    text(ws, 3, 0, "Units:", fm.note)
+    text(ws, 3, 4, "original units", fm.note)
+    text(ws, 3, 4 + len(models), "standardized", fm.note)
+    for c, h in enumerate(heads):
+        text(ws, 4, c, h, fm.heading)
+    ws.set_column(0, 1, 24)
+    ws.set_column(2, 2, 10)
+    ws.set_column(3, 3, 28)
+    ws.set_column(4, len(heads), 14)
+    ws.freeze_panes(5, 1)
+    r = 5
+    text(ws, r, 0, "(intercept)", fm.label)
+    for t, m in enumerate(models):
+        number(ws, r, 4 + t, m.intercept, fm.number)
+    r += 1
+    for enc in d.encodings:
+        name = enc.name
+        text(ws, r, 0, name, fm.label)
+        text(ws, r, 1, enc.source)
+        text(ws, r, 2, enc.kind if enc.level is None else f"{enc.kind} {enc.level or '(blank)'}")
+        kept = [m.method for m in models if float(m.coefficients.get(name, 0.0)) != 0.0]
+        text(ws, r, 3, ", ".join(kept) if kept else "none", fm.kept if kept else fm.note)
+        c = 4
+        for m in models:
+            _coef(ws, r, c, float(m.coefficients.get(name, 0.0)), fm)
+            c += 1
+        for m in models:
+            _coef(ws, r, c, float(m.std_coefficients.get(name, 0.0)), fm)
+            c += 1
+        if stab is not None:
+            number(ws, r, c, stab.shares.get(name), fm.share)
+            text(ws, r, c + 1, "yes" if name in stab.stable else "")
+            c += 2
+        for m in with_se:
+            number(ws, r, c, (m.std_errors or {}).get(name), fm.number)
+            c += 1
+        r += 1
+    if result.focal is not None:
+        f = result.focal
+        r += 1
+        text(ws, r, 0, f"Focal effect of '{f.column}' (double selection)", fm.title)
+        r += 1
+        rows = [
+            ("Estimate (original units)", f.estimate),
+            (f"Standard error ({f.covariance})", f.std_error),
+            ("95% interval, low", f.ci_low),
+            ("95% interval, high", f.ci_high),
+            ("Single-selection estimate, for contrast", f.naive_estimate),
+            ("Penalty rule", f.penalty_rule),
+            ("Controls kept for the response", ", ".join(f.controls_for_response) or "none"),
+            (f"Controls kept for '{f.column}'", ", ".join(f.controls_for_focal) or "none"),
+            ("Controls in the final fit (union)", ", ".join(f.controls) or "none"),
+        ]
+        for label, value in rows:
+            text(ws, r, 0, label, fm.label)
+            if isinstance(value, str):
+                text(ws, r, 1, value)
+            else:
+                number(ws, r, 1, value, fm.number)
+            r += 1
+        text(
+            ws,
+            r,
+            0,
+            "The interval is valid for this one effect after choosing controls from the "
+            "data (Belloni, Chernozhukov & Hansen 2014); it is not a causal claim by itself.",
+            fm.note,
+        )

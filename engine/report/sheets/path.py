@@ -1,0 +1,123 @@
+"""The coefficient path sheet: standardized coefficients along the penalty, one block per method.
+
+Each block: the chosen penalty, a native scatter-with-lines chart on a log penalty axis (one
+series per column, up to ``MAX_SERIES``; a vertical line marks the chosen penalty), then the
+table: penalty, L1 budget t = sum |beta_j|, L2 budget sum beta_j^2, columns kept, and one column
+per model column that is ever nonzero on the path.
+"""
+
+from __future__ import annotations
+
+__all__ = ["write", "MAX_SERIES", "CHART_ROWS"]
+
+import numpy as np
+
+from engine.report.sheets.cells import Formats, number, range_ref, text
+
+MAX_SERIES = 40  # spreadsheet charts cap series counts; the table keeps every column
+CHART_ROWS = 22
+
+
+def _charted(path, names: list[str], ever: np.ndarray, chosen: int) -> list[int]:
+    """Columns to draw: kept at the chosen penalty first, then by order of entry on the path."""
+    cols = list(np.flatnonzero(ever))
+    nz = path.std_coefs != 0
+    entry = {j: int(np.argmax(nz[:, j])) for j in cols}
+    cols.sort(key=lambda j: (path.std_coefs[chosen, j] == 0, entry[j], j))
+    return cols[:MAX_SERIES]
+
+
+def write(book, ws, result, fm: Formats, sheet_name: str, progress=None) -> list[tuple[str, int]]:
+    """Write every penalized method's path; returns (method, header row) per block."""
+    d = result.design
+    blocks = []
+    models = [m for m in result.models if m.path is not None and len(m.path) > 0]
+    text(ws, 0, 0, "Coefficient paths", fm.title)
+    if not models:
+        text(ws, 1, 0, "No penalized method ran in this study.", fm.note)
+        return blocks
+    text(
+        ws,
+        1,
+        0,
+        "Standardized coefficients (per standard deviation of the column) at each penalty; "
+        "the penalty axis is logarithmic and the vertical line marks the chosen penalty.",
+        fm.note,
+    )
+    ws.set_column(0, 0, 14)
+    ws.set_column(1, 3, 12)
+    r = 3
+    for b, m in enumerate(models):
+        path = m.path
+        P = np.asarray(path.std_coefs, dtype=float)
+        L = len(path)
+        pen = np.asarray(path.penalties, dtype=float)
+        chosen = int(np.argmin(np.abs(pen - m.penalty))) if m.penalty is not None else 0
+        ever = (P != 0).any(axis=0)
+        cols = list(np.flatnonzero(ever))
+        text(ws, r, 0, f"{m.method}: path over {L} penalties", fm.label)
+        r += 1
+        text(ws, r, 0, "Chosen penalty", fm.label)
+        number(ws, r, 1, m.penalty if m.penalty is not None else pen[chosen])
+        text(ws, r, 2, f"rule: {m.choice}" if m.choice else "", fm.note)
+        r += 1
+        ylo = float(P.min()) if P.size else -1.0
+        yhi = float(P.max()) if P.size else 1.0
+        if ylo == yhi:
+            ylo, yhi = ylo - 1.0, yhi + 1.0
+        line_r = r
+        text(ws, r, 0, "marker line", fm.note)
+        number(ws, r, 1, pen[chosen])
+        number(ws, r, 2, ylo)
+        number(ws, r + 1, 1, pen[chosen])
+        number(ws, r + 1, 2, yhi)
+        r += 2
+        chart_r = r
+        r += CHART_ROWS
+        head = r
+        heads = ["Penalty", "L1 budget t", "L2 budget", "Columns kept"] + [d.names[j] for j in cols]
+        for c, h in enumerate(heads):
+            text(ws, head, c, h, fm.heading)
+        l1 = np.abs(P).sum(axis=1)
+        l2 = (P**2).sum(axis=1)
+        kept = (P != 0).sum(axis=1)
+        for i in range(L):
+            rr = head + 1 + i
+            number(ws, rr, 0, pen[i])
+            number(ws, rr, 1, l1[i])
+            number(ws, rr, 2, l2[i])
+            ws.write_number(rr, 3, int(kept[i]))
+            row = P[i]
+            for c, j in enumerate(cols):
+                ws.write_number(rr, 4 + c, float(row[j]))
+            if progress is not None and i % 20 == 0:
+                progress.step((b + i / L) / len(models), f"path of {m.method}")
+        first, last = head + 1, head + L
+        chart = book.add_chart({"type": "scatter", "subtype": "straight"})
+        pos = {j: 4 + c for c, j in enumerate(cols)}
+        for j in _charted(path, d.names, ever, chosen):
+            chart.add_series(
+                {
+                    "name": [sheet_name, head, pos[j]],
+                    "categories": range_ref(sheet_name, first, 0, last, 0),
+                    "values": range_ref(sheet_name, first, pos[j], last, pos[j]),
+                    "line": {"width": 1.25},
+                }
+            )
+        chart.add_series(
+            {
+                "name": "chosen penalty",
+                "categories": range_ref(sheet_name, line_r, 1, line_r + 1, 1),
+                "values": range_ref(sheet_name, line_r, 2, line_r + 1, 2),
+                "line": {"color": "black", "dash_type": "dash", "width": 1.5},
+            }
+        )
+        chart.set_title({"name": f"Coefficient path: {m.method}"})
+        chart.set_x_axis({"name": "penalty (log scale)", "log_base": 10, "label_position": "low"})
+        chart.set_y_axis({"name": "standardized coefficient"})
+        chart.set_legend({"position": "right" if len(cols) <= 15 else "none"})
+        chart.set_size({"width": 640, "height": 20 * CHART_ROWS})
+        ws.insert_chart(chart_r, 0, chart, {"x_offset": 5, "y_offset": 5})
+        blocks.append((m.method, head))
+        r = head + L + 3
+    return blocks

@@ -1,0 +1,366 @@
+"""The scoring sheet: paste new rows under the source headings, read the prediction beside them.
+
+Layout (rows top to bottom, written in order for xlsxwriter's constant_memory mode):
+
+- a short explanation, the model used (one model: the study's smallest cross-validated error,
+  named in a cell), the centre and the intercept;
+- a parameter block above the encoded columns: one column per model column the prediction uses,
+  with its source, encoding, level, fill value, date origin, mean, standard deviation,
+  standardized and original-unit coefficient, then the known levels of each category column;
+- the header row: the source column headings (the paste block), "Prediction", "Check", and the
+  model column names of the encoded block;
+- the first rows of the study's data as examples, then empty rows ready for pasting.
+
+Every formula uses only functions every spreadsheet program has (IF, ISNUMBER, ISLOGICAL,
+ISBLANK, ISERROR, EXACT, LOWER, TRIM, OR, INT, MONTH, WEEKDAY, COUNTA, SUMPRODUCT, NA), and
+reads means, standard deviations, coefficients and the centre from cells rather than baking them
+in. Cached values are real numbers (Python mirror of each formula), so every reader shows them.
+"""
+
+from __future__ import annotations
+
+__all__ = ["write", "ScoringLayout", "example_rows"]
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from engine.report.scoring_model import ScoringModel, date_serial, source_kind
+from engine.report.sheets.cells import Formats, cell_ref, col_name, number, text
+
+N_EXAMPLES = 5
+_PARAM_ROWS = (
+    "model column",
+    "source column",
+    "encoding",
+    "level",
+    "fill for a missing cell",
+    "date origin",
+    "mean",
+    "standard deviation",
+    "standardized coefficient",
+    "coefficient (original units)",
+)
+
+
+@dataclass
+class ScoringLayout:
+    """Where things are on the sheet (0-based), for tests and readers."""
+
+    header_row: int
+    first_data_row: int
+    n_rows: int
+    n_examples: int
+    prediction_col: int
+    check_col: int
+    first_encoded_col: int
+    sources: list[str]
+    centre_cell: str
+
+
+def example_rows(result, model: ScoringModel, k: int = N_EXAMPLES) -> list[dict[str, object]]:
+    """Raw cell values of the first ``k`` rows used, rebuilt from the design matrix.
+
+    Numbers are the values themselves; a category is the level whose indicator is 1 (the
+    reference level when none is); a flag is 1 or 0; a date is its serial number; a cell the
+    design filled (its missing indicator is 1) is blank.
+    """
+    d = result.design
+    idx = {n: j for j, n in enumerate(d.names)}
+    rows: list[dict[str, object]] = []
+    for i in range(min(k, d.n_rows)):
+        row: dict[str, object] = {}
+        for source in model.sources:
+            encs = [e for e in d.encodings if e.source == source]
+            miss = [e for e in encs if e.kind == "missing"]
+            if miss and d.X[i, idx[miss[0].name]] == 1.0:
+                row[source] = None
+                continue
+            kind = source_kind(list(d.encodings), source)
+            value: object = None
+            if kind == "category":
+                levels = d.category_levels.get(source, [])
+                value = levels[0] if levels else None
+                for e in encs:
+                    if e.kind == "level" and d.X[i, idx[e.name]] == 1.0:
+                        value = e.level
+                value = None if value == "" else value
+            elif kind == "date":
+                trend = [e for e in encs if e.kind == "trend"]
+                if trend:
+                    value = date_serial(trend[0].origin or "1899-12-30") + float(
+                        d.X[i, idx[trend[0].name]]
+                    )
+            else:
+                main = [e for e in encs if e.kind in ("number", "flag")]
+                if main:
+                    value = float(d.X[i, idx[main[0].name]])
+            row[source] = value
+        rows.append(row)
+    return rows
+
+
+def _miss_expr(enc, fill_ref: str) -> str:
+    return fill_ref if enc.fill is not None else "NA()"
+
+
+def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> str:
+    """The encoded-value formula of model column j for the source cell reference ``src``."""
+    from engine.report.scoring_model import _flag_tokens
+
+    enc = model.encodings[j]
+    kind = source_kind(model.encodings, enc.source)
+    level, fill, origin = cells["level"], cells["fill"], cells["origin"]
+    miss = _miss_expr(enc, fill)
+    yes, no = _flag_tokens()
+    low = f"LOWER(TRIM({src}))"
+    yes_test = "OR(" + ",".join(f'{low}="{t}"' for t in yes) + ")"
+    no_test = "OR(" + ",".join(f'{low}="{t}"' for t in no) + ")"
+    if enc.kind == "number":
+        return f"IF(ISNUMBER({src}),{src},{miss})"
+    if enc.kind == "flag":
+        return (
+            f"IF(ISNUMBER({src}),IF({src}<>0,1,0),IF(ISLOGICAL({src}),IF({src},1,0),"
+            f"IF(ISERROR({src}),{miss},IF({yes_test},1,IF({no_test},0,{miss})))))"
+        )
+    if enc.kind == "level":
+        blank_known = "" in model.category_levels.get(enc.source, [])
+        blank = f"IF(LEN({level})=0,1,0)" if blank_known else "NA()"
+        return f"IF(OR(ISBLANK({src}),ISERROR({src})),{blank},IF(EXACT({src},{level}),1,0))"
+    if enc.kind == "trend":
+        return f"IF(ISNUMBER({src}),INT({src})-{origin},{miss})"
+    if enc.kind == "month":
+        return f"IF(ISNUMBER({src}),IF(MONTH({src})={level},1,0),0)"
+    if enc.kind == "weekday":
+        return f"IF(ISNUMBER({src}),IF(WEEKDAY({src},2)={level},1,0),0)"
+    if enc.kind == "missing":
+        if kind == "category":
+            return f"IF(OR(ISBLANK({src}),ISERROR({src})),1,0)"
+        if kind == "flag":
+            return (
+                f"IF(ISNUMBER({src}),0,IF(ISLOGICAL({src}),0,IF(ISERROR({src}),1,"
+                f"IF(OR({yes_test},{no_test}),0,1))))"
+            )
+        return f"IF(ISNUMBER({src}),0,1)"
+    raise ValueError(enc.kind)
+
+
+def _fast_formulas(ws) -> None:
+    """Skip xlsxwriter's per-formula scan for newer functions (about 30 regular expressions per
+    cell): our formulas use none of them, and the scan dominates the time of this sheet."""
+    if hasattr(ws, "_prepare_formula"):
+        ws._prepare_formula = lambda formula, expand_future_functions=False: formula.lstrip("=")
+
+
+def write(
+    book, ws, result, model: ScoringModel, fm: Formats, *, n_blank: int | None = None
+) -> ScoringLayout:
+    encs = model.encodings
+    sources = model.sources
+    m, k = len(sources), len(encs)
+    pred_col, check_col, label_col = m, m + 1, m + 2
+    enc0 = m + 3
+    cat_sources = [s for s in sources if source_kind(encs, s) == "category"]
+    examples = example_rows(result, model)
+    if n_blank is None:
+        n_blank = int(max(20, min(200, 20_000 // (k + m + 2))))
+
+    _fast_formulas(ws)
+    ws.set_column(0, max(m - 1, 0), 14)
+    ws.set_column(pred_col, pred_col, 16)
+    ws.set_column(check_col, check_col, 22)
+    ws.set_column(label_col, label_col, 26)
+    if k:
+        ws.set_column(enc0, enc0 + k - 1, 14)
+
+    top = [
+        ("Scoring", None),
+        (
+            "Paste new rows under the column headings of the shaded block (one row per case, the same "
+            "headings as the data sheet); the prediction appears beside them.",
+            None,
+        ),
+        (
+            "Only the columns the model uses are needed. Means, standard deviations and coefficients "
+            "are read from the cells above the encoded columns, so the formulas stay short and auditable.",
+            None,
+        ),
+        ("Model used", model.method),
+        (
+            "Why this model",
+            "the smallest cross-validated error among the methods of this study"
+            if model.cv_error is not None
+            else "the first method of this study",
+        ),
+        ("Centre (prediction at the column means)", model.centre),
+        ("Intercept (original units)", model.intercept),
+        (f"Response predicted: {model.response}", None),
+    ]
+    row = 0
+    param_top = 8
+    n_param = len(_PARAM_ROWS) + len(cat_sources)
+    last_param_row = param_top + n_param - 1
+    header = last_param_row + 2
+    first = header + 1
+    centre_cell = cell_ref(5, 1, True, True)
+    # fixed references to parameter rows (absolute row, relative column)
+    prow = {name: param_top + i for i, name in enumerate(_PARAM_ROWS)}
+    level_rows = {s: param_top + len(_PARAM_ROWS) + i for i, s in enumerate(cat_sources)}
+
+    while row < header:
+        if row < len(top):
+            label, value = top[row]
+            text(
+                ws,
+                row,
+                0,
+                label,
+                fm.title if row == 0 else fm.label if value is not None else fm.note,
+            )
+            if isinstance(value, str):
+                text(ws, row, 1, value, fm.kept)
+            elif value is not None:
+                number(ws, row, 1, value, fm.number)
+        if param_top <= row <= last_param_row:
+            i = row - param_top
+            if i < len(_PARAM_ROWS):
+                name = _PARAM_ROWS[i]
+                text(ws, row, label_col, name, fm.param_label)
+                for j, enc in enumerate(encs):
+                    c = enc0 + j
+                    if name == "model column":
+                        text(ws, row, c, enc.name, fm.label)
+                    elif name == "source column":
+                        text(ws, row, c, enc.source, fm.param)
+                    elif name == "encoding":
+                        text(ws, row, c, enc.kind, fm.param)
+                    elif name == "level" and enc.level is not None:
+                        if enc.kind in ("month", "weekday"):
+                            number(ws, row, c, float(enc.level), fm.param)
+                        elif enc.level != "":
+                            text(ws, row, c, enc.level, fm.param)
+                    elif name == "fill for a missing cell" and enc.fill is not None:
+                        number(ws, row, c, enc.fill, fm.param)
+                    elif name == "date origin" and enc.kind == "trend" and enc.origin:
+                        number(ws, row, c, date_serial(enc.origin), fm.date)
+                    elif name == "mean":
+                        number(ws, row, c, model.means[j], fm.param)
+                    elif name == "standard deviation":
+                        number(ws, row, c, model.sds[j], fm.param)
+                    elif name == "standardized coefficient":
+                        number(ws, row, c, model.std_coefficients[j], fm.param)
+                    elif name == "coefficient (original units)":
+                        number(ws, row, c, model.coefficients[j], fm.param)
+            else:
+                s = cat_sources[i - len(_PARAM_ROWS)]
+                text(ws, row, label_col, f"known levels of '{s}'", fm.param_label)
+                for t, lv in enumerate(model.category_levels.get(s, [])):
+                    if lv != "":
+                        text(ws, row, enc0 + t, lv, fm.param)
+        row += 1
+
+    # header row
+    for s_i, s in enumerate(sources):
+        text(ws, header, s_i, s, fm.heading)
+    text(ws, header, pred_col, f"Prediction of {model.response}", fm.heading)
+    text(ws, header, check_col, "Check", fm.heading)
+    text(ws, header, label_col, "(encoded values below)", fm.note)
+    for j, enc in enumerate(encs):
+        text(ws, header, enc0 + j, enc.name, fm.heading)
+
+    def ref(name: str, j: int) -> str:
+        return cell_ref(prow[name], enc0 + j, True, False)
+
+    mean_rng = (
+        f"{cell_ref(prow['mean'], enc0, True, True)}:{cell_ref(prow['mean'], enc0 + k - 1, True, True)}"
+        if k
+        else ""
+    )
+    sd_rng = (
+        f"{cell_ref(prow['standard deviation'], enc0, True, True)}:{cell_ref(prow['standard deviation'], enc0 + k - 1, True, True)}"
+        if k
+        else ""
+    )
+    beta_rng = (
+        f"{cell_ref(prow['standardized coefficient'], enc0, True, True)}:{cell_ref(prow['standardized coefficient'], enc0 + k - 1, True, True)}"
+        if k
+        else ""
+    )
+    n_rows = len(examples) + n_blank
+    for t in range(n_rows):
+        r = first + t
+        ex = examples[t] if t < len(examples) else None
+        paste = f"{cell_ref(r, 0, False, True)}:{cell_ref(r, max(m - 1, 0), False, True)}"
+        empty = f"COUNTA({paste})=0"
+        encoded: list[float] = []
+        for s_i, s in enumerate(sources):
+            is_date = source_kind(encs, s) == "date"
+            fmt = fm.paste_date if is_date else fm.paste
+            v = None if ex is None else ex.get(s)
+            if v is None:
+                ws.write_blank(r, s_i, None, fmt)
+            elif isinstance(v, str):
+                text(ws, r, s_i, v, fmt)
+            else:
+                number(ws, r, s_i, float(v), fmt)
+        for j, enc in enumerate(encs):
+            src = cell_ref(r, sources.index(enc.source), False, True)
+            f = _formula(
+                model,
+                j,
+                src,
+                {
+                    "level": ref("level", j),
+                    "fill": ref("fill for a missing cell", j),
+                    "origin": ref("date origin", j),
+                },
+            )
+            if ex is not None:
+                val = model.cell_value(enc, ex.get(enc.source))
+                encoded.append(val)
+                cached: object = "#N/A" if math.isnan(val) else val
+            else:
+                cached = ""
+            ws.write_formula(
+                r,
+                enc0 + j,
+                f'=IF({empty},"",{f})',
+                fm.days if enc.kind == "trend" else fm.number,
+                cached,
+            )
+        if k:
+            body = f"{centre_cell}+SUMPRODUCT({beta_rng},({cell_ref(r, enc0)}:{cell_ref(r, enc0 + k - 1)}-{mean_rng})/{sd_rng})"
+        else:
+            body = centre_cell
+        if ex is not None:
+            pv = model.sheet_prediction(encoded) if k else model.centre
+            pcached: object = "#N/A" if not np.isfinite(pv) else pv
+        else:
+            pcached = ""
+        ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
+        # check: unseen category levels (exact comparison, as the model does)
+        checks = []
+        for s in cat_sources:
+            c = cell_ref(r, sources.index(s), False, True)
+            lr = level_rows[s]
+            n_lv = max(len(model.category_levels.get(s, [])), 1)
+            lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
+            checks.append(
+                f'IF(OR(ISBLANK({c}),ISERROR({c})),"",IF(SUMPRODUCT(--EXACT({c},{lv_rng}))=0,'
+                f'"unseen level in {col_name(sources.index(s))}; ",""))'
+            )
+        if checks:
+            ws.write_formula(r, check_col, "=" + "&".join(checks), None, "")
+    ws.freeze_panes(first, 0)
+    return ScoringLayout(
+        header_row=header,
+        first_data_row=first,
+        n_rows=n_rows,
+        n_examples=len(examples),
+        prediction_col=pred_col,
+        check_col=check_col,
+        first_encoded_col=enc0,
+        sources=sources,
+        centre_cell=centre_cell,
+    )

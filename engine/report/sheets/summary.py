@@ -1,0 +1,148 @@
+"""The summary sheet: where the data came from, how the study ran, how the methods compare.
+
+Ends with cautions in plain words (selection is not causation; standard errors after selection;
+extrapolation), deferring to the reader's own review practice.
+"""
+
+from __future__ import annotations
+
+__all__ = ["write", "CAUTIONS"]
+
+import datetime as _dt
+import math
+
+from engine.methods import method_info
+from engine.report.scoring_model import choose_scoring_method
+from engine.report.sheets.cells import Formats, number, text
+
+CAUTIONS = (
+    "A column being kept by a method says it helps predict the response in these data; it does not "
+    "show that changing the column would change the response.",
+    "The usual standard errors and p-values of a least-squares refit ignore that the columns were "
+    "chosen from the same data, so they look more certain than they are; the focal-effect block "
+    "(double selection) is built to allow for that one effect only.",
+    "Predictions for rows whose values lie outside the range seen here (the mean and standard "
+    "deviation of each column are on the scoring sheet) extrapolate and deserve extra care.",
+    "Check these results with your own review practice before relying on them.",
+)
+
+
+def _methods_title(name: str) -> str:
+    try:
+        return method_info(name).title
+    except Exception:
+        return name
+
+
+def write(book, ws, result, fm: Formats) -> None:
+    spec, d = result.spec, result.design
+    ws.set_column(0, 0, 34)
+    ws.set_column(1, 1, 26)
+    ws.set_column(2, 9, 15)
+    r = 0
+    text(ws, r, 0, "Tamis study results", fm.title)
+    r += 2
+    scheme = spec.scheme
+    if scheme == "loo":
+        scheme_words = "leave one out"
+    elif scheme == "repeated":
+        scheme_words = f"{spec.folds}-fold, repeated {spec.repeats} times"
+    else:
+        scheme_words = f"{spec.folds}-fold ({scheme})"
+    reasons = "; ".join(f"{k}: {v}" for k, v in d.drop_reasons.items()) or "none"
+    facts: list[tuple[str, object]] = [
+        ("Data file", spec.source),
+        ("Sheet", d.sheet),
+        ("Header row", d.header_row),
+        ("Rows used", d.n_rows),
+        ("Rows dropped", d.rows_dropped),
+        ("Why rows were dropped", reasons),
+        ("Response", d.response),
+        ("Candidate columns (model columns after encoding)", d.n_cols),
+        (
+            "Columns left out",
+            "; ".join(f"{k}: {v}" for k, v in d.dropped_columns.items()) or "none",
+        ),
+        ("Methods", ", ".join(spec.methods)),
+        ("Validation scheme", scheme_words),
+        ("Choice rule", "smallest error" if spec.choose == "min" else "one standard error"),
+        ("Seed", spec.seed),
+        ("Run started", result.started or _dt.datetime.now().isoformat(timespec="seconds")),
+        ("Run time (seconds)", round(float(result.seconds), 2)),
+        ("Tool version", f"Tamis {result.tool_version}"),
+    ]
+    if spec.focal:
+        facts.append(("Focal column", spec.focal))
+    for label, value in facts:
+        text(ws, r, 0, label, fm.label)
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            number(ws, r, 1, value)
+        else:
+            text(ws, r, 1, value)
+        r += 1
+
+    r += 1
+    text(ws, r, 0, "Comparison of the methods", fm.label)
+    r += 1
+    heads = [
+        "Method",
+        "Name",
+        "Cross-validated error",
+        "Its standard error",
+        "Columns kept",
+        "In-sample R squared",
+        "Penalty",
+        "Choice",
+        "Notes",
+    ]
+    for c, h in enumerate(heads):
+        text(ws, r, c, h, fm.heading)
+    r += 1
+    best = choose_scoring_method(result) if result.models else None
+    for m in result.models:
+        text(ws, r, 0, _methods_title(m.method), fm.label if m.method == best else None)
+        text(ws, r, 1, m.method)
+        number(ws, r, 2, m.cv_error)
+        number(ws, r, 3, m.cv_error_se)
+        number(ws, r, 4, len(m.selected))
+        number(ws, r, 5, m.r2)
+        number(ws, r, 6, m.penalty)
+        if m.choice:
+            text(ws, r, 7, m.choice)
+        notes = list(m.notes)
+        if m.approximate:
+            notes.insert(0, "approximate search")
+        if m.method == best:
+            notes.insert(0, "used on the scoring sheet")
+        if notes:
+            text(ws, r, 8, "; ".join(notes))
+        r += 1
+    if result.focal is not None:
+        f = result.focal
+        r += 1
+        text(ws, r, 0, f"Effect of '{f.column}' (double selection)", fm.label)
+        text(
+            ws,
+            r,
+            1,
+            f"{f.estimate:.6g} (standard error {f.std_error:.4g}, "
+            f"95% interval {f.ci_low:.6g} to {f.ci_high:.6g}); details on the coefficients sheet",
+        )
+        r += 1
+    warnings = list(dict.fromkeys(list(result.warnings) + list(d.warnings)))
+    r += 1
+    text(ws, r, 0, "Warnings", fm.label)
+    r += 1
+    if not warnings:
+        text(ws, r, 0, "none", fm.note)
+        r += 1
+    for w in warnings:
+        text(ws, r, 0, w)
+        r += 1
+    r += 1
+    text(ws, r, 0, "Cautions", fm.label)
+    r += 1
+    for c in CAUTIONS:
+        text(ws, r, 0, c)
+        r += 1
+    _ = math  # numbers above are written through `number`, which skips non-finite values

@@ -104,7 +104,7 @@ class ColumnLedgerModel(QAbstractTableModel):
     ``roles_changed`` fires after any role edit, with the full mapping.
     """
 
-    roles_changed = Signal(dict)
+    roles_changed = Signal(object)  # dict[str, Role]
 
     def __init__(self) -> None:
         super().__init__()

@@ -58,7 +58,13 @@ def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:
     path = Path(path)
     item = widget.getPlotItem()
     if path.suffix.lower() == ".svg":
-        exporter = pg_exporters.SVGExporter(item)
+        try:
+            pg_exporters.SVGExporter(item).export(str(path))
+        except ValueError:
+            # pyqtgraph 0.14's SVG exporter cannot parse the path syntax newer Qt writes;
+            # Qt's own SVG generator draws the same scene as vectors
+            _svg_with_qt(widget, path)
+        return path
     else:
         if path.suffix.lower() != ".png":
             path = path.with_suffix(".png")
@@ -67,6 +73,26 @@ def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:
         exporter.parameters()["width"] = width
     exporter.export(str(path))
     return path
+
+
+def _svg_with_qt(widget: pg.PlotWidget, path: Path) -> None:
+    from PySide6.QtCore import QRectF, QSize
+    from PySide6.QtGui import QPainter
+    from PySide6.QtSvg import QSvgGenerator
+
+    item = widget.getPlotItem()
+    source = item.sceneBoundingRect()
+    gen = QSvgGenerator()
+    gen.setFileName(str(path))
+    gen.setSize(QSize(int(source.width()), int(source.height())))
+    gen.setViewBox(QRectF(0, 0, source.width(), source.height()))
+    gen.setTitle("Tamis chart")
+    gen.setResolution(widget.logicalDpiX())  # items lay themselves out in screen pixels
+    painter = QPainter(gen)
+    try:
+        widget.scene().render(painter, QRectF(0, 0, source.width(), source.height()), source)
+    finally:
+        painter.end()
 
 
 def log10_positive(x: np.ndarray) -> np.ndarray:

@@ -150,6 +150,22 @@ class PathChart(QWidget):
         if self.highlighted:
             self.highlight(self.highlighted)
 
+    def _label_line_ends(self, most: int = 8) -> None:
+        """Name the largest lines where they end (the weakest penalty), skipping crowded ones."""
+        path = self.path
+        assert path is not None
+        end = int(np.argmax(self._x))
+        values = {n: float(path.std_coefs[end, self.names.index(n)]) for n in self._lines}
+        span = max((abs(v) for v in values.values()), default=0.0) or 1.0
+        placed: list[float] = []
+        for n, v in sorted(values.items(), key=lambda kv: -abs(kv[1]))[:most]:
+            if v == 0.0 or any(abs(v - u) < 0.07 * span for u in placed):
+                continue
+            placed.append(v)
+            label = pg.TextItem(n, color=self._colours[n], anchor=(1, 1))
+            label.setPos(float(self._x[end]), v)
+            self.item.addItem(label, ignoreBounds=True)
+
     # cursor -----------------------------------------------------------------------------
     def nearest_index(self, x: float) -> int:
         return int(np.argmin(np.abs(self._x - x))) if self._x.size else 0

@@ -11,6 +11,7 @@ import os
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
+import functools  # noqa: E402
 import threading  # noqa: E402
 import time  # noqa: E402
 from pathlib import Path  # noqa: E402
@@ -185,6 +186,7 @@ def table():
     return simulated_table()
 
 
+@functools.lru_cache(maxsize=4)
 def simulated_result(n: int = 80, p: int = 12, seed: int = 7, focal: bool = True):
     """A StudyResult for widget tests, built without engine.study.
 

@@ -1,0 +1,127 @@
+"""The column ledger and the sheet preview: roles set on the column rows, both ways."""
+
+from __future__ import annotations
+
+import numpy as np
+from conftest import simulated_table
+from PySide6.QtCore import Qt
+
+from desktop.column_ledger import ColumnLedger
+from desktop.roles import Role, default_roles
+from desktop.table_models import (
+    COL_CHECK,
+    COL_KIND,
+    COL_MISSING,
+    COL_ROLE,
+    SheetPreviewModel,
+    format_value,
+)
+from engine.intake.table import Column, ColumnKind, SheetInfo, Table
+
+
+def test_ledger_lists_every_column_with_kind_and_missing(qtbot):
+    t = simulated_table()
+    t.columns[3].missing = 4
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    m = led.model
+    assert m.rowCount() == len(t.columns)
+    assert m.data(m.index(0, COL_KIND)) == "identifier"
+    assert m.data(m.index(3, COL_MISSING)) == "4"
+    assert m.data(m.index(1, COL_ROLE)) == "candidate"
+
+
+def test_editing_a_role_cell_reaches_the_model_and_back(qtbot):
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    seen = []
+    led.model.roles_changed.connect(seen.append)
+    # model -> view
+    assert led.model.setData(led.model.index(1, COL_ROLE), "response")
+    assert led.model.roles()["response_y"] is Role.RESPONSE
+    assert seen and seen[-1]["response_y"] is Role.RESPONSE
+    # view -> model through the delegate's editor, applied to every selected row
+    led.select_names(["x3", "x4", "x5"])
+    idx = led.proxy.mapFromSource(led.model.index(led.model.row_of("x4"), COL_ROLE))
+    led.view.edit(idx)
+    editor = led.view.indexWidget(idx)
+    assert editor is not None
+    editor.setCurrentIndex(editor.findData("ignore"))
+    led.view.itemDelegateForColumn(COL_ROLE).setModelData(editor, led.proxy, idx)
+    roles = led.model.roles()
+    assert [roles[n] for n in ("x3", "x4", "x5")] == [Role.IGNORE] * 3
+    assert roles["x6"] is Role.CANDIDATE
+
+
+def test_quick_actions_and_role_box_for_a_selection(qtbot):
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    led.none_button.click()
+    assert set(led.model.roles().values()) == {Role.IGNORE}
+    led.numeric_button.click()
+    assert led.model.roles()["x0"] is Role.CANDIDATE and led.model.roles()["region"] is Role.IGNORE
+    led.select_names(["region"])
+    led.set_role_box.setCurrentIndex(led.set_role_box.findData("group"))
+    led.set_role_box.activated.emit(led.set_role_box.currentIndex())
+    assert led.model.roles()["region"] is Role.GROUP
+
+
+def test_filter_keeps_roles_on_the_right_columns(qtbot):
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    led.filter.setText("x1")  # x1, x10, x11
+    assert led.proxy.rowCount() == 3
+    led.view.selectAll()
+    led.set_role_of_selected(Role.IGNORE)
+    r = led.model.roles()
+    assert r["x1"] is r["x10"] is r["x11"] is Role.IGNORE and r["x2"] is Role.CANDIDATE
+
+
+def test_problem_text_shows_beside_its_column(qtbot):
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    led.model.set_problems({"region": "The response must hold numbers."})
+    row = led.model.row_of("region")
+    assert led.model.data(led.model.index(row, COL_CHECK)) == "The response must hold numbers."
+    assert (
+        led.model.data(led.model.index(row, COL_CHECK), Qt.ItemDataRole.BackgroundRole) is not None
+    )
+
+
+def test_preview_of_100000_rows_formats_only_what_is_asked(qtbot):
+    n = 100_000
+    rng = np.random.default_rng(1)
+    v = rng.normal(size=n)
+    v[5] = np.nan
+    dates = (np.datetime64("2020-01-01") + np.arange(n).astype("timedelta64[D]")).astype(
+        "datetime64[ns]"
+    )
+    cols = [
+        Column("v", "v", "A", ColumnKind.NUMBER, v),
+        Column("d", "d", "B", ColumnKind.DATE, dates),
+    ]
+    t = Table(
+        source="big.csv",
+        sheet="big",
+        sheets=[SheetInfo("big", 0)],
+        header_row=1,
+        columns=cols,
+        row_numbers=np.arange(2, n + 2, dtype=np.int64),
+        file_format="csv",
+    )
+    m = SheetPreviewModel(t)
+    assert m.rowCount() == n and m.columnCount() == 2
+    assert m.data(m.index(5, 0)) == ""  # a missing number shows as an empty cell
+    assert m.data(m.index(0, 0)) == f"{v[0]:.6g}"
+    assert m.data(m.index(n - 1, 1)) == str(np.datetime_as_string(dates[-1], unit="D"))
+    assert m.headerData(n - 1, Qt.Orientation.Vertical) == str(n + 1)  # the sheet's own row number
+    assert format_value(cols[0], 1) == f"{v[1]:.6g}"

@@ -1,0 +1,141 @@
+"""Findings: the path cursor, axes, hover, highlight and export, driven both ways."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pytest
+from conftest import simulated_result
+
+from desktop.charts.common import export_plot
+from desktop.result_view import ResultView, cursor_rows
+
+
+@pytest.fixture
+def view(qtbot):
+    v = ResultView()
+    qtbot.addWidget(v)
+    v.resize(1100, 700)
+    v.show()
+    v.show_result(simulated_result())
+    return v
+
+
+def _lasso(v: ResultView):
+    return v.result.model("lasso")
+
+
+def test_cursor_starts_at_the_chosen_penalty(view):
+    m = _lasso(view)
+    i = view.path_chart.index
+    assert m.path.penalties[i] == pytest.approx(m.penalty)
+    assert sorted(view.selected_at_cursor()) == sorted(m.selected)
+
+
+def test_dragging_the_cursor_changes_the_selected_set_live(view):
+    """Two routes: the table read at the cursor agrees with the path's own nonzeros at that point."""
+    m = _lasso(view)
+    path, names = m.path, view.result.design.names
+    chart = view.path_chart
+    sizes = set()
+    for x in np.linspace(chart.x_values().max(), chart.x_values().min(), 9):
+        chart.move_cursor_to(float(x))  # what a drag does to the line
+        i = chart.index
+        expect = {names[j] for j in np.flatnonzero(path.std_coefs[i])}
+        assert set(view.selected_at_cursor()) == expect
+        sizes.add(len(expect))
+    assert len(sizes) >= 3  # the set really changed along the way
+    assert "columns selected" in view.readout.text()
+    view.back_button.click()
+    assert path.penalties[chart.index] == pytest.approx(m.penalty)
+
+
+def test_cursor_drag_with_the_mouse(view, qtbot):
+    """A real mouse drag on the cursor line moves it and updates the table."""
+    from PySide6.QtCore import QPoint, Qt
+    from PySide6.QtTest import QTest
+
+    chart = view.path_chart
+    vb = chart.item.getViewBox()
+    start_i = chart.index
+    y_mid = float(np.mean(vb.viewRange()[1]))
+    from PySide6.QtCore import QPointF
+
+    def to_widget(x):
+        scene = vb.mapViewToScene(QPointF(x, y_mid))
+        return chart.plot.mapFromScene(scene)
+
+    x0 = chart.x_values()[start_i]
+    x1 = chart.x_values()[min(start_i + 15, len(chart.x_values()) - 1)]
+    p0, p1 = to_widget(x0), to_widget(x1)
+    vp = chart.plot.viewport()
+    QTest.mousePress(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, p0)
+    for k in range(1, 11):
+        pos = p0 + (p1 - p0) * (k / 10)
+        QTest.mouseMove(vp, QPoint(int(pos.x()), int(pos.y())))
+        qtbot.wait(5)
+    QTest.mouseRelease(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, p1)
+    assert chart.index != start_i
+    path = _lasso(view).path
+    assert len(view.selected_at_cursor()) == int(path.n_selected[chart.index])
+
+
+def test_budget_axis_is_the_l1_budget(view):
+    m = _lasso(view)
+    view.axis_budget.setChecked(True)
+    np.testing.assert_allclose(view.path_chart.x_values(), np.abs(m.path.std_coefs).sum(axis=1))
+    view.path_chart.move_cursor_to(float(m.path.l1_budget[5]))
+    assert view.path_chart.index == 5
+    view.axis_penalty.setChecked(True)
+    np.testing.assert_allclose(view.path_chart.x_values(), np.log10(m.path.penalties))
+
+
+def test_hover_names_the_line_and_click_highlights_it(view):
+    chart = view.path_chart
+    m = _lasso(view)
+    names = view.result.design.names
+    i = len(m.path) - 5
+    j = names.index("x1")
+    assert chart.name_near(chart.x_values()[i], m.path.std_coefs[i, j]) == "x1"
+    assert chart.name_near(chart.x_values()[i], m.path.std_coefs[i, j] + 100.0) == ""
+    view.coef_view.clicked.emit(view.coef_model.index(1, 0))
+    picked = view.coef_model.rows[1][0]
+    assert chart.highlighted == picked
+    assert chart.line_width(picked) > chart.line_width(next(n for n in chart._lines if n != picked))
+
+
+def test_validation_curve_marks_both_choices(view):
+    c = _lasso(view).curve
+    marks = view.curve_chart.marks
+    assert marks["min"] == pytest.approx(np.log10(c.grid[c.index_min]))
+    assert marks["one-se"] == pytest.approx(np.log10(c.grid[c.index_one_se]))
+    assert "Lowest error" in view.curve_note.text()
+
+
+def test_other_tabs_are_filled(view):
+    assert view.compare_model.rowCount() == 2
+    assert view.sizes_model.rowCount() == 4
+    assert "x0" in view.focal_text.text()
+    assert view.share_chart.shown[0] in view.result.stability.stable
+    html = view.cautions.toHtml()
+    assert (
+        "causing" in html
+        and "Standard errors after selection" in html
+        and "a simulated note" in html
+    )
+
+
+def test_cursor_rows_sorted_by_standardized_size(result):
+    m = result.model("lasso")
+    rows = cursor_rows(m.path, result.design.names, len(m.path) - 1)
+    sizes = [abs(r[2]) for r in rows]
+    assert sizes == sorted(sizes, reverse=True)
+
+
+@pytest.mark.parametrize("suffix,magic", [(".png", b"\x89PNG"), (".svg", b"<?xml")])
+def test_charts_export_to_png_and_svg(view, tmp_path: Path, suffix, magic):
+    for chart in (view.path_chart, view.curve_chart, view.share_chart, view.focal_chart):
+        out = export_plot(chart.plot, tmp_path / f"{type(chart).__name__}{suffix}")
+        assert out.read_bytes()[: len(magic)] == magic
+        assert out.stat().st_size > 1000

@@ -1,0 +1,90 @@
+"""Roles, the checks that block a run, and the request they build (no Qt involved)."""
+
+from __future__ import annotations
+
+from conftest import simulated_table
+
+from desktop.roles import (
+    Role,
+    all_numeric_as_candidates,
+    build_spec,
+    check_roles,
+    default_roles,
+    roles_from_spec,
+    settings_from_spec,
+)
+from engine.intake.table import ColumnKind
+from engine.study_spec import StudySpec
+
+
+def test_default_roles_follow_the_detected_kinds():
+    t = simulated_table()
+    roles = default_roles(t)
+    for c in t.columns:
+        if c.kind is ColumnKind.IDENTIFIER:
+            assert roles[c.name] is Role.IGNORE
+        else:
+            assert roles[c.name] is Role.CANDIDATE
+
+
+def test_no_response_blocks_the_run_with_a_general_message():
+    t = simulated_table()
+    problems = check_roles(t, default_roles(t))
+    assert [p.column for p in problems] == [None]
+    assert "response" in problems[0].message
+
+
+def test_problems_sit_next_to_the_column_they_concern():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles["region"] = Role.RESPONSE  # a category cannot be the response
+    roles["lot_id"] = Role.CANDIDATE  # an identifier cannot be a candidate
+    by_col = {p.column: p.message for p in check_roles(t, roles)}
+    assert "numbers" in by_col["region"]
+    assert "own value" in by_col["lot_id"]
+
+
+def test_two_responses_flag_both_columns():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles["x0"] = roles["x1"] = Role.RESPONSE
+    cols = {p.column for p in check_roles(t, roles)}
+    assert {"x0", "x1"} <= cols
+
+
+def test_scheme_and_methods_requirements():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles["response_y"] = Role.RESPONSE
+    assert check_roles(t, roles) == []
+    msgs = " ".join(p.message for p in check_roles(t, roles, scheme="grouped", methods=()))
+    assert "group" in msgs and "method" in msgs
+    roles["region"] = Role.GROUP
+    assert check_roles(t, roles, scheme="grouped") == []
+
+
+def test_quick_action_keeps_other_roles():
+    t = simulated_table()
+    roles = {c.name: Role.IGNORE for c in t.columns}
+    roles["response_y"] = Role.RESPONSE
+    out = all_numeric_as_candidates(t, roles)
+    assert out["response_y"] is Role.RESPONSE
+    assert out["lot_id"] is Role.IGNORE and out["region"] is Role.IGNORE
+    assert all(out[f"x{j}"] is Role.CANDIDATE for j in range(12))
+
+
+def test_spec_round_trip_through_roles_is_the_identity():
+    """Invariant: roles -> spec -> roles gives the same roles (what reopening a results book relies on)."""
+    t = simulated_table()
+    roles = default_roles(t)
+    roles.update(
+        {"response_y": Role.RESPONSE, "x0": Role.FOCAL, "region": Role.GROUP, "x5": Role.IGNORE}
+    )
+    settings = {"methods": ("lasso", "ridge"), "folds": 4, "scheme": "grouped", "seed": 11}
+    spec = build_spec(t, roles, settings)
+    assert spec.response == "response_y" and spec.focal == "x0" and spec.group == "region"
+    assert "x0" in spec.candidates and "x5" not in spec.candidates  # focal is in the design
+    assert spec.sheet == "Lots" and spec.header_row == 3
+    back = roles_from_spec(t, StudySpec.from_dict(spec.to_dict()))
+    assert back == roles
+    assert settings_from_spec(spec)["methods"] == ["lasso", "ridge"]

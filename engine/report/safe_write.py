@@ -82,7 +82,7 @@ def check_writable(path: str | Path) -> None:
     if path.exists():
         if path.is_dir():
             raise WriteProblem(f"cannot write '{path}': it is a folder", place)
-        if not os.access(path, os.W_OK):
+        if not os.access(path, os.W_OK) or not path.stat().st_mode & 0o222:
             raise WriteProblem(
                 f"cannot write '{path}': the file is read-only; make it writable or "
                 "choose another output file",

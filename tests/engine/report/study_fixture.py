@@ -12,6 +12,7 @@ the study module, so the report tests run on their own.
 
 from __future__ import annotations
 
+import copy
 import datetime as dt
 from pathlib import Path
 
@@ -43,11 +44,29 @@ def simulate_rows(n: int, seed: int, gaps: bool = True) -> list[dict]:
         rain = None if (gaps and i % 9 == 4) else float(rng.normal(120, 30))
         dens = float(rng.normal(0.7, 0.05))
         price = float(rng.normal(10, 2))
-        y = (80 + 0.01 * (alt - 1500) + 2.0 * (proc == "natural") - 1.0 * (proc == "honey")
-             + 1.5 * org + 0.004 * (day - ORIGIN).days + 0.3 * price + rng.normal(0, 0.8))
-        rows.append({"lot": f"L{i:03d}", "altitude": alt, "rain": rain, "density": dens,
-                     "process": proc, "organic": "yes" if org else "no", "harvest": day,
-                     "price": price, "score": float(y)})
+        y = (
+            80
+            + 0.01 * (alt - 1500)
+            + 2.0 * (proc == "natural")
+            - 1.0 * (proc == "honey")
+            + 1.5 * org
+            + 0.004 * (day - ORIGIN).days
+            + 0.3 * price
+            + rng.normal(0, 0.8)
+        )
+        rows.append(
+            {
+                "lot": f"L{i:03d}",
+                "altitude": alt,
+                "rain": rain,
+                "density": dens,
+                "process": proc,
+                "organic": "yes" if org else "no",
+                "harvest": day,
+                "price": price,
+                "score": float(y),
+            }
+        )
     return rows
 
 
@@ -105,11 +124,22 @@ def build_design(rows: list[dict], source: str) -> Design:
     ]
     X = np.column_stack(cols)
     y = np.array([r["score"] for r in rows])
-    return Design(source=source, sheet="Lots", header_row=1, response="score",
-                  names=[e.name for e in encs], encodings=encs, X=X, y=y,
-                  row_numbers=np.arange(2, n + 2), means=X.mean(axis=0), sds=X.std(axis=0),
-                  category_levels={"process": ["washed", "natural", "honey"]},
-                  focal_index=8, warnings=["column 'lot' left out: it looks like an identifier"])
+    return Design(
+        source=source,
+        sheet="Lots",
+        header_row=1,
+        response="score",
+        names=[e.name for e in encs],
+        encodings=encs,
+        X=X,
+        y=y,
+        row_numbers=np.arange(2, n + 2),
+        means=X.mean(axis=0),
+        sds=X.std(axis=0),
+        category_levels={"process": ["washed", "natural", "honey"]},
+        focal_index=8,
+        warnings=["column 'lot' left out: it looks like an identifier"],
+    )
 
 
 def _std(X):
@@ -125,7 +155,7 @@ def _enet_path(X, y, mix, penalties):
         G, c = Z.T @ Z / n, Z.T @ yc / n
         B = np.array([np.linalg.solve(G + lam * np.eye(p), c) for lam in penalties])
     else:
-        _, coefs, _ = enet_path(Z, yc, l1_ratio=mix, alphas=penalties, max_iter=100_000, tol=1e-10)
+        _, coefs, _ = enet_path(Z, yc, l1_ratio=mix, alphas=penalties, max_iter=20_000, tol=1e-9)
         B = coefs.T
     b = B / s
     return B, b, y.mean() - b @ m
@@ -150,17 +180,29 @@ def _penalized(design, method, mix, folds, choose="min"):
     mean, se = E.mean(axis=0), E.std(axis=0, ddof=1) / np.sqrt(len(folds))
     i_min, i_1se = choose_index(mean, se, "min"), choose_index(mean, se, "one-se")
     k = i_min if choose == "min" else i_1se
-    curve = ValidationCurve(pen, "penalty", mean, se, (B != 0).sum(axis=1), E, i_min, i_1se, "kfold", len(folds))
+    curve = ValidationCurve(
+        pen, "penalty", mean, se, (B != 0).sum(axis=1), E, i_min, i_1se, "kfold", len(folds)
+    )
     path = PenaltyPath(pen, B, b, icpt, mix)
     names = design.names
     fitted = icpt[k] + X @ b[k]
     r2 = 1 - ((y - fitted) ** 2).sum() / ((y - y.mean()) ** 2).sum()
-    return ModelResult(method=method, intercept=float(icpt[k]),
-                       coefficients={nm: float(v) for nm, v in zip(names, b[k])},
-                       std_coefficients={nm: float(v) for nm, v in zip(names, B[k])},
-                       selected=[nm for nm, v in zip(names, B[k]) if v != 0], penalty=float(pen[k]),
-                       mix=mix, choice=choose, cv_error=float(mean[k]), cv_error_se=float(se[k]),
-                       r2=float(r2), fitted=fitted, path=path, curve=curve)
+    return ModelResult(
+        method=method,
+        intercept=float(icpt[k]),
+        coefficients={nm: float(v) for nm, v in zip(names, b[k])},
+        std_coefficients={nm: float(v) for nm, v in zip(names, B[k])},
+        selected=[nm for nm, v in zip(names, B[k]) if v != 0],
+        penalty=float(pen[k]),
+        mix=mix,
+        choice=choose,
+        cv_error=float(mean[k]),
+        cv_error_se=float(se[k]),
+        r2=float(r2),
+        fitted=fitted,
+        path=path,
+        curve=curve,
+    )
 
 
 def _ols(X, y):
@@ -183,13 +225,19 @@ def _post_lasso(design, lasso):
     b = np.zeros(len(names))
     b[keep] = coef[1:]
     fitted = A @ coef
-    r2 = 1 - (resid ** 2).sum() / ((y - y.mean()) ** 2).sum()
-    return ModelResult(method="post-lasso", intercept=float(coef[0]),
-                       coefficients={nm: float(v) for nm, v in zip(names, b)},
-                       std_coefficients={nm: float(v * s) for nm, v, s in zip(names, b, design.sds)},
-                       selected=list(lasso.selected), cv_error=lasso.cv_error, cv_error_se=lasso.cv_error_se,
-                       r2=float(r2), fitted=fitted,
-                       std_errors={names[j]: float(s) for j, s in zip(keep, se)})
+    r2 = 1 - (resid**2).sum() / ((y - y.mean()) ** 2).sum()
+    return ModelResult(
+        method="post-lasso",
+        intercept=float(coef[0]),
+        coefficients={nm: float(v) for nm, v in zip(names, b)},
+        std_coefficients={nm: float(v * s) for nm, v, s in zip(names, b, design.sds)},
+        selected=list(lasso.selected),
+        cv_error=lasso.cv_error,
+        cv_error_se=lasso.cv_error_se,
+        r2=float(r2),
+        fitted=fitted,
+        std_errors={names[j]: float(s) for j, s in zip(keep, se)},
+    )
 
 
 def _stepwise(design, folds):
@@ -210,7 +258,9 @@ def _stepwise(design, folds):
             if best is None or rss < best[0]:
                 best = (rss, j)
         order.append(best[1])
-        rows.append(SizeRow(len(order), [names[j] for j in order], float(best[0]), float(1 - best[0] / tss)))
+        rows.append(
+            SizeRow(len(order), [names[j] for j in order], float(best[0]), float(1 - best[0] / tss))
+        )
     sizes = np.arange(p + 1)
     E = []
     for tr, te in folds:
@@ -228,25 +278,57 @@ def _stepwise(design, folds):
     b = np.zeros(p)
     b[cols] = c[1:]
     fitted = c[0] + X @ b
-    return ModelResult(method="forward-stepwise", intercept=float(c[0]),
-                       coefficients={nm: float(v) for nm, v in zip(names, b)},
-                       std_coefficients={nm: float(v * s) for nm, v, s in zip(names, b, design.sds)},
-                       selected=[names[j] for j in cols], choice="min", cv_error=float(mean[i_min]),
-                       cv_error_se=float(se[i_min]), r2=rows[i_min].r2, fitted=fitted,
-                       curve=ValidationCurve(sizes.astype(float), "size", mean, se, sizes, E, i_min, i_1se),
-                       by_size=rows)
+    return ModelResult(
+        method="forward-stepwise",
+        intercept=float(c[0]),
+        coefficients={nm: float(v) for nm, v in zip(names, b)},
+        std_coefficients={nm: float(v * s) for nm, v, s in zip(names, b, design.sds)},
+        selected=[names[j] for j in cols],
+        choice="min",
+        cv_error=float(mean[i_min]),
+        cv_error_se=float(se[i_min]),
+        r2=rows[i_min].r2,
+        fitted=fitted,
+        curve=ValidationCurve(sizes.astype(float), "size", mean, se, sizes, E, i_min, i_1se),
+        by_size=rows,
+    )
 
 
-def make_result(tmp: Path, n: int = 80, seed: int = 7, name: str = "lots.xlsx") -> tuple[StudyResult, list[dict]]:
-    """Write the source workbook to ``tmp/name`` and return a study result on it plus the rows."""
+def make_result(
+    tmp: Path, n: int = 80, seed: int = 7, name: str = "lots.xlsx", writer=None
+) -> tuple[StudyResult, list[dict]]:
+    """Write the source workbook to ``tmp/name`` and return a study result on it plus the rows.
+
+    ``writer(path, rows)`` writes the source (default: a plain workbook with one sheet "Lots").
+    """
     rows = simulate_rows(n, seed)
     source = Path(tmp) / name
-    write_rows(source, rows)
-    design = build_design(rows, str(source))
-    spec = StudySpec(source=str(source), response="score", sheet="Lots",
-                     methods=("lasso", "ridge", "elastic-net", "post-lasso", "forward-stepwise"),
-                     folds=5, missing="fill", focal="price", stability_runs=10, exclude=("lot",),
-                     date_parts=True)
+    (writer or write_rows)(source, rows)
+    if (n, seed) not in _CACHE:
+        _CACHE[(n, seed)] = _fit_all(rows, n, seed)
+    result = copy.deepcopy(_CACHE[(n, seed)])
+    result.design.source = str(source)
+    result.spec = result.spec.replace(source=str(source))
+    return result, rows
+
+
+_CACHE: dict[tuple[int, int], StudyResult] = {}
+
+
+def _fit_all(rows: list[dict], n: int, seed: int) -> StudyResult:
+    design = build_design(rows, "")
+    spec = StudySpec(
+        source="",
+        response="score",
+        sheet="Lots",
+        methods=("lasso", "ridge", "elastic-net", "post-lasso", "forward-stepwise"),
+        folds=5,
+        missing="fill",
+        focal="price",
+        stability_runs=10,
+        exclude=("lot",),
+        date_parts=True,
+    )
     folds = [(tr, te) for tr, te in KFold(5, shuffle=True, random_state=0).split(design.X)]
     lasso = _penalized(design, "lasso", 1.0, folds)
     ridge = _penalized(design, "ridge", 0.0, folds)
@@ -265,9 +347,26 @@ def make_result(tmp: Path, n: int = 80, seed: int = 7, name: str = "lots.xlsx") 
     controls = [c for c in lasso.selected if c != "price"]
     cols = [design.names.index(c) for c in ["price", *controls]]
     coef = _ols(design.X[:, cols], design.y)
-    focal = FocalResult("price", float(coef[1]), 0.05, float(coef[1] - 0.098), float(coef[1] + 0.098),
-                        controls, controls, [], "plugin", naive_estimate=float(coef[1]) * 0.9)
-    result = StudyResult(spec=spec, design=design, models=[lasso, ridge, enet, post, step], focal=focal,
-                         stability=stab, warnings=["column 'lot' left out: it looks like an identifier"],
-                         tool_version="0.1.0", started="2026-01-05T10:00:00+00:00", seconds=1.5)
-    return result, rows
+    focal = FocalResult(
+        "price",
+        float(coef[1]),
+        0.05,
+        float(coef[1] - 0.098),
+        float(coef[1] + 0.098),
+        controls,
+        controls,
+        [],
+        "plugin",
+        naive_estimate=float(coef[1]) * 0.9,
+    )
+    return StudyResult(
+        spec=spec,
+        design=design,
+        models=[lasso, ridge, enet, post, step],
+        focal=focal,
+        stability=stab,
+        warnings=["column 'lot' left out: it looks like an identifier"],
+        tool_version="0.1.0",
+        started="2026-01-05T10:00:00+00:00",
+        seconds=1.5,
+    )

@@ -75,3 +75,57 @@ def test_hald_forward_stepwise_entry_order():
     # and the forward pair {x1, x4} (R^2 97.2%) is worse than the best pair {x1, x2}
     assert 1 - path.rss[1] / path.tss == pytest.approx(0.972, abs=6e-4)
     assert path.rss[1] > best_subset(X, y, max_size=2).rss[1]
+
+
+# --- inference after selection against statsmodels -------------------------------------------
+
+
+def _heteroskedastic(seed, n=120, p=8):
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p)) @ np.triu(np.full((p, p), 0.3)) + 2.0
+    y = 0.7 + X[:, 1] - X[:, 4] + (0.5 + np.abs(X[:, 1] - 2)) * rng.normal(size=n)
+    return X, y
+
+
+@pytest.mark.parametrize("cov_type", ["HC1", "HC3"])
+def test_post_lasso_standard_errors_equal_statsmodels(cov_type):
+    # Source: statsmodels OLS(...).fit(cov_type="HC1"/"HC3") (reference library), same columns.
+    import statsmodels.api as sm
+
+    from engine.fitting.post_selection import post_lasso
+
+    X, y = _heteroskedastic(3)
+    cols = [1, 4, 6]
+    ours = post_lasso(X, y, cols, cov_type=cov_type)
+    ref = sm.OLS(y, sm.add_constant(X[:, cols])).fit(cov_type=cov_type)
+    np.testing.assert_allclose(ours.intercept, ref.params[0], rtol=1e-10)
+    np.testing.assert_allclose(ours.coefs[cols], ref.params[1:], rtol=1e-10)
+    np.testing.assert_allclose(ours.intercept_se, ref.bse[0], rtol=1e-9)
+    np.testing.assert_allclose(ours.std_errors[cols], ref.bse[1:], rtol=1e-9)
+    np.testing.assert_allclose(ours.fit.covariance, ref.cov_params(), rtol=1e-9, atol=1e-14)
+    np.testing.assert_allclose(ours.r2, ref.rsquared, rtol=1e-10)
+
+
+@pytest.mark.parametrize("cov_type", ["HC1", "HC3"])
+def test_double_selection_standard_error_equals_statsmodels(cov_type):
+    # Source: statsmodels OLS with cov_type="HC1"/"HC3" (reference library) on the focal column
+    # plus the union of selected controls.
+    import statsmodels.api as sm
+
+    from engine.fitting.double_selection import double_selection
+
+    rng = np.random.default_rng(11)
+    n, m = 150, 30
+    W = rng.normal(size=(n, m))
+    d = W[:, 0] + 0.5 * W[:, 3] + rng.normal(size=n)
+    y = 0.8 * d + W[:, 0] - W[:, 5] + (1 + np.abs(W[:, 1])) * rng.normal(size=n)
+    res = double_selection(y, d, W, cov_type=cov_type)
+    assert res.controls.size > 0
+    ref = sm.OLS(y, sm.add_constant(np.column_stack([d, W[:, res.controls]]))).fit(
+        cov_type=cov_type
+    )
+    assert res.estimate == pytest.approx(ref.params[1], rel=1e-10)
+    assert res.std_error == pytest.approx(ref.bse[1], rel=1e-9)
+    lo, hi = ref.conf_int(alpha=0.05)[1]  # normal-based interval under a robust covariance
+    assert res.ci_low == pytest.approx(lo, rel=1e-9)
+    assert res.ci_high == pytest.approx(hi, rel=1e-9)

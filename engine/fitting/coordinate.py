@@ -51,6 +51,7 @@ from sklearn.linear_model._cd_fast import (
     enet_coordinate_descent,
     enet_coordinate_descent_gram,
 )
+from threadpoolctl import threadpool_limits
 
 from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
@@ -115,6 +116,12 @@ class _GramProblem:
         self.p = q.shape[0]
         self.r_norm2 = self.yy
 
+    def gram_block(self, A: np.ndarray) -> np.ndarray:
+        return self.Q[np.ix_(A, A)]
+
+    def cross_block(self, A: np.ndarray, B: np.ndarray) -> np.ndarray:
+        return self.Q[np.ix_(A, B)]
+
     def gradient(self, beta: np.ndarray) -> np.ndarray:
         """z_j' r for all columns, r = yc - Z beta."""
         nz = np.flatnonzero(beta)
@@ -174,6 +181,17 @@ class _ResidualProblem:
         Zw = np.asfortranarray((sub - self.sc.means[W]) * self.inv_sd[W])
         self._cache_key, self._cache_cols = key, Zw
         return Zw
+
+    def gram_block(self, A: np.ndarray) -> np.ndarray:
+        Za = self._zcols(A)
+        return Za.T @ Za
+
+    def cross_block(self, A: np.ndarray, B: np.ndarray) -> np.ndarray:
+        return self._zcols(A).T @ self._zcols(B)
+
+    def _zcols(self, A: np.ndarray) -> np.ndarray:
+        sub = self.X[:, A] if self.rows is None else self.X[np.ix_(self.rows, A)]
+        return (sub - self.sc.means[A]) * self.inv_sd[A]
 
     def gradient(self, beta: np.ndarray) -> np.ndarray:
         nz = np.flatnonzero(beta)
@@ -393,6 +411,153 @@ def _violation(g, beta, lam, mix, v, n):
     return out
 
 
+# an exact active-set solution is accepted when no condition is off by more than this share
+# of ||Z'yc||_inf (rounding level; anything looser is left to coordinate descent)
+_EXACT_ACCEPT = 1e-10
+# tries per penalty of the exact solution with columns added as they violate their condition
+_EXACT_TRIES = 3
+
+
+class _GrowingCholesky:
+    """Cholesky factor L L' = Z_S'Z_S of an ordered column set S, grown one column at a time."""
+
+    def __init__(self, prob):
+        self.prob = prob
+        self.order: list[int] = []
+        self.L = np.zeros((0, 0))
+        self.pos: dict[int, int] = {}
+
+    def fit(self, A: np.ndarray) -> bool:
+        from scipy.linalg import LinAlgError, cholesky, solve_triangular
+
+        wanted = set(A.tolist())
+        gone = [i for i, j in enumerate(self.order) if j not in wanted]
+        if gone:  # keep the factor of the prefix before the first leaving column (free)
+            cut = gone[0]
+            suffix = [j for j in self.order[cut:] if j in wanted]
+            self.order, self.L = self.order[:cut], self.L[:cut, :cut].copy()
+            have = set(self.order)
+            new = suffix + sorted(wanted - have - set(suffix))
+        else:
+            new = sorted(wanted - set(self.order))
+        if not new:
+            return True
+        old = np.array(self.order, dtype=np.intp)
+        new_a = np.array(new, dtype=np.intp)
+        C = self.prob.gram_block(new_a)
+        k0, k1 = old.size, new_a.size
+        L = np.zeros((k0 + k1, k0 + k1))
+        L[:k0, :k0] = self.L
+        if k0:
+            B = self.prob.cross_block(old, new_a)
+            L21 = solve_triangular(self.L, B, lower=True, check_finite=False).T
+            C = C - L21 @ L21.T
+            L[k0:, :k0] = L21
+        try:
+            L22 = cholesky(C, lower=True, check_finite=False)
+        except (LinAlgError, ValueError):
+            L22 = None
+        diag_ref = np.diag(self.prob.gram_block(new_a)) if L22 is not None else None
+        if L22 is None or np.any(np.diag(L22) ** 2 <= 1e-10 * diag_ref):
+            self.order, self.L, self.pos = [], np.zeros((0, 0)), {}
+            return False  # (numerically) dependent columns
+        L[k0:, k0:] = L22
+        self.order = self.order + new
+        self.L = L
+        self.pos = {j: i for i, j in enumerate(self.order)}
+        return True
+
+    def solve(self, A: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+        from scipy.linalg import cho_solve
+
+        idx = np.array([self.pos[j] for j in A.tolist()])
+        r = np.zeros(len(self.order))
+        r[idx] = rhs
+        x = cho_solve((self.L, True), r, check_finite=False)
+        return x[idx]
+
+
+class _ActiveSetSolver:
+    """Exact solution for a given active set A and signs s (the optimality conditions solved
+    as linear equations): beta_A = (Z_A'Z_A + n*lambda*(1-mix)*V_A)^-1 (Z_A'yc - n*lambda*mix*V_A s).
+
+    Valid only if the signs come out as assumed and every inactive column satisfies its
+    condition; both are checked, so it never replaces a correct answer by a wrong one. The
+    factorization is kept while the active set stays the same, so along a fine grid most
+    penalties cost one triangular solve and one gradient.
+    """
+
+    def __init__(self, prob, mix: float, v: np.ndarray):
+        self.prob = prob
+        self.mix = mix
+        self.v = v
+        self.n = prob.n
+        self._key: bytes | None = None
+        self._QA: np.ndarray | None = None
+        self._chol = _GrowingCholesky(prob)
+
+    def _solve(self, A: np.ndarray, sA: np.ndarray, lam: float) -> np.ndarray | None:
+        from scipy.linalg import LinAlgError, cho_factor, cho_solve
+
+        if A.size >= self.n:  # centred data have rank < n: no unique solution
+            return None
+        n, mix, v = self.n, self.mix, self.v
+        rhs = self.prob.q[A] - n * lam * mix * v[A] * sA
+        if mix == 1.0:
+            # lasso: Z_A'Z_A does not change with lambda; grow its Cholesky factor column by
+            # column as the active set grows, refactor only when a column leaves
+            if not self._chol.fit(A):
+                return None
+            return self._chol.solve(A, rhs)
+        key = A.tobytes()
+        if key != self._key:
+            self._QA = self.prob.gram_block(A)
+            self._key = key
+        M = self._QA + np.diag(n * lam * (1.0 - mix) * v[A])
+        try:
+            return cho_solve(cho_factor(M, check_finite=False), rhs, check_finite=False)
+        except (LinAlgError, ValueError):
+            return None
+
+    def _candidate(self, A, sA, lam):
+        bA = self._solve(A, sA, lam)
+        if bA is None or not np.all(np.isfinite(bA)) or np.any(np.sign(bA) != sA):
+            return None
+        beta = np.zeros(self.prob.p)
+        beta[A] = bA
+        return beta, self.prob.gradient(beta)
+
+    def try_exact(self, beta_prev: np.ndarray, lam: float, accept_abs: float):
+        l1 = self.n * lam * self.mix * self.v
+        A = np.flatnonzero(beta_prev)
+        sA = np.sign(beta_prev[A])
+        for _ in range(_EXACT_TRIES):
+            cand = self._candidate(A, sA, lam)
+            if cand is None:
+                return None
+            beta, g = cand
+            excess = np.abs(g) - l1
+            excess[A] = -np.inf
+            bad = np.flatnonzero(excess > accept_abs)
+            if bad.size == 0:
+                return beta, g
+            order = np.argsort(A.tolist() + bad.tolist(), kind="stable")
+            A = np.concatenate([A, bad])[order]
+            sA = np.concatenate([sA, np.sign(g[bad])])[order]
+        return None
+
+    def polish(self, beta: np.ndarray, g: np.ndarray, lam: float):
+        A = np.flatnonzero(beta)
+        cand = self._candidate(A, np.sign(beta[A]), lam)
+        if cand is None:
+            return None
+        b2, g2 = cand
+        n, mix, v = self.n, self.mix, self.v
+        before = np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)
+        after = np.max(_violation(g2, b2, lam, mix, v, n), initial=0.0)
+        return (b2, g2) if after <= before else None
+
+
 def solve_path(
     prob,
     penalties: np.ndarray,
@@ -428,7 +593,9 @@ def solve_path(
     kkt = np.zeros(L)
     notes: list[str] = []
     scale_den = kkt_scale if kkt_scale is not None else _g_scale(prob)
+    accept_abs = _EXACT_ACCEPT * scale_den
     rng = np.random.RandomState(0)  # only seeds the unused random-order option
+    direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
 
     beta = np.zeros(p)
     g = prob.q.copy()
@@ -440,45 +607,58 @@ def solve_path(
         if progress is not None:
             progress.check()
         lam = float(penalties[k])
-        if mix > 0:
-            strong = ever | (np.abs(g) >= l1w * (2.0 * lam - prev))
-        else:
-            strong = np.ones(p, bool)
         total_it = 0
-        while True:
-            W = np.flatnonzero(strong)
-            if W.size:
-                vw = v[W]
-                scale = None if uniform and v[0] == 1.0 else 1.0 / vw
-                alpha = n * lam * mix
-                l2 = n * lam * (1.0 - mix)
-                l2_diag = None
-                beta_l2 = l2
-                if uniform:
-                    beta_l2 = l2 / v[0]
-                elif l2 > 0:
-                    l2_diag, beta_l2 = l2 / vw, 0.0
-                gamma0 = beta[W] * vw
-                gam, it, unconverged = prob.solve(
-                    W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng
-                )
-                total_it += it
-                if unconverged:
-                    notes.append(
-                        f"coordinate descent stopped at {max_sweeps} sweeps before converging "
-                        f"at penalty {lam:.4g}"
-                    )
-                beta[:] = 0.0
-                beta[W] = gam / vw
+        # 1. the exact solution on the previous active set (plus entering columns), if its
+        #    signs and every optimality condition hold, is the answer without any sweep
+        exact = None
+        if direct is not None and np.any(beta):
+            exact = direct.try_exact(beta, lam, accept_abs)
+        if exact is not None:
+            beta, g = exact
+        else:
+            if mix > 0:
+                strong = ever | (np.abs(g) >= l1w * (2.0 * lam - prev))
             else:
-                beta[:] = 0.0
-            g = prob.gradient(beta)
-            if mix == 0:
-                break
-            outside = ~strong & (np.abs(g) > l1w * lam)
-            if not outside.any():
-                break
-            strong |= outside
+                strong = np.ones(p, bool)
+            while True:
+                W = np.flatnonzero(strong)
+                if W.size:
+                    vw = v[W]
+                    scale = None if uniform and v[0] == 1.0 else 1.0 / vw
+                    alpha = n * lam * mix
+                    l2 = n * lam * (1.0 - mix)
+                    l2_diag = None
+                    beta_l2 = l2
+                    if uniform:
+                        beta_l2 = l2 / v[0]
+                    elif l2 > 0:
+                        l2_diag, beta_l2 = l2 / vw, 0.0
+                    gamma0 = beta[W] * vw
+                    gam, it, unconverged = prob.solve(
+                        W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng
+                    )
+                    total_it += it
+                    if unconverged:
+                        notes.append(
+                            f"coordinate descent stopped at {max_sweeps} sweeps before "
+                            f"converging at penalty {lam:.4g}"
+                        )
+                    beta = np.zeros(p)
+                    beta[W] = gam / vw
+                else:
+                    beta = np.zeros(p)
+                g = prob.gradient(beta)
+                if mix == 0:
+                    break
+                outside = ~strong & (np.abs(g) > l1w * lam)
+                if not outside.any():
+                    break
+                strong |= outside
+            # 2. polish: the exact solution on the active set coordinate descent found
+            if direct is not None and np.any(beta):
+                polished = direct.polish(beta, g, lam)
+                if polished is not None:
+                    beta, g = polished
         ever |= beta != 0
         out[k] = beta
         iters[k] = total_it
@@ -606,7 +786,9 @@ def elastic_net_path(
         )
     v = normalize_penalty_factors(penalty_factors, X.shape[1])
     prob, sc = build_problem(X, y, use_gram=use_gram)
-    return _path_from(prob, sc, mix, lam, n_penalties, ratio, v, tol, max_sweeps, progress)
+    # the path itself is many small linear-algebra calls: one BLAS thread avoids contention
+    with threadpool_limits(limits=1, user_api="blas"):
+        return _path_from(prob, sc, mix, lam, n_penalties, ratio, v, tol, max_sweeps, progress)
 
 
 def kkt_violation(

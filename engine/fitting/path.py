@@ -29,7 +29,7 @@ class PenaltyPath:
     n_iter: np.ndarray | None = None  # (L,) coordinate-descent sweeps, when applicable
     max_kkt_violation: float | None = None  # largest violation of the optimality conditions
     kkt_violations: np.ndarray | None = None  # (L,) the same measure at each penalty
-    df: np.ndarray | None = None  # (L,) effective degrees of freedom (ridge: trace of the hat matrix)
+    df: np.ndarray | None = None  # (L,) degrees of freedom (ridge: trace of the hat matrix)
     notes: list[str] = field(default_factory=list)  # non-fatal numerical trouble, in words
 
     @property

@@ -1,0 +1,232 @@
+"""Cross-validation of a whole penalty path: held-out squared error at every penalty.
+
+For each validation part the centring and scaling are recomputed on the training rows only
+(no leakage from the held-out rows), the path is fitted on the training rows along the SAME
+penalty grid (the grid of the full data, common practice), and the mean squared error of
+the held-out rows is recorded at every penalty. The curve is the mean over parts; its standard
+error is std(part errors, ddof=1) / sqrt(parts).
+
+Cost. When rows outnumber columns, the centred cross products X'X, X'y, y'y of all rows are
+formed once (row blocks, no copy); a training part's standardized Gram matrix is that total
+minus the held-out rows' own cross products, with the shift to the part's means and the
+division by its sds done algebraically. Otherwise the solver reads the training rows of X in
+place (only the working columns are copied). Parts run in parallel threads (the compiled
+coordinate descent releases the GIL) with one BLAS thread per worker.
+"""
+
+from __future__ import annotations
+
+__all__ = ["cross_validate_path", "fold_errors"]
+
+import os
+from collections.abc import Callable, Sequence
+
+import numpy as np
+from joblib import Parallel, delayed
+from threadpoolctl import threadpool_limits
+
+from engine.fitting.coordinate import (
+    _check_penalties,
+    _check_xy,
+    _problem_lambda_max,
+    _residual_problem,
+    _Scaling,
+    build_problem,
+    cross_products,
+    default_ratio,
+    gram_problem,
+    normalize_penalty_factors,
+    penalty_grid,
+    solve_path,
+)
+from engine.fitting.ridge import RIDGE_RATIO, RidgeDecomposition
+from engine.fitting.standardize import column_moments
+from engine.progress import Progress
+from engine.tuning.curve import ValidationCurve, choose_index
+
+PenaltyFactors = np.ndarray | Callable[[np.ndarray, np.ndarray], np.ndarray] | None
+
+
+class _SharedSums:
+    """Centred cross products of all rows, computed once for every part (Gram route)."""
+
+    def __init__(self, X: np.ndarray, y: np.ndarray):
+        self.m0, sds, self.constant = column_moments(X)
+        self.ref_var = np.where(self.constant, 0.0, sds**2)
+        self.ybar0 = float(y.mean())
+        self.total = cross_products(X, y, self.m0, self.ybar0)
+
+    def problem(self, X, y, train: np.ndarray):
+        n = X.shape[0]
+        if 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
+            cp = cross_products(X, y, self.m0, self.ybar0, train)
+        else:
+            mask = np.ones(n, bool)
+            mask[train] = False
+            cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
+        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var)
+
+
+def fold_errors(
+    X: np.ndarray,
+    y: np.ndarray,
+    train: np.ndarray,
+    test: np.ndarray,
+    mix: float,
+    penalties: np.ndarray,
+    penalty_factors: PenaltyFactors = None,
+    shared: _SharedSums | None = None,
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    progress: Progress | None = None,
+) -> tuple[np.ndarray, float, list[str]]:
+    """Held-out mean squared error at each penalty for one part; also its KKT violation and notes."""
+    p = X.shape[1]
+    if callable(penalty_factors):
+        v = normalize_penalty_factors(penalty_factors(X[train], y[train]), p)
+    else:
+        v = normalize_penalty_factors(penalty_factors, p)
+    if shared is not None:
+        prob, sc = shared.problem(X, y, train)
+    else:
+        prob, sc = _residual_problem(X, y, train)
+    notes: list[str] = []
+    if mix == 0 and np.all(v == 1.0):
+        B = RidgeDecomposition(prob, sc).std_coefs(penalties, progress)
+        kkt = 0.0
+    else:
+        res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress)
+        B, kkt, notes = res.std_coefs, float(np.max(res.kkt, initial=0.0)), res.notes
+    return _held_out_mse(X, y, test, sc, B), kkt, notes
+
+
+def _held_out_mse(X, y, test, sc: _Scaling, B: np.ndarray) -> np.ndarray:
+    coefs = B / sc.sds
+    coefs[:, sc.constant] = 0.0
+    pred = (X[test] - sc.means) @ coefs.T + sc.y_mean  # (n_test, L)
+    resid = y[test][:, None] - pred
+    return np.mean(resid**2, axis=0)
+
+
+def cross_validate_path(
+    X: np.ndarray,
+    y: np.ndarray,
+    parts: Sequence[tuple[np.ndarray, np.ndarray]],
+    mix: float,
+    penalties: np.ndarray | None,
+    penalty_factors: PenaltyFactors = None,
+    choose: str = "min",
+    progress: Progress | None = None,
+    workers: int | None = None,
+    n_selected: np.ndarray | None = None,
+    scheme: str = "kfold",
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    use_gram: bool | None = None,
+    diagnostics: dict | None = None,
+) -> ValidationCurve:
+    """Validation curve of the penalized fit (mix: 1 lasso, 0 ridge) over ``parts``.
+
+    X: (n, p) original units; y: (n,); parts: (train_idx, test_idx) pairs from make_folds.
+    penalties: the grid (decreasing; taken from the full data when None). penalty_factors: an
+    array, or a callable f(X_train, y_train) -> array recomputed inside each part (adaptive
+    lasso). n_selected: count of nonzero coefficients of the full-data path at each penalty
+    (computed here with one extra full-data path when not given). workers: parallel parts
+    (default: number of cores). diagnostics: optional dict filled with "max_kkt_violation"
+    (over parts) and "notes".
+    """
+    X, y = _check_xy(X, y)
+    if choose not in ("min", "one-se"):
+        raise ValueError(f"choose must be 'min' or 'one-se', got {choose!r}")
+    if not 0.0 <= mix <= 1.0:
+        raise ValueError(f"mix must lie in [0, 1], got {mix}")
+    n, p = X.shape
+    parts = [(np.asarray(tr, dtype=np.intp), np.asarray(te, dtype=np.intp)) for tr, te in parts]
+    if not parts:
+        raise ValueError("no validation parts were given")
+    if progress is not None:
+        progress.step(0.0, "validation: preparing")
+    lam = _check_penalties(penalties)
+    full_v = None if callable(penalty_factors) else penalty_factors
+    if callable(penalty_factors):
+        full_v = penalty_factors(X, y)
+    if lam is None:
+        prob, _ = build_problem(X, y)
+        v = normalize_penalty_factors(full_v, p)
+        if mix == 0:
+            lam_max = float(np.max(np.abs(prob.q))) / n / 1e-3
+            lam = penalty_grid(lam_max, 100, RIDGE_RATIO)
+        else:
+            lam = penalty_grid(_problem_lambda_max(prob, mix, v), 100, default_ratio(n, p))
+
+    gram = (n > p) if use_gram is None else use_gram
+    shared = _SharedSums(X, y) if gram else None
+    if workers is None:
+        workers = os.cpu_count() or 1
+    workers = max(1, min(int(workers), len(parts)))
+
+    child = progress.part(0.0, 1.0) if progress is not None else None
+
+    def run(k: int):
+        tr, te = parts[k]
+        return k, fold_errors(
+            X, y, tr, te, mix, lam, penalty_factors, shared, tol, max_sweeps, child
+        )
+
+    errors = np.zeros((len(parts), lam.shape[0]))
+    kkt_max = 0.0
+    notes: set[str] = set()
+    done = 0
+
+    def collect(item):
+        nonlocal kkt_max, done
+        k, (err, kkt, nts) = item
+        errors[k] = err
+        kkt_max = max(kkt_max, kkt)
+        notes.update(nts)
+        done += 1
+        if progress is not None:
+            progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
+
+    # one BLAS thread per worker: the fold work is many small calls that contend otherwise
+    with threadpool_limits(limits=1, user_api="blas"):
+        if workers == 1:
+            for k in range(len(parts)):
+                collect(run(k))
+        else:
+            gen = Parallel(n_jobs=workers, backend="threading", return_as="generator_unordered")(
+                delayed(run)(k) for k in range(len(parts))
+            )
+            for item in gen:
+                collect(item)
+
+    mean = errors.mean(axis=0)
+    if len(parts) > 1:
+        se = errors.std(axis=0, ddof=1) / np.sqrt(len(parts))
+    else:
+        se = np.full(lam.shape[0], np.nan)
+    if n_selected is None:
+        from engine.fitting.coordinate import elastic_net_path
+        from engine.fitting.ridge import ridge_path
+
+        if mix == 0 and full_v is None:
+            n_selected = ridge_path(X, y, penalties=lam, check_kkt=False).n_selected
+        else:
+            n_selected = elastic_net_path(
+                X, y, mix, penalties=lam, penalty_factors=full_v, tol=tol
+            ).n_selected
+    if diagnostics is not None:
+        diagnostics["max_kkt_violation"] = kkt_max
+        diagnostics["notes"] = sorted(notes)
+    return ValidationCurve(
+        grid=lam,
+        grid_kind="penalty",
+        mean_error=mean,
+        se=se,
+        n_selected=np.asarray(n_selected),
+        part_errors=errors,
+        index_min=choose_index(mean, se, "min"),
+        index_one_se=choose_index(mean, se, "one-se"),
+        scheme=scheme,
+        parts=len(parts),
+    )

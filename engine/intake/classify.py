@@ -290,7 +290,7 @@ def _classify_mixed(
     n_dates = int(counts[_DATE] + counts[_TEXT_DATE])
     numbers_ok = not (any_code and counts[_NUMBER] == 0)
 
-    if n_words and n_flaglike >= DOMINANT_SHARE * usable:
+    if n_words and n_flaglike >= _share(usable):
         keep = ~np.isnan(flags)
         bad = unusable_note(keep, "yes/no values")
         values = np.full(n, np.nan)
@@ -298,7 +298,7 @@ def _classify_mixed(
         col = Column(name, heading, letter, ColumnKind.FLAG, values)
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, np.unique(flags[keep]))
-    elif numbers_ok and n_numeric and n_numeric >= DOMINANT_SHARE * usable:
+    elif numbers_ok and n_numeric and n_numeric >= _share(usable):
         keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER))
         bad = unusable_note(keep, "numbers")
         values = np.full(n, np.nan)
@@ -317,7 +317,7 @@ def _classify_mixed(
                 f"{col.text_numbers} number{'s' if col.text_numbers > 1 else ''} stored as text read as "
                 f"number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} '{shown[first]}')"
             )
-    elif n_dates and n_dates >= DOMINANT_SHARE * usable:
+    elif n_dates and n_dates >= _share(usable):
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
         bad = unusable_note(keep, "dates")
         values = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
@@ -361,6 +361,11 @@ def _classify_mixed(
     col.errors = n_errors
     col.notes = notes
     return col
+
+
+def _share(usable: int) -> float:
+    """How many values of one kind decide the column (with slack for float rounding)."""
+    return DOMINANT_SHARE * usable - 1e-9
 
 
 def _iso(value: np.datetime64) -> str:

@@ -62,11 +62,11 @@ def _decode(data: bytes, place: Place) -> tuple[str, str]:
 def _sniff_delimiter(sample: str) -> str:
     best, best_score = ",", (-1, 0)
     for order, d in enumerate(_DELIMITERS):
-        counts = [
-            len(r)
-            for r in csv.reader(io.StringIO(sample), delimiter=d)
-            if any(c.strip() for c in r)
-        ]
+        try:
+            reader = csv.reader(io.StringIO(sample, newline=""), delimiter=d)
+            counts = [len(r) for r in reader if any(c.strip() for c in r)]
+        except csv.Error:
+            continue
         if not counts:
             continue
         width, freq = Counter(counts).most_common(1)[0]

@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 
-class ColumnKind(str, Enum):
+class ColumnKind(str, Enum):  # noqa: UP042 (str() of a member stays "ColumnKind.X")
     """What a column holds, as intake detected it."""
 
     NUMBER = "number"  # float64 values, NaN where missing

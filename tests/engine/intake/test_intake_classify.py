@@ -1,0 +1,104 @@
+"""The column-kind rules at their edges (cells built directly, as the reader hands them on)."""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import numpy as np
+import pytest
+
+from engine.intake.classify import (
+    CATEGORY_MAX_LEVELS,
+    DOMINANT_SHARE,
+    UNCACHED,
+    classify_column,
+)
+from engine.intake.table import ColumnKind
+
+
+def _col(cells, **kw):
+    arr = np.empty(len(cells), dtype=object)
+    arr[:] = cells
+    rows = np.arange(2, len(cells) + 2)
+    return classify_column(arr, name="c", heading="c", letter="C", row_numbers=rows, **kw)
+
+
+def test_share_threshold_for_numbers():
+    n = 20
+    k = round(n * (1 - DOMINANT_SHARE))  # exactly at the threshold: still a number column
+    col = _col([float(i) for i in range(n - k)] + ["x"] * k)
+    assert col.kind == ColumnKind.NUMBER and col.missing == k
+    col = _col([float(i) for i in range(n - k - 1)] + [f"x{i}" for i in range(k + 1)])
+    assert col.kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER)
+    assert col.values[0] == "0"  # numbers in a text column keep the text a person sees
+
+
+def test_numbers_with_blanks_take_the_vector_path():
+    col = _col([1.0, "", 3, "", 5.5])
+    assert col.kind == ColumnKind.NUMBER
+    assert col.missing == 2 and col.distinct == 3 and col.minimum == 1.0 and col.maximum == 5.5
+
+
+def test_zero_one_numbers_are_a_flag_only_with_both_values():
+    assert _col([0.0, 1.0, 1.0, 0.0]).kind == ColumnKind.FLAG
+    ones = _col([1.0, 1.0, 1.0])
+    assert ones.kind == ColumnKind.NUMBER and ones.constant
+    yes = _col(["yes", "Yes", " YES "])
+    assert yes.kind == ColumnKind.FLAG and yes.constant and yes.values.tolist() == [1.0, 1.0, 1.0]
+
+
+def test_mixed_flag_tokens():
+    col = _col([True, "no", "Y", "n", 1.0, "0", "FALSE", ""])
+    assert col.kind == ColumnKind.FLAG
+    assert col.values[:7].tolist() == [1.0, 0.0, 1.0, 0.0, 1.0, 0.0, 0.0]
+    assert np.isnan(col.values[7]) and col.missing == 1
+
+
+def test_category_versus_identifier():
+    labels = ["a", "b"] * 10
+    assert _col(labels).kind == ColumnKind.CATEGORY
+    half = [f"k{i}" for i in range(10)] * 2  # 10 distinct of 20: still a category
+    assert _col(half).kind == ColumnKind.CATEGORY
+    more = [f"k{i}" for i in range(11)] + [f"k{i}" for i in range(9)]
+    assert _col(more).kind == ColumnKind.IDENTIFIER
+    many = [f"k{i}" for i in range(CATEGORY_MAX_LEVELS + 1)] * 3
+    assert _col(many).kind == ColumnKind.IDENTIFIER
+
+
+def test_dates_and_date_text():
+    cells = [dt.date(2020, 1, 2), dt.datetime(2020, 1, 3, 12, 0), "2020-01-05", "", "#REF!"]
+    col = _col(cells)
+    assert col.kind == ColumnKind.DATE and col.errors == 1 and col.missing == 2
+    assert col.minimum == "2020-01-02" and col.maximum == "2020-01-05"
+    assert col.values[1] == np.datetime64("2020-01-03T12:00")
+
+
+def test_ambiguous_day_month_gets_a_note():
+    col = _col(["01/02/2021", "03/04/2021"], day_first=True)
+    assert col.minimum == "2021-02-01"
+    assert any("either way" in n for n in col.notes)
+    col = _col(["01/02/2021", "03/04/2021"], day_first=False)
+    assert col.minimum == "2021-01-02"
+
+
+def test_uncached_formulas_are_missing_not_errors():
+    col = _col([1.0, UNCACHED, 2.0, UNCACHED])
+    assert col.kind == ColumnKind.NUMBER and col.missing == 2 and col.errors == 0
+
+
+def test_all_errors_is_empty_with_count():
+    col = _col(["#N/A", "#DIV/0!", ""])
+    assert col.kind == ColumnKind.EMPTY and col.errors == 2 and col.missing == 3
+
+
+def test_text_numbers_not_counted_for_text_files():
+    col = _col(["1", "2,5", "3"], decimal=",", from_text_file=True)
+    assert col.kind == ColumnKind.NUMBER and col.text_numbers == 0
+    assert col.values.tolist() == [1.0, 2.5, 3.0]
+
+
+def test_durations_and_times_do_not_crash():
+    col = _col([dt.timedelta(hours=12), dt.timedelta(days=1)])
+    assert col.values.tolist() == pytest.approx([0.5, 1.0])
+    col = _col([dt.time(8, 30), dt.time(9, 0), dt.time(8, 30), dt.time(9, 0)])
+    assert col.kind == ColumnKind.CATEGORY and col.levels == ["08:30:00", "09:00:00"]

@@ -1,0 +1,85 @@
+"""`tamis score`: predictions written to a new workbook, equal to the stored model's."""
+
+from __future__ import annotations
+
+import io
+from pathlib import Path
+from types import SimpleNamespace
+
+import numpy as np
+import openpyxl
+import pytest
+from study_fixture import make_result, simulate_rows, write_rows
+
+from engine.commands import score
+from engine.errors import InputProblem
+from engine.intake import read_table
+from engine.report import load_scoring_model, write_results
+
+
+def _ctx():
+    return SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO())
+
+
+@pytest.fixture(scope="module")
+def setup(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("score")
+    result, _ = make_result(tmp)
+    results = write_results(result, out=tmp / "results.xlsx")
+    new = tmp / "new-lots.xlsx"
+    write_rows(new, simulate_rows(30, seed=11))
+    return result, results, new
+
+
+def test_score_writes_predictions_beside_the_book(setup):
+    _, results, new = setup
+    before = new.read_bytes()
+    ctx = _ctx()
+    code = score.run(
+        SimpleNamespace(book=str(new), results=str(results), sheet=None, out=None), ctx
+    )
+    assert code == 0
+    out = new.with_name("new-lots-scored.xlsx")
+    assert out.exists() and new.read_bytes() == before
+    wb = openpyxl.load_workbook(out, read_only=True)
+    assert wb.sheetnames == ["Lots", "TM Predictions"]
+    rows = list(wb["TM Predictions"].iter_rows(min_row=5, values_only=True))
+    head = next(wb["TM Predictions"].iter_rows(min_row=4, max_row=4, values_only=True))
+    k = next(i for i, h in enumerate(head) if str(h).startswith("Prediction"))
+    got = np.array([r[k] if r[k] is not None else np.nan for r in rows], dtype=float)
+    want = load_scoring_model(results).predict(read_table(new))
+    np.testing.assert_allclose(got, want, rtol=1e-14)
+    # gaps in 'rain' are filled with the stored median when the model uses rain
+    assert np.isfinite(got).all()
+    assert "scored 30 of 30" in ctx.stdout.getvalue()
+
+
+def test_score_refuses_to_overwrite_the_book(setup):
+    _, results, new = setup
+    with pytest.raises(InputProblem, match="being scored"):
+        score.run(
+            SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(new)), _ctx()
+        )
+
+
+def test_score_with_a_book_that_is_not_results(setup):
+    _, _, new = setup
+    with pytest.raises(InputProblem, match="TM Settings"):
+        score.run(SimpleNamespace(book=str(new), results=str(new), sheet=None, out=None), _ctx())
+
+
+def test_score_through_the_command_line(setup, tmp_path):
+    from engine.cli import main
+
+    _, results, new = setup
+    out = tmp_path / "p.xlsx"
+    ctx = SimpleNamespace(
+        stdout=io.StringIO(),
+        stderr=io.StringIO(),
+        interactive=False,
+        config_dir=tmp_path,
+        log_file=tmp_path / "log",
+    )
+    code = main(["score", str(new), "--results", str(results), "--out", str(out)], ctx)
+    assert code == 0, ctx.stderr.getvalue()
+    assert Path(out).exists()

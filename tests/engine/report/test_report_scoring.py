@@ -1,0 +1,122 @@
+"""The scoring model: three routes to the same prediction must agree.
+
+Routes: (1) the study's fitted values (design matrix times coefficients), (2) ``ScoringModel``
+on rows read back by intake from the source workbook, (3) the Python mirror of the scoring
+sheet's formulas on the example cells. Plus the settings sheet round trip and the input
+problems (renamed column, unseen level).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from study_fixture import HEADINGS, make_result, simulate_rows, write_rows
+
+from engine.errors import InputProblem
+from engine.intake import read_table
+from engine.report import ScoringModel, load_scoring_model, read_settings, write_results
+from engine.report.sheets.scoring import example_rows
+
+
+@pytest.fixture(scope="module")
+def study(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("scoring")
+    result, rows = make_result(tmp)
+    out = write_results(result, out=tmp / "results.xlsx")
+    return result, rows, out, tmp
+
+
+def test_model_on_intake_rows_equals_fitted_values(study):
+    result, _, _, _ = study
+    table = read_table(result.spec.source, sheet="Lots")
+    for m in result.models:
+        pred = ScoringModel.from_result(result, m.method).predict(table)
+        np.testing.assert_allclose(pred, m.fitted, rtol=1e-12, atol=1e-9)
+
+
+def test_sheet_formula_mirror_on_example_cells_equals_fitted_values(study):
+    result, _, _, _ = study
+    for m in result.models:
+        model = ScoringModel.from_result(result, m.method)
+        for i, cells in enumerate(example_rows(result, model)):
+            encoded = [model.cell_value(e, cells.get(e.source)) for e in model.encodings]
+            assert model.sheet_prediction(encoded) == pytest.approx(m.fitted[i], rel=1e-12)
+
+
+def test_best_model_is_the_smallest_cv_error(study):
+    result, _, out, _ = study
+    best = min(result.models, key=lambda m: m.cv_error)
+    assert load_scoring_model(out).method == best.method
+
+
+def test_settings_round_trip(study):
+    result, _, out, _ = study
+    assert read_settings(out) == result.spec
+    for m in result.models:
+        stored = load_scoring_model(out, m.method)
+        direct = ScoringModel.from_result(result, m.method)
+        assert [e.name for e in stored.encodings] == [e.name for e in direct.encodings]
+        # numbers pass through cells written with 16 significant digits
+        for a, b in zip(stored.encodings, direct.encodings):
+            assert (a.name, a.source, a.kind, a.level, a.origin, a.reference) == (
+                b.name,
+                b.source,
+                b.kind,
+                b.level,
+                b.origin,
+                b.reference,
+            )
+            assert (a.fill is None) == (b.fill is None)
+            if a.fill is not None:
+                assert a.fill == pytest.approx(b.fill, rel=1e-15)
+        np.testing.assert_allclose(stored.means, direct.means, rtol=1e-15)
+        np.testing.assert_allclose(stored.sds, direct.sds, rtol=1e-15)
+        np.testing.assert_allclose(stored.coefficients, direct.coefficients, rtol=1e-15)
+        assert stored.intercept == pytest.approx(direct.intercept, rel=1e-15)
+        assert stored.category_levels == direct.category_levels
+
+
+def test_renamed_column_is_named_with_close_matches(study, tmp_path):
+    result, rows, out, _ = study
+    new = tmp_path / "new.xlsx"
+    headings = [
+        "lot",
+        "Altitude (m)",
+        "rain",
+        "density",
+        "process",
+        "organic",
+        "harvest",
+        "price",
+        "score",
+    ]
+    renamed = [
+        {("Altitude (m)" if k == "altitude" else k): v for k, v in r.items()} for r in rows[:10]
+    ]
+    write_rows(new, renamed, headings=headings)
+    model = load_scoring_model(out)
+    with pytest.raises(InputProblem) as err:
+        model.predict(read_table(new))
+    msg = err.value.message
+    assert "'altitude'" in msg and "Altitude (m)" in msg
+    assert err.value.place.column == "altitude"
+
+
+def test_unseen_level_names_column_level_and_row(study, tmp_path):
+    result, _, out, _ = study
+    rows = simulate_rows(12, seed=3, gaps=False)
+    rows[4]["process"] = "anaerobic"
+    new = tmp_path / "new.xlsx"
+    write_rows(new, rows)
+    model = load_scoring_model(out, "lasso")
+    with pytest.raises(InputProblem) as err:
+        model.predict(read_table(new))
+    msg = err.value.message
+    assert "process" in msg and "anaerobic" in msg and "row 6" in msg
+    assert err.value.place.row == 6
+
+
+def test_headings_match_the_source(study):
+    result, _, _, _ = study
+    model = ScoringModel.from_result(result, "lasso")
+    assert set(model.sources) <= set(HEADINGS)

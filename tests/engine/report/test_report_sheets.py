@@ -1,0 +1,157 @@
+"""What the result sheets hold: names, charts pointing at the right ranges, zeros marked, inert
+user text, cached values present, fitted values by source row."""
+
+from __future__ import annotations
+
+import re
+import zipfile
+
+import numpy as np
+import openpyxl
+import pytest
+from study_fixture import make_result
+
+from engine.report import SHEET_NAMES, write_results
+
+
+@pytest.fixture(scope="module")
+def written(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("sheets")
+    result, rows = make_result(tmp)
+    out = write_results(result, out=tmp / "results.xlsx")
+    return result, out
+
+
+def test_sheet_names_are_plain_with_one_prefix(written):
+    _, out = written
+    names = openpyxl.load_workbook(out, read_only=True).sheetnames
+    ours = [n for n in names if n.startswith("TM ")]
+    assert ours == list(SHEET_NAMES)
+    assert all(re.fullmatch(r"[A-Za-z ]+", n) for n in ours)
+
+
+def _charts(out):
+    with zipfile.ZipFile(out) as zf:
+        return {n: zf.read(n).decode() for n in zf.namelist() if n.startswith("xl/charts/chart")}
+
+
+def test_path_charts_reference_the_penalty_column_and_mark_the_choice(written):
+    result, out = written
+    wb = openpyxl.load_workbook(out)
+    ws = wb["TM Path"]
+    charts = [c for c in _charts(out).values() if "Coefficient path: lasso" in c]
+    assert len(charts) == 1
+    refs = re.findall(r"<c:f>(.*?)</c:f>", charts[0])
+    xs = [r for r in refs if "$A$" in r]
+    first = re.search(r"\$A\$(\d+):\$A\$(\d+)", xs[0])
+    head = int(first.group(1)) - 1
+    assert ws.cell(head, 1).value == "Penalty"
+    lasso = result.model("lasso")
+    assert int(first.group(2)) - head == len(lasso.path)
+    assert ws.cell(head + 1, 1).value == pytest.approx(lasso.path.penalties[0])
+    assert "log" in charts[0] and '<c:logBase val="10"/>' in charts[0]
+    assert "chosen penalty" in charts[0]
+
+
+def test_validation_chart_has_custom_error_bars_on_the_se_column(written):
+    result, out = written
+    chart = next(c for c in _charts(out).values() if "Cross-validation: lasso" in c)
+    assert "<c:errBars>" in chart and '<c:errBarType val="both"/>' in chart
+    assert '<c:errValType val="cust"/>' in chart
+    plus = re.search(r"<c:plus>.*?<c:f>(.*?)</c:f>", chart, re.S).group(1)
+    assert plus.startswith("'TM Validation'!$C$")
+    wb = openpyxl.load_workbook(out)
+    row = int(re.search(r"\$C\$(\d+)", plus).group(1))
+    assert wb["TM Validation"].cell(row - 1, 3).value == "Standard error"
+    se = result.model("lasso").curve.se
+    assert wb["TM Validation"].cell(row, 3).value == pytest.approx(se[0])
+    assert "smallest error" in chart and "one standard error" in chart
+
+
+def test_zero_coefficients_are_dots_and_kept_column_names_methods(written):
+    result, out = written
+    ws = openpyxl.load_workbook(out)["TM Coefficients"]
+    heads = [c.value for c in ws[5]]
+    step_col = heads.index("forward-stepwise") + 1
+    step = result.model("forward-stepwise")
+    zeros = [k for k, v in step.coefficients.items() if v == 0.0]
+    assert zeros, "the stepwise fit should leave at least one column out"
+    for r in range(7, 7 + len(result.design.names)):
+        name = ws.cell(r, 1).value
+        cell = ws.cell(r, step_col)
+        if name in zeros:
+            assert cell.value == 0 and '"·"' in cell.number_format and cell.font.i
+        else:
+            assert cell.value == pytest.approx(step.coefficients[name])
+            kept = ws.cell(r, 4).value
+            assert "forward-stepwise" in kept
+
+
+def test_user_text_is_written_inert(tmp_path):
+    result, _ = make_result(tmp_path)
+    evil = "=cmd|' /C calc'!A0"
+    d = result.design
+    j = d.names.index("density")
+    d.names[j] = evil
+    from dataclasses import replace
+
+    d.encodings[j] = replace(d.encodings[j], name=evil, source=evil)
+    for m in result.models:
+        for table in (m.coefficients, m.std_coefficients):
+            table[evil] = table.pop("density")
+    out = write_results(result, out=tmp_path / "r.xlsx")
+    with zipfile.ZipFile(out) as zf:
+        for n in zf.namelist():
+            if n.startswith("xl/worksheets/sheet"):
+                xml = zf.read(n).decode()
+                assert "cmd|" not in "".join(re.findall(r"<f>(.*?)</f>", xml))
+    ws = openpyxl.load_workbook(out)["TM Coefficients"]
+    cells = [c for row in ws.iter_rows() for c in row if c.value == evil]
+    assert cells and all(c.data_type == "s" for c in cells)
+
+
+def test_fitted_sheet_lists_source_rows_and_residuals(written):
+    result, out = written
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Fitted"]
+    rows = list(ws.iter_rows(min_row=5, values_only=True))
+    d = result.design
+    assert [int(r[0]) for r in rows] == list(d.row_numbers)
+    lasso = result.model("lasso")
+    k = [c for c in next(ws.iter_rows(min_row=4, max_row=4, values_only=True))].index(
+        "Fitted (lasso)"
+    )
+    fit = np.array([r[k] for r in rows], dtype=float)
+    res = np.array([r[k + 1] for r in rows], dtype=float)
+    np.testing.assert_allclose(fit, lasso.fitted, rtol=1e-14)
+    np.testing.assert_allclose(res, d.y - lasso.fitted, rtol=1e-9, atol=1e-12)
+
+
+def test_formulas_carry_cached_numbers(written):
+    result, out = written
+    ws = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    header = next(
+        r
+        for r in range(1, 40)
+        if ws.cell(r, 1).value == "altitude" or str(ws.cell(r, 1).value) in result.design.names
+    )
+    preds = [c.value for c in next(ws.iter_rows(min_row=header, max_row=header))]
+    col = next(i for i, v in enumerate(preds) if str(v).startswith("Prediction"))
+    values = [ws.cell(header + 1 + i, col + 1).value for i in range(5)]
+    assert all(isinstance(v, float) for v in values)
+
+
+def test_summary_names_source_methods_and_cautions(written):
+    result, out = written
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Summary"]
+    text = " ".join(str(v) for row in ws.iter_rows(values_only=True) for v in row if v is not None)
+    for needle in (
+        "Lots",
+        "score",
+        "lasso",
+        "forward-stepwise",
+        "Seed",
+        "causes" if False else "does not",
+        "review practice",
+        "extrapolate",
+    ):
+        assert needle in text

@@ -51,6 +51,7 @@ from engine.intake.text_dates import looks_like_date, parse_date_texts
 DOMINANT_SHARE = 0.8  # share of values of one kind that decides the column's kind
 CATEGORY_MAX_SHARE = 0.5  # distinct labels / values at most this for a category
 CATEGORY_MAX_LEVELS = 200
+_CONVENTION_SAMPLE = 5000  # distinct texts looked at to choose the decimal mark of a column
 
 
 class _Uncached:
@@ -202,7 +203,7 @@ def _classify_mixed(
             for k in text_pos
         ]
         unique = list(dict.fromkeys(texts))
-        conv = text_number_convention(unique, default=decimal)
+        conv = text_number_convention(unique[:_CONVENTION_SAMPLE], default=decimal)
         date_like = [u for u in unique if looks_like_date(u)]
         parsed_dates: dict[str, dt.datetime | None] = {}
         date_note = None

@@ -9,7 +9,8 @@ rule: among the first 60 rows that hold anything, take the first row that
   error value),
 
 preferring a row that fills at least 80% of the widest row. When no row qualifies (headings
-that are all numbers, say) the first row that holds anything is used. The caller can always
+that are numbers, such as years) the first row that fills 80% of the widest row is used, and
+failing that the first row that holds anything. The caller can always
 override with an explicit header row.
 """
 
@@ -58,4 +59,8 @@ def detect_header_row(rows: list[list]) -> int | None:
             return i
     if candidates:
         return candidates[0][0]
+    # headings that are numbers (years, say): the first row about as wide as the table
+    for i, f, _ in sample:
+        if f >= max(need, 0.8 * widest):
+            return i
     return sample[0][0]

@@ -256,3 +256,33 @@ def test_sheet_name_is_matched_ignoring_case(messy_book):
     assert read_table(path, sheet="demand").sheet == "Demand"
     with pytest.raises(InputProblem):
         read_table(path, sheet="Demand2")
+
+
+def test_year_headings_under_a_title(tmp_path):
+    path = tmp_path / "years.xlsx"
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["Sales by year"])
+    ws.append([])
+    ws.append(["region", 2019, 2020, 2021])
+    for i in range(6):
+        ws.append([f"r{i % 2}", i, i + 1.5, 2 * i])
+    wb.save(path)
+    table = read_table(path)
+    assert table.header_row == 3
+    assert [c.name for c in table.columns] == ["region", "2019", "2020", "2021"]
+    assert table.column("2020").values.tolist() == [i + 1.5 for i in range(6)]
+
+
+def test_columns_without_heading_are_named_by_letter(tmp_path):
+    path = tmp_path / "gaps.xlsx"
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["a", None, "c", None])
+    for i in range(5):
+        ws.append([i, i * 2.5, None, None])
+    wb.save(path)
+    table = read_table(path)
+    assert [c.name for c in table.columns] == ["a", "column B", "c"]
+    assert table.column("c").kind.value == "empty"
+    assert any("no heading" in w and "B" in w for w in table.warnings)

@@ -1,0 +1,127 @@
+"""Cross-validation of a path: no leakage, routes that must agree, cancel."""
+
+import numpy as np
+import pytest
+from sklearn.linear_model import ElasticNet, Ridge
+
+from engine.errors import Cancelled
+from engine.fitting.coordinate import elastic_net_path
+from engine.fitting.ridge import ridge_path
+from engine.progress import CancelToken, Progress
+from engine.tuning.crossval import cross_validate_path
+from engine.tuning.folds import make_folds
+
+
+def _data(n, p, seed=0):
+    """Simulated data with a known sparse truth (stated as such)."""
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p)) * rng.uniform(0.2, 5, p) + rng.normal(size=p) * 4
+    b = np.zeros(p)
+    b[:4] = [2.0, -1.5, 1.0, 0.5]
+    y = X @ b + 2.0 * rng.normal(size=n)
+    return X, y
+
+
+def _manual_errors(X, y, parts, lam, mix, leaky=False):
+    """Reference loop: fit each training part with its own standardization (or, if leaky,
+    with the full data's means and sds), predict the held-out rows."""
+    out = np.zeros((len(parts), lam.size))
+    for k, (tr, te) in enumerate(parts):
+        if not leaky:
+            path = (
+                ridge_path(X[tr], y[tr], penalties=lam)
+                if mix == 0
+                else elastic_net_path(X[tr], y[tr], mix=mix, penalties=lam, tol=1e-12)
+            )
+            pred = path.intercepts[None, :] + X[te] @ path.coefs.T
+        else:
+            # Source: scikit-learn Lasso/ElasticNet/Ridge (same objective; Ridge alpha = n*lambda)
+            # fitted on columns scaled with ALL rows' sds, i.e. the leaky standardization
+            Z = (X - X.mean(0)) / X.std(0)
+            pred = np.zeros((te.size, lam.size))
+            for j, a in enumerate(lam):
+                if mix == 0:
+                    m = Ridge(alpha=tr.size * a)
+                else:
+                    m = ElasticNet(alpha=a, l1_ratio=mix, tol=1e-12, max_iter=100_000)
+                m.fit(Z[tr], y[tr])
+                pred[:, j] = m.predict(Z[te])
+        out[k] = np.mean((y[te][:, None] - pred) ** 2, axis=0)
+    return out
+
+
+@pytest.mark.parametrize("n,p,mix", [(90, 12, 1.0), (40, 70, 1.0), (90, 12, 0.5), (60, 15, 0.0)])
+def test_matches_manual_fold_loop_and_differs_from_leaky_version(n, p, mix):
+    # common practice: scaling is learned on the training part only; a leaky loop that
+    # standardizes with all rows must give different errors (this test would catch leakage)
+    X, y = _data(n, p)
+    parts = make_folds(n, "kfold", folds=5, seed=4)
+    full = ridge_path(X, y) if mix == 0 else elastic_net_path(X, y, mix=mix)
+    lam = full.penalties[::9]
+    curve = cross_validate_path(
+        X, y, parts, mix, lam, n_selected=full.n_selected[::9], workers=1, tol=1e-12
+    )
+    manual = _manual_errors(X, y, parts, lam, mix)
+    np.testing.assert_allclose(curve.part_errors, manual, rtol=1e-6)
+    leaky = _manual_errors(X, y, parts, lam, mix, leaky=True)
+    assert np.max(np.abs(leaky - manual) / manual) > 1e-3
+    se = manual.std(axis=0, ddof=1) / np.sqrt(5)
+    np.testing.assert_allclose(curve.se, se, rtol=1e-6)
+    assert curve.index_min == int(np.argmin(manual.mean(axis=0)))
+
+
+def test_gram_and_residual_routes_and_worker_counts_agree():
+    X, y = _data(120, 30, seed=2)
+    parts = make_folds(120, "kfold", folds=6, seed=1)
+    lam = elastic_net_path(X, y).penalties
+    kw = dict(n_selected=np.zeros(100), tol=1e-10)
+    a = cross_validate_path(X, y, parts, 1.0, lam, use_gram=True, workers=1, **kw)
+    b = cross_validate_path(X, y, parts, 1.0, lam, use_gram=False, workers=2, **kw)
+    np.testing.assert_allclose(a.part_errors, b.part_errors, rtol=1e-6)
+
+
+def test_time_parts_with_training_rows_not_the_complement():
+    # "time" parts train on the past only, so training is not "all rows but the test rows"
+    X, y = _data(100, 8, seed=3)
+    parts = make_folds(100, "time", folds=5)
+    lam = elastic_net_path(X, y).penalties[::10]
+    curve = cross_validate_path(X, y, parts, 1.0, lam, n_selected=np.zeros(10), tol=1e-12)
+    manual = _manual_errors(X, y, parts, lam, 1.0)
+    np.testing.assert_allclose(curve.part_errors, manual, rtol=1e-6)
+
+
+def test_callable_penalty_factors_are_recomputed_per_part():
+    X, y = _data(80, 10, seed=5)
+    parts = make_folds(80, "kfold", folds=4, seed=0)
+    seen = []
+
+    def weights(Xt, yt):
+        seen.append(Xt.shape[0])
+        return 1.0 / (np.abs(np.corrcoef(Xt.T, yt)[-1, :-1]) + 0.05)
+
+    lam = np.geomspace(1.0, 0.01, 8)
+    cross_validate_path(X, y, parts, 1.0, lam, penalty_factors=weights, workers=1)
+    assert sorted(seen[:4]) == [60, 60, 60, 60] or sorted(seen[1:5]) == [60, 60, 60, 60]
+
+
+def test_cancel_between_parts():
+    X, y = _data(80, 10)
+    token = CancelToken()
+    calls = []
+
+    def cb(frac, words):
+        calls.append(frac)
+        if len(calls) == 2:
+            token.cancel()
+
+    with pytest.raises(Cancelled):
+        cross_validate_path(
+            X,
+            y,
+            make_folds(80, "kfold", 5),
+            1.0,
+            np.geomspace(1, 0.01, 20),
+            progress=Progress(cb, token),
+            workers=1,
+            n_selected=np.zeros(20),
+        )

@@ -31,11 +31,22 @@ def make_profile(folder: Path) -> str:
     return (folder / "lo-profile").resolve().as_uri()
 
 
-def convert(files: list[Path], fmt: str, outdir: Path, profile_uri: str, timeout: int = 180) -> list[Path]:
+def convert(
+    files: list[Path], fmt: str, outdir: Path, profile_uri: str, timeout: int = 180
+) -> list[Path]:
     """Convert every file in one soffice call; returns the converted paths (same stems)."""
     outdir.mkdir(parents=True, exist_ok=True)
-    cmd = [soffice(), f"-env:UserInstallation={profile_uri}", "--headless", "--norestore",
-           "--convert-to", fmt, "--outdir", str(outdir), *[str(f) for f in files]]
+    cmd = [
+        soffice(),
+        f"-env:UserInstallation={profile_uri}",
+        "--headless",
+        "--norestore",
+        "--convert-to",
+        fmt,
+        "--outdir",
+        str(outdir),
+        *[str(f) for f in files],
+    ]
     proc = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
     ext = fmt.split(":")[0]
     outs = [outdir / f"{Path(f).stem}.{ext}" for f in files]

@@ -267,7 +267,7 @@ def write(
     text(ws, header, check_col, "Check", fm.heading)
     text(ws, header, label_col, "(encoded values below)", fm.note)
     for j, enc in enumerate(encs):
-        text(ws, header, enc0 + j, enc.name, fm.heading)
+        text(ws, header, enc0 + j, f"{enc.name} (model)", fm.heading)
 
     def ref(name: str, j: int) -> str:
         return cell_ref(prow[name], enc0 + j, True, False)

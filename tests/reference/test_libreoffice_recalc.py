@@ -1,0 +1,202 @@
+"""Independent recalculation of the scoring sheet by LibreOffice Calc (headless).
+
+Source: LibreOffice Calc 7.4, run with a throw-away profile whose OOXMLRecalcMode is 0 ("always
+recalculate on load"), so every formula is computed by LibreOffice's own engine rather than read
+from the cached values we store. Checked to work by planting a wrong cached value and seeing it
+corrected. The recalculated workbook is read back with openpyxl (data_only=True).
+
+Agreement required: 1e-9 relative between LibreOffice's predictions and the engine's, on the
+example rows (the study's fitted values) and on new rows pasted under the headings (category
+levels, yes/no text, dates and a gap filled by the stored median), which are also scored by
+`tamis score` on a second workbook.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import io
+import re
+import shutil
+import subprocess
+import sys
+import zipfile
+from pathlib import Path
+from types import SimpleNamespace
+
+import numpy as np
+import openpyxl
+import pytest
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine" / "report"))
+
+from libreoffice import convert, make_profile, soffice  # noqa: E402
+from rich_workbook import write_rich  # noqa: E402
+from study_fixture import make_result, simulate_rows, write_rows  # noqa: E402
+
+from engine.intake import read_table  # noqa: E402
+from engine.report import ScoringModel, load_scoring_model, write_results  # noqa: E402
+
+pytestmark = pytest.mark.libreoffice
+
+if soffice() is None:  # loud: the reference check is not silently skipped
+    pytest.skip(
+        "LibreOffice (soffice) is not installed: the independent recalculation check cannot run",
+        allow_module_level=True,
+    )
+
+WRONG = 12345.0
+
+
+def _layout(ws):
+    """(header row, {heading: column}) of the scoring sheet, 1-based."""
+    for r in range(1, 80):
+        row = [c.value for c in ws[r]]
+        if any(isinstance(v, str) and v.startswith("Prediction of") for v in row):
+            cols: dict[str, int] = {}
+            for i, v in enumerate(row):
+                if isinstance(v, str):
+                    cols.setdefault(v, i + 1)  # the paste block comes first
+            return r, cols
+    raise AssertionError("no header row on the scoring sheet")
+
+
+def _predictions(path: Path, first: int, count: int) -> np.ndarray:
+    ws = openpyxl.load_workbook(path, data_only=True)["TM Scoring"]
+    head, cols = _layout(ws)
+    pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
+    vals = [ws.cell(head + first + i, pc).value for i in range(count)]
+    return np.array([np.nan if v in (None, "") else float(v) for v in vals])
+
+
+def _plant_wrong_cached_value(src: Path, dst: Path) -> None:
+    """Copy ``src`` with the first prediction's cached value replaced by WRONG."""
+    wb = openpyxl.load_workbook(src, read_only=True)
+    index = wb.sheetnames.index("TM Scoring") + 1
+    with zipfile.ZipFile(src) as zin, zipfile.ZipFile(dst, "w", zipfile.ZIP_DEFLATED) as zout:
+        for info in zin.infolist():
+            data = zin.read(info.filename)
+            if info.filename == f"xl/worksheets/sheet{index}.xml":
+                text = data.decode()
+                m = re.search(
+                    r'(<c r="[A-Z]+\d+" s="\d+"><f>IF\(COUNTA[^<]*?SUMPRODUCT[^<]*</f><v>)([^<]*)(</v>)',
+                    text,
+                )
+                assert m is not None
+                text = text[: m.start(2)] + repr(WRONG) + text[m.end(2) :]
+                data = text.encode()
+            zout.writestr(info, data)
+
+
+@pytest.fixture(scope="module")
+def lo(tmp_path_factory):
+    tmp = tmp_path_factory.mktemp("libreoffice")
+    result, rows = make_result(tmp)
+    results = write_results(result, out=tmp / "results.xlsx")
+    model = load_scoring_model(results)
+
+    # new rows: every process level, yes/no as text, dates, gaps in 'rain'
+    new_rows = simulate_rows(12, seed=21)
+    new_rows[0]["rain"] = None
+    new_book = tmp / "new-lots.xlsx"
+    write_rows(new_book, new_rows)
+
+    pasted = tmp / "pasted.xlsx"
+    wb = openpyxl.load_workbook(results)
+    ws = wb["TM Scoring"]
+    head, cols = _layout(ws)
+    n_examples = 5
+    for i, row in enumerate(new_rows):
+        r = head + 1 + n_examples + i
+        for s in model.sources:
+            v = row[s]
+            if isinstance(v, dt.date):
+                v = dt.datetime(v.year, v.month, v.day)
+            ws.cell(r, cols[s]).value = v
+    wb.save(pasted)
+
+    planted = tmp / "planted.xlsx"
+    _plant_wrong_cached_value(results, planted)
+
+    rich_dir = tmp / "rich"
+    rich_dir.mkdir()
+    rich_result, _ = make_result(rich_dir, name="rich.xlsx", writer=write_rich)
+    rich = write_results(rich_result, in_place=True)
+
+    profile = make_profile(tmp)
+    outdir = tmp / "recalculated"
+    converted = convert([results, pasted, planted, rich], "xlsx", outdir, profile)
+    pdf = convert([results], "pdf", tmp / "pdf", profile)[0]
+
+    from engine.commands import score
+
+    scored = tmp / "scored.xlsx"
+    ctx = SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO())
+    assert (
+        score.run(
+            SimpleNamespace(book=str(new_book), results=str(results), sheet=None, out=str(scored)),
+            ctx,
+        )
+        == 0
+    )
+    return SimpleNamespace(
+        result=result,
+        model=model,
+        new_book=new_book,
+        new_rows=new_rows,
+        converted=dict(zip(["results", "pasted", "planted", "rich"], converted)),
+        pdf=pdf,
+        scored=scored,
+        n_examples=n_examples,
+    )
+
+
+def test_model_covers_every_encoding_kind(lo):
+    kinds = {e.kind for e in lo.model.encodings}
+    assert {"number", "level", "flag", "trend"} <= kinds, kinds
+
+
+def test_libreoffice_recalculates_on_load(lo):
+    got = _predictions(lo.converted["planted"], 1, 1)[0]
+    want = lo.result.model(lo.model.method).fitted[0]
+    assert got != WRONG
+    assert got == pytest.approx(want, rel=1e-9)
+
+
+def test_example_rows_recalculated_equal_fitted_values(lo):
+    got = _predictions(lo.converted["results"], 1, lo.n_examples)
+    want = lo.result.model(lo.model.method).fitted[: lo.n_examples]
+    np.testing.assert_allclose(got, want, rtol=1e-9)
+
+
+def test_pasted_rows_recalculated_equal_engine_and_score_command(lo):
+    got = _predictions(lo.converted["pasted"], 1 + lo.n_examples, len(lo.new_rows))
+    engine = lo.model.predict(read_table(lo.new_book))
+    np.testing.assert_allclose(got, engine, rtol=1e-9)
+    ws = openpyxl.load_workbook(lo.scored, read_only=True)["TM Predictions"]
+    head = next(ws.iter_rows(min_row=4, max_row=4, values_only=True))
+    k = next(i for i, h in enumerate(head) if str(h).startswith("Prediction"))
+    scored = np.array([r[k] for r in ws.iter_rows(min_row=5, values_only=True)], dtype=float)
+    np.testing.assert_allclose(got, scored, rtol=1e-9)
+    # the direct route from the study's coefficients agrees as well
+    direct = ScoringModel.from_result(lo.result, lo.model.method).predict(read_table(lo.new_book))
+    np.testing.assert_allclose(direct, engine, rtol=1e-12)
+
+
+def test_rich_in_place_workbook_opens_in_libreoffice(lo):
+    wb = openpyxl.load_workbook(lo.converted["rich"], read_only=True)
+    assert wb.sheetnames[:3] == ["Lots", "Overview", "Lookup"]
+    assert "TM Scoring" in wb.sheetnames
+
+
+def test_pdf_export_shows_the_charts(lo):
+    pdftotext = shutil.which("pdftotext")
+    if pdftotext is None:
+        pytest.skip("pdftotext (poppler-utils) is missing")
+    text = subprocess.run([pdftotext, str(lo.pdf), "-"], capture_output=True, text=True).stdout
+    for title in (
+        "Coefficient path: lasso",
+        "Coefficient path: ridge",
+        "Cross-validation: lasso",
+        "Cross-validation: forward-stepwise",
+    ):
+        assert title in text

@@ -32,6 +32,7 @@ from threadpoolctl import threadpool_limits
 from engine.errors import InputProblem
 from engine.fitting.coordinate import elastic_net_path, penalty_grid, penalty_max
 from engine.progress import Progress, silent
+from engine.study_result import StabilityResult
 
 
 def false_selection_bound(q: float, p: int, threshold: float) -> float:
@@ -65,6 +66,15 @@ class StabilitySelection:
 
     def false_selection_bound(self, threshold: float) -> float:
         return false_selection_bound(self.q, self.shares.shape[0], threshold)
+
+    def to_result(self, names: list[str], threshold: float = 0.6) -> StabilityResult:
+        """The study-result form, with column names in place of indices."""
+        return StabilityResult(
+            runs=self.runs,
+            shares={name: float(v) for name, v in zip(names, self.shares)},
+            threshold=threshold,
+            stable=[names[j] for j in self.stable(threshold)],
+        )
 
 
 def _one_run(X, y, rows, penalties):

@@ -26,6 +26,9 @@ def test_true_columns_are_stable_noise_is_not():
     assert np.all((res.share_path >= 0) & (res.share_path <= 1))
     assert np.all(res.mean_selected[: res.region] <= res.q)
     np.testing.assert_allclose(res.shares, res.share_path[: res.region].max(axis=0))
+    out = res.to_result([f"c{j}" for j in range(40)], threshold=0.9)
+    assert set(out.stable) >= {"c0", "c1", "c2", "c3"} and out.runs == 40
+    assert out.shares["c0"] == pytest.approx(res.shares[0])
 
 
 def test_same_answer_for_any_number_of_workers():

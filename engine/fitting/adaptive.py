@@ -58,6 +58,7 @@ def initial_estimate(X: np.ndarray, y: np.ndarray, init: str = "auto") -> tuple[
     y = np.asarray(y, dtype=float).ravel()
     n, p = X.shape
     st = standardize(X, y)
+    assert st.yc is not None  # a response was given
     live = ~st.constant
     if init in ("auto", "ols"):
         Zl = st.Z[:, live]

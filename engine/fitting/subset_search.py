@@ -277,14 +277,15 @@ def _swap_improve(
             out_cols = np.setdiff1d(np.arange(p), S)
             if k == 0 or out_cols.size == 0:
                 break
-            Gs = G[np.ix_(S, S)]
+            Sa = np.asarray(S, dtype=np.intp)
+            Gs = G[np.ix_(Sa, Sa)]
             try:
                 A = np.linalg.inv(Gs)
             except np.linalg.LinAlgError:
                 break
             beta = A @ c[S]
             rss = yy - c[S] @ beta
-            Gso = G[np.ix_(S, out_cols)]
+            Gso = G[np.ix_(Sa, out_cols)]
             xr = c[out_cols] - Gso.T @ beta  # x_l' r
             d = np.diag(G)[out_cols] - np.einsum("ij,ij->j", Gso, A @ Gso)  # ||x_l - H x_l||^2
             dA = np.diag(A)

@@ -7,6 +7,7 @@ from __future__ import annotations
 
 __all__ = ["list_sheets", "read_table"]
 
+from itertools import chain
 from pathlib import Path
 
 import numpy as np
@@ -159,41 +160,47 @@ def _build_table(
                 Place(file=str(path), sheet=sheet, row=header_row),
             )
 
-    block = np.empty((len(rows) - h - 1, width), dtype=object)
-    for i, r in enumerate(rows[h + 1 :]):
-        block[i, :] = r
-    empty = block == ""
-    if not isinstance(empty, np.ndarray) or empty.shape != block.shape:
-        empty = np.zeros(block.shape, dtype=bool)
-
-    warnings: list[str] = []
-    if facts_source in ("xlsx", "xlsm", "ods") and empty.any():
-        facts = scan_sheet(path, facts_source, sheet)
-        _apply_facts(facts, block, empty, h, sheet, warnings)
-
-    row_has = ~empty.all(axis=1)
-    if not row_has.any():
-        raise InputProblem(
-            f"{where}: the headings are in row {h + 1} but there are no data rows below them",
-            Place(file=str(path), sheet=sheet, row=h + 1),
-        )
-    last = int(np.flatnonzero(row_has)[-1])
-    keep_rows = np.flatnonzero(row_has)
-    blank_skipped = int((~row_has[: last + 1]).sum())
-    block = block[keep_rows]
-    empty = empty[keep_rows]
-    row_numbers = (keep_rows + h + 2).astype(np.int64)
-
+    data_rows = rows[h + 1 :]
     headings = [format_heading(v) for v in rows[h]]
-    col_has = ~empty.all(axis=0)
-    keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
+    warnings: list[str] = []
+    block: np.ndarray | None = None
+    empty: np.ndarray | None = None
+    numeric_cols: np.ndarray | None = None
+    if (
+        fmt != "csv"
+        and data_rows
+        and set(map(type, chain.from_iterable(data_rows))) <= {float, int}
+    ):
+        # Every cell below the headings is a number: nothing missing, no blank row, and the
+        # whole block converts in one call.
+        numeric_cols = np.ascontiguousarray(np.array(data_rows, dtype=np.float64).T)
+        row_numbers = np.arange(h + 2, h + 2 + len(data_rows), dtype=np.int64)
+        blank_skipped = 0
+        keep_cols = list(range(width))
+    else:
+        block = np.empty((len(data_rows), width), dtype=object)
+        for i, r in enumerate(data_rows):
+            block[i, :] = r
+        empty = np.asarray(block == "", dtype=bool)
+        if empty.shape != block.shape:  # numpy answers a scalar when it cannot compare elementwise
+            empty = np.zeros(block.shape, dtype=bool)
+        if facts_source in ("xlsx", "xlsm", "ods") and empty.any():
+            facts = scan_sheet(path, facts_source, sheet)
+            _apply_facts(facts, block, empty, h, sheet, warnings)
 
-    dense = not empty[:, keep_cols].any()
-    numeric_block = None
-    if dense and fmt != "csv":
-        sub = block[:, keep_cols]
-        if set(map(type, sub.ravel().tolist())) <= {float, int}:
-            numeric_block = sub.astype(np.float64)
+        row_has: np.ndarray = ~np.asarray(empty.all(axis=1))
+        if not row_has.any():
+            raise InputProblem(
+                f"{where}: the headings are in row {h + 1} but there are no data rows below them",
+                Place(file=str(path), sheet=sheet, row=h + 1),
+            )
+        keep_rows = np.flatnonzero(row_has)
+        blank_skipped = int(keep_rows[-1] + 1 - keep_rows.size)
+        block = block[keep_rows]
+        empty = empty[keep_rows]
+        row_numbers = (keep_rows + h + 2).astype(np.int64)
+        col_has: np.ndarray = ~np.asarray(empty.all(axis=0))
+        keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
 
     columns: list[Column] = []
     seen: dict[str, str] = {}  # casefolded name -> first column's name
@@ -215,11 +222,12 @@ def _build_table(
         else:
             seen[base.casefold()] = base
         taken.add(name.casefold())
-        cells = (
-            numeric_block[:, k]
-            if numeric_block is not None
-            else np.where(empty[:, j], "", block[:, j])
-        )
+        if numeric_cols is not None:
+            cells = numeric_cols[j]
+        else:
+            assert block is not None and empty is not None
+            cells = np.where(empty[:, j], "", block[:, j])
+
         col = classify_column(
             cells,
             name=name,

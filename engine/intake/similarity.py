@@ -15,6 +15,7 @@ from __future__ import annotations
 __all__ = ["NEAR_DUPLICATE_CORRELATION", "mark_near_duplicates", "pairwise_correlation"]
 
 import numpy as np
+from threadpoolctl import threadpool_limits
 
 from engine.intake.table import Column, ColumnKind
 
@@ -26,24 +27,38 @@ def pairwise_correlation(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Correlation of every pair of columns of `x` (n x p, NaN missing) over their common rows.
 
     Returns (r, n_common), both p x p; r is NaN where a column is constant on the common rows
-    or fewer than 3 rows are shared.
+    or fewer than 3 rows are shared. Columns are centred on their own means first; the extra
+    products that missing values need are only formed for the columns that have any.
     """
+    rows, p = x.shape
     present = ~np.isnan(x)
-    m = present.astype(np.float64)
-    means = np.nanmean(np.where(present, x, np.nan), axis=0)
+    counts = present.sum(axis=0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        means = np.where(
+            counts > 0, np.where(present, x, 0.0).sum(axis=0) / np.maximum(counts, 1), 0.0
+        )
     z = np.where(present, x - means, 0.0)
-    n = m.T @ m
-    s = (
-        z.T @ m
-    )  # s[i, j]: sum of column i over rows where j is present (and i, since z=0 elsewhere)
-    ss = (z * z).T @ m
     sxy = z.T @ z
+    total_ss = np.einsum("ij,ij->j", z, z)
+    # s[i, j]: sum of column i over rows where j is present; ss likewise for squares.
+    # Where j has no gap these are column i's own totals: 0 (centred) and its sum of squares.
+    n = np.minimum.outer(counts, counts).astype(np.float64)
+    s = np.zeros((p, p))
+    ss = np.repeat(total_ss[:, None], p, axis=1)
+    gaps = np.flatnonzero(counts < rows)
+    if gaps.size:
+        mask = present[:, gaps].astype(np.float64)
+        s[:, gaps] = z.T @ mask
+        ss[:, gaps] = (z * z).T @ mask
+        both = present.T.astype(np.float64) @ mask
+        n[:, gaps] = both
+        n[gaps, :] = both.T
     with np.errstate(invalid="ignore", divide="ignore"):
         cov = sxy - s * s.T / n
         var_i = ss - s * s / n
         var_j = var_i.T
         r = cov / np.sqrt(var_i * var_j)
-    # variance near zero relative to the sum of squares is rounding noise: the column is constant there
+    # a variance that is rounding noise next to the sum of squares: constant on those rows
     tiny = (var_i <= 1e-12 * np.maximum(ss, 1e-300)) | (var_j <= 1e-12 * np.maximum(ss.T, 1e-300))
     r[tiny | (n < _MIN_COMMON_ROWS)] = np.nan
     return r, n
@@ -57,7 +72,10 @@ def mark_near_duplicates(columns: list[Column]) -> None:
     if len(numeric) < 2:
         return
     x = np.column_stack([c.values for c in numeric]).astype(np.float64)
-    r, _ = pairwise_correlation(x)
+    # These tall, thin products are fastest on one thread; several BLAS threads on a busy
+    # machine were measured 30-100x slower.
+    with threadpool_limits(limits=1, user_api="blas"):
+        r, _ = pairwise_correlation(x)
     for j, col in enumerate(numeric):
         for i in range(j):
             rij = r[i, j]

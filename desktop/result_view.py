@@ -107,8 +107,10 @@ class ResultView(QWidget):
         self.tabs.addTab(self._build_curve_tab(), "Validation")
         self.tabs.addTab(self._build_compare_tab(), "Compare")
         self.tabs.addTab(self._build_sizes_tab(), "Sizes")
-        self.tabs.addTab(self._build_share_tab(), "Stability")
-        self.tabs.addTab(self._build_focal_tab(), "Focal effect")
+        self.STABILITY_TAB = self.tabs.addTab(self._build_share_tab(), "Stability")
+        self.FOCAL_TAB = self.tabs.addTab(self._build_focal_tab(), "Focal effect")
+        self._stale: dict = {}
+        self.tabs.currentChanged.connect(self._draw_visible_tab)
         self.cautions = QTextBrowser()
         self.cautions.setOpenExternalLinks(False)
         self.cautions.setHtml(cautions_html())
@@ -316,14 +318,20 @@ class ResultView(QWidget):
                 self.sizes_box.addItem(method_info(m.method).title, m.method)
         self.sizes_box.blockSignals(False)
         self._fill_sizes()
-        self._fill_stability()
-        self._fill_focal()
+        # charts on hidden tabs are drawn when first shown, so the window answers at once
+        self._stale = {self.STABILITY_TAB: self._fill_stability, self.FOCAL_TAB: self._fill_focal}
+        self._draw_visible_tab()
         notes = list(result.warnings) + list(d.warnings)
         notes += [f"Column '{c}' left out: {why}" for c, why in d.dropped_columns.items()]
         for m in result.models:
             notes += [f"{method_info(m.method).title}: {n}" for n in m.notes]
         self.cautions.setHtml(cautions_html(list(dict.fromkeys(notes))))
         self._on_method()
+
+    def _draw_visible_tab(self, *_: object) -> None:
+        fill = self._stale.pop(self.tabs.currentIndex(), None)
+        if fill is not None:
+            fill()
 
     def _on_method(self, *_: object) -> None:
         if self.result is None or self.method_box.count() == 0:

@@ -51,6 +51,14 @@ MISSING_WORDS = {
 FOCAL_WORDS = {"plugin": "Formula-based (plug-in)", "cv": "By validation"}
 
 _DEFAULT = StudySpec(source="", response="")
+_CATALOGUE = [m.name for m in METHODS]
+
+
+def _method_order(name: str) -> int:
+    """The default methods run in their default order, the others after them in catalogue order."""
+    if name in DEFAULT_METHODS:
+        return DEFAULT_METHODS.index(name)
+    return len(DEFAULT_METHODS) + _CATALOGUE.index(name)
 
 
 class SettingsPanel(QScrollArea):
@@ -238,7 +246,11 @@ class SettingsPanel(QScrollArea):
     # values -----------------------------------------------------------------------------
     def values(self) -> dict[str, Any]:
         return {
-            "methods": tuple(n for n, cb in self.method_boxes.items() if cb.isChecked()),
+            "methods": tuple(
+                sorted(
+                    (n for n, cb in self.method_boxes.items() if cb.isChecked()), key=_method_order
+                )
+            ),
             "mix": float(self.mix.value()),
             "folds": int(self.folds.value()),
             "scheme": self.scheme.currentData(),

@@ -47,7 +47,7 @@ class PathChart(QWidget):
         self.hovered_name = ""
         self.highlighted: str | None = None
         self._x = np.zeros(0)
-        self._lines: dict[str, pg.PlotDataItem] = {}
+        self._lines: dict[str, pg.PlotCurveItem] = {}
         self._colours: dict[str, str] = {}
         self.cursor = pg.InfiniteLine(
             angle=90,
@@ -129,7 +129,8 @@ class PathChart(QWidget):
         for j, n in enumerate(self.names):
             if n not in self._colours:
                 continue
-            line = pg.PlotDataItem(xs, path.std_coefs[order, j], pen=self._pen(n))
+            # PlotCurveItem, not PlotDataItem: a ridge path on 240 columns draws 240 lines
+            line = pg.PlotCurveItem(xs, path.std_coefs[order, j], pen=self._pen(n))
             self.item.addItem(line)
             self._lines[n] = line
         self.item.addItem(

@@ -188,19 +188,8 @@ def table():
 
 @functools.lru_cache(maxsize=4)
 def simulated_result(n: int = 80, p: int = 12, seed: int = 7, focal: bool = True):
-    """A StudyResult for widget tests, built without engine.study.
-
-    The lasso path and its validation errors come from scikit-learn (``lasso_path`` and
-    ``LassoCV.mse_path_``), whose penalty convention equals ours for mix = 1 (Source: the
-    scikit-learn Lasso docstring, objective (1/(2n))||y - Xw||^2 + alpha ||w||_1).
-    """
-    from sklearn.linear_model import LassoCV, lasso_path
-
+    """A StudyResult for widget tests over ``simulated_table`` (x0 focal when asked)."""
     from desktop.roles import Role, build_spec
-    from engine.design import build_design
-    from engine.fitting.path import PenaltyPath
-    from engine.study_result import FocalResult, ModelResult, SizeRow, StabilityResult, StudyResult
-    from engine.tuning.curve import ValidationCurve, choose_index
 
     table = simulated_table(n, p, seed)
     roles = {c.name: Role.CANDIDATE for c in table.columns if c.name.startswith("x")}
@@ -208,9 +197,43 @@ def simulated_result(n: int = 80, p: int = 12, seed: int = 7, focal: bool = True
     if focal:
         roles["x0"] = Role.FOCAL
     spec = build_spec(table, roles, {"methods": ("lasso", "forward-stepwise"), "folds": 5})
+    return result_for(table, spec)
+
+
+def result_for(table, spec, progress=None, slow_steps: int = 0):
+    """A StudyResult built without engine.study (a stand-in while a test is about the window).
+
+    The design comes from ``engine.design.build_design``; the lasso path and its validation
+    errors come from scikit-learn (``lasso_path`` and ``LassoCV.mse_path_``), whose penalty
+    convention equals ours for mix = 1 (Source: the scikit-learn Lasso docstring, objective
+    (1/(2n))||y - Xw||^2 + alpha ||w||_1). ``slow_steps`` adds that many CPU-bound steps of
+    about 20 ms each, reporting progress (and so honouring cancel) between them.
+    """
+    from sklearn.linear_model import LassoCV, lasso_path
+
+    from engine.design import build_design
+    from engine.fitting.path import PenaltyPath
+    from engine.progress import silent
+    from engine.study_result import FocalResult, ModelResult, SizeRow, StabilityResult, StudyResult
+    from engine.tuning.curve import ValidationCurve, choose_index
+
+    progress = progress or silent()
+    progress.step(0.0, "building the design matrix")
     d = build_design(table, spec)
+    n = d.n_rows
+    rng = np.random.default_rng(0)
+    for k in range(slow_steps):
+        a = rng.normal(size=(120, 120))
+        t_end = time.perf_counter() + 0.02
+        while time.perf_counter() < t_end:
+            a = np.tanh(a @ a.T / 120.0)
+        progress.step(
+            0.05 + 0.5 * k / slow_steps,
+            f"stability of selection: half-sample {k + 1} of {slow_steps}",
+        )
     Z = (d.X - d.means) / d.sds
     yc = d.y - d.y.mean()
+    progress.step(0.6, "Lasso: path on all rows")
     alphas, coefs, _ = lasso_path(Z, yc, alphas=50, eps=1e-3)
     std = coefs.T  # (L, p)
     path = PenaltyPath(
@@ -220,6 +243,7 @@ def simulated_result(n: int = 80, p: int = 12, seed: int = 7, focal: bool = True
         intercepts=d.y.mean() - (std / d.sds) @ d.means,
         mix=1.0,
     )
+    progress.step(0.7, "Lasso: cross-validation")
     cv = LassoCV(alphas=alphas, cv=5).fit(Z, yc)
     mse = cv.mse_path_  # (L, folds), same alpha order as given (decreasing)
     mean, se = mse.mean(axis=1), mse.std(axis=1, ddof=1) / np.sqrt(mse.shape[1])
@@ -239,63 +263,60 @@ def simulated_result(n: int = 80, p: int = 12, seed: int = 7, focal: bool = True
 
     def model(method, coef_std, **kw):
         coef = coef_std / d.sds
+        intercept = float(d.y.mean() - coef @ d.means)
         return ModelResult(
             method=method,
-            intercept=float(d.y.mean() - coef @ d.means),
+            intercept=intercept,
             coefficients=dict(zip(d.names, map(float, coef))),
             std_coefficients=dict(zip(d.names, map(float, coef_std))),
             selected=[nm for nm, b in zip(d.names, coef_std) if b != 0],
+            fitted=intercept + d.X @ coef,
             **kw,
         )
 
+    i = curve.chosen(spec.choose)
     lasso = model(
         "lasso",
-        std[i_min],
-        penalty=float(alphas[i_min]),
+        std[i],
+        penalty=float(alphas[i]),
         mix=1.0,
-        choice="min",
-        cv_error=float(mean[i_min]),
-        cv_error_se=float(se[i_min]),
+        choice=spec.choose,
+        cv_error=float(mean[i]),
+        cv_error_se=float(se[i]),
         r2=0.9,
         path=path,
         curve=curve,
     )
+    order = np.argsort(-np.abs(std[i_min]))
     by_size = []
     for k in range(1, 5):
-        cols = [f"x{j}" for j in range(k)]
-        idx = [d.names.index(c) for c in cols]
-        beta, rss, *_ = np.linalg.lstsq(np.c_[np.ones(n), d.X[:, idx]], d.y, rcond=None)
-        rss = float(np.sum((d.y - np.c_[np.ones(n), d.X[:, idx]] @ beta) ** 2))
-        by_size.append(SizeRow(k, cols, rss, 1 - rss / float(np.sum(yc**2))))
+        idx = sorted(order[:k].tolist())
+        A = np.c_[np.ones(n), d.X[:, idx]]
+        beta, *_ = np.linalg.lstsq(A, d.y, rcond=None)
+        rss = float(np.sum((d.y - A @ beta) ** 2))
+        by_size.append(SizeRow(k, [d.names[j] for j in idx], rss, 1 - rss / float(np.sum(yc**2))))
     sub = np.zeros(len(d.names))
-    sub[:3] = [1.0, 1.0, 1.0]
+    sub[order[:3]] = std[i_min][order[:3]]
     stepwise = model("forward-stepwise", sub, by_size=by_size, choice="min")
-    focal_res = (
-        FocalResult(
-            "x0",
-            3.0,
-            0.12,
-            2.76,
-            3.24,
-            ["x1", "x2"],
-            ["x1", "x2"],
-            [],
-            "plugin",
-            naive_estimate=3.05,
+    focal_res = None
+    if spec.focal:
+        focal_res = FocalResult(
+            spec.focal, 3.0, 0.12, 2.76, 3.24, [], [], [], "plugin", naive_estimate=3.05
         )
-        if focal
-        else None
-    )
     shares = {nm: float(abs(b) > 0) * 0.9 + 0.05 for nm, b in zip(d.names, std[i_min])}
     stab = StabilityResult(50, shares, 0.6, [k for k, v in shares.items() if v >= 0.6])
+    progress.step(1.0, "done")
+    models = [m for m in (lasso, stepwise) if m.method in spec.methods] or [lasso]
     return StudyResult(
         spec=spec,
         design=d,
-        models=[lasso, stepwise],
+        models=models,
         focal=focal_res,
         stability=stab,
         warnings=["a simulated note"],
         seconds=0.5,
+        tool_version="0.1.0",
+        started="2026-01-01T00:00:00+00:00",
     )
 
 

@@ -114,6 +114,8 @@ def test_validation_curve_marks_both_choices(view):
 
 
 def test_other_tabs_are_filled(view):
+    view.tabs.setCurrentIndex(view.STABILITY_TAB)
+    view.tabs.setCurrentIndex(view.FOCAL_TAB)
     assert view.compare_model.rowCount() == 2
     assert view.sizes_model.rowCount() == 4
     assert "x0" in view.focal_text.text()
@@ -135,6 +137,8 @@ def test_cursor_rows_sorted_by_standardized_size(result):
 
 @pytest.mark.parametrize("suffix,magic", [(".png", b"\x89PNG"), (".svg", b"<?xml")])
 def test_charts_export_to_png_and_svg(view, tmp_path: Path, suffix, magic):
+    view.tabs.setCurrentIndex(view.STABILITY_TAB)
+    view.tabs.setCurrentIndex(view.FOCAL_TAB)
     for chart in (view.path_chart, view.curve_chart, view.share_chart, view.focal_chart):
         out = export_plot(chart.plot, tmp_path / f"{type(chart).__name__}{suffix}")
         assert out.read_bytes()[: len(magic)] == magic

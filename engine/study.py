@@ -49,7 +49,7 @@ def run_study(
     spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None
 ) -> StudyResult:
     """Run every method of ``spec`` and return the result (nothing is written to disk)."""
-    progress = progress or silent()
+    progress = _monotone(progress or silent())
     started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
     t0 = time.perf_counter()
     progress.step(0.0, "reading the sheet")
@@ -110,6 +110,20 @@ def run_study(
         started=started,
         seconds=time.perf_counter() - t0,
     )
+
+
+def _monotone(progress: Progress) -> Progress:
+    """The same progress, but the bar never moves back (parallel parts report out of order)."""
+    callback = progress.callback
+    if callback is None:
+        return progress
+    high = [progress.start]
+
+    def forward(fraction: float, words: str) -> None:
+        high[0] = max(high[0], fraction)
+        callback(high[0], words)
+
+    return Progress(forward, progress.cancel, progress.start, progress.end, progress.prefix)
 
 
 def _unique(items: list[str]) -> list[str]:
@@ -180,6 +194,30 @@ class _MethodRunner:
             **kw,
         )
 
+    def _singular_values(self) -> np.ndarray:
+        if getattr(self, "_sv", None) is None:
+            d = self.d
+            self._sv = np.linalg.svd((d.X - d.means) / d.sds, compute_uv=False)
+        return self._sv
+
+    def _ridge_grid(self) -> np.ndarray:
+        """Ridge penalties spanning the effective degrees of freedom from almost 0 to almost the rank.
+
+        df(lambda) = sum s^2 / (s^2 + n lambda) over the singular values s of the standardized
+        data, so n lambda = 1e3 s_max^2 leaves df below p/1000 and n lambda = 1e-3 s_min^2
+        (smallest nonzero s) leaves it within 0.1% of the rank. A grid tied to the lasso's
+        largest penalty can stop far short of least squares and force the choice onto its end.
+        """
+        s = self._singular_values()
+        n = self.d.n_rows
+        s_max = float(s.max())
+        nonzero = s[s > s_max * 1e-10]
+        top = 1e3 * s_max**2 / n
+        bottom = max(1e-3 * float(nonzero.min()) ** 2 / n, top * 1e-10)
+        if self.spec.penalty_ratio is not None:
+            bottom = top * self.spec.penalty_ratio
+        return np.geomspace(top, bottom, self.spec.n_penalties)
+
     def _path_rss(self, path) -> np.ndarray:
         d = self.d
         out = np.empty(len(path))
@@ -210,7 +248,14 @@ class _MethodRunner:
         return df
 
     def _penalized(
-        self, method: str, mix: float, progress: Progress, penalty_factors=None, fold_factors=None
+        self,
+        method: str,
+        mix: float,
+        progress: Progress,
+        penalty_factors=None,
+        fold_factors=None,
+        path=None,
+        notes: list[str] | None = None,
     ) -> ModelResult:
         from engine.fitting.coordinate import elastic_net_path
         from engine.fitting.ridge import ridge_path
@@ -218,12 +263,13 @@ class _MethodRunner:
 
         d, spec = self.d, self.spec
         progress.step(0.0, "path on all rows")
-        if mix == 0.0:
+        if path is not None:
+            pass
+        elif mix == 0.0:
             path = ridge_path(
                 d.X,
                 d.y,
-                n_penalties=spec.n_penalties,
-                ratio=self._ratio(),
+                penalties=self._ridge_grid(),
                 progress=progress.part(0.0, 0.1),
             )
         else:
@@ -252,13 +298,11 @@ class _MethodRunner:
         if mix == 0.0:
             from engine.fitting.ridge import ridge_df
 
-            Z = (d.X - d.means) / d.sds
-            s = np.linalg.svd(Z, compute_uv=False)
-            df = ridge_df(s, path.penalties, d.n_rows)
+            df = ridge_df(self._singular_values(), path.penalties, d.n_rows)
         else:
             df = self._enet_df(path)
-        notes = []
-        if idx == len(path) - 1 and mix > 0:
+        notes = list(notes or []) + list(getattr(path, "notes", None) or [])
+        if idx == len(path) - 1:
             notes.append(
                 "the chosen penalty is the smallest on the grid; a wider grid (smaller penalty ratio) may fit better"
             )
@@ -321,3 +365,180 @@ class _MethodRunner:
 
     def _fit_elastic_net(self, progress: Progress) -> ModelResult:
         return self._penalized("elastic-net", self.spec.mix, progress)
+
+    def _fit_adaptive_lasso(self, progress: Progress) -> ModelResult:
+        from engine.fitting.adaptive import AdaptiveWeights, adaptive_lasso
+
+        d, spec = self.d, self.spec
+        al = adaptive_lasso(
+            d.X,
+            d.y,
+            gamma=spec.adaptive_gamma,
+            n_penalties=spec.n_penalties,
+            ratio=self._ratio(),
+            progress=progress.part(0.0, 0.15, "path on all rows"),
+        )
+        note = (
+            f"weights 1/|b|^{spec.adaptive_gamma:g} from a first {al.init_used} fit, "
+            "recomputed inside each validation part"
+        )
+        return self._penalized(
+            "adaptive-lasso",
+            1.0,
+            progress,
+            penalty_factors=al.weights,
+            fold_factors=AdaptiveWeights(spec.adaptive_gamma),
+            path=al.path,
+            notes=[note],
+        )
+
+    def _fit_post_lasso(self, progress: Progress) -> ModelResult:
+        from engine.fitting.coordinate import elastic_net_path
+        from engine.fitting.post_selection import SELECTION_CAUTION, post_lasso
+
+        d = self.d
+        lasso = self._lasso
+        if lasso is None:
+            lasso = self._fit_lasso(progress.part(0.0, 0.6, "lasso for the selection"))
+        assert lasso.path is not None and lasso.curve is not None
+        idx = lasso.curve.chosen(self.spec.choose)
+        sel = np.flatnonzero(lasso.path.std_coefs[idx])
+        fit = post_lasso(d.X, d.y, sel)
+        # honest validation of the whole procedure: select with the lasso on each training part
+        # (same penalty), refit least squares there, score the held-out rows
+        grid = lasso.path.penalties[: idx + 1]
+        errs = []
+        sub = progress.part(0.6, 1.0, "validation")
+        for k, (tr, te) in enumerate(self.parts):
+            sub.step(k / len(self.parts), f"part {k + 1} of {len(self.parts)}")
+            pth = elastic_net_path(d.X[tr], d.y[tr], mix=1.0, penalties=grid)
+            part_fit = post_lasso(d.X[tr], d.y[tr], np.flatnonzero(pth.std_coefs[-1]))
+            pred = part_fit.intercept + d.X[te] @ part_fit.coefs
+            errs.append(float(np.mean((d.y[te] - pred) ** 2)))
+        e = np.asarray(errs)
+        se = float(e.std(ddof=1) / np.sqrt(len(e))) if len(e) > 1 else None
+        result = self._model(
+            "post-lasso",
+            fit.coefs,
+            fit.intercept,
+            penalty=float(lasso.path.penalties[idx]),
+            mix=1.0,
+            choice=self.spec.choose,
+            cv_error=float(e.mean()),
+            cv_error_se=se,
+            std_errors={d.names[j]: float(fit.std_errors[j]) for j in sel},
+            notes=[SELECTION_CAUTION, f"robust standard errors ({fit.cov_type})"] + list(fit.notes),
+        )
+        return result
+
+    def _fit_best_subset(self, progress: Progress) -> ModelResult:
+        return self._sized("best-subset", progress)
+
+    def _fit_forward_stepwise(self, progress: Progress) -> ModelResult:
+        return self._sized("forward-stepwise", progress)
+
+    def _sized(self, search: str, progress: Progress) -> ModelResult:
+        from engine.fitting.post_selection import robust_ols
+        from engine.tuning.size_crossval import (
+            cross_validate_sizes,
+            size_bic,
+            size_rows,
+            subsets_by_size,
+        )
+
+        d, spec = self.d, self.spec
+        found = subsets_by_size(
+            d.X,
+            d.y,
+            search,
+            exact_limit=spec.max_exact_subset,
+            progress=progress.part(0.0, 0.3, "search on all rows"),
+        )
+        diag: dict = {}
+        curve = cross_validate_sizes(
+            d.X,
+            d.y,
+            self.parts,
+            search=search,
+            max_size=len(found.subsets) - 1,
+            choose=spec.choose,
+            progress=progress.part(0.3, 1.0, "validation"),
+            workers=spec.workers,
+            exact_limit=spec.max_exact_subset,
+            scheme=spec.scheme,
+            diagnostics=diag,
+        )
+        k = int(curve.grid[curve.chosen(spec.choose)])
+        k = min(k, len(found.subsets) - 1)
+        cols = list(found.subsets[k])
+        fit = robust_ols(d.X, d.y, cols)
+        coef = np.zeros(d.n_cols)
+        coef[cols] = fit.coefs
+        tss = float(found.rss[0])
+        sizes = np.array([len(sub) for sub in found.subsets])
+        bic = size_bic(found.rss, sizes, d.n_rows)
+        k_bic = int(sizes[int(np.argmin(bic))])
+        notes = [f"size {k} chosen by validation ({spec.choose}); BIC would choose size {k_bic}"]
+        if found.warning:
+            notes.append(found.warning)
+        if diag.get("approximate_parts"):
+            notes.append(
+                f"{diag['approximate_parts']} validation parts used the approximate search"
+            )
+        if found.approximate:
+            self.notes.append(f"{search}: {found.warning}")
+        i = curve.chosen(spec.choose)
+        return self._model(
+            search,
+            coef,
+            fit.intercept,
+            choice=spec.choose,
+            cv_error=float(curve.mean_error[i]),
+            cv_error_se=float(curve.se[i]),
+            curve=curve,
+            approximate=bool(found.approximate),
+            by_size=size_rows(found.subsets, found.rss, tss, d.n_rows, d.names),
+            notes=notes,
+        )
+
+    # -- beyond the methods ----------------------------------------------------------------
+    def focal(self, progress: Progress):
+        from engine.fitting.double_selection import double_selection
+
+        d, spec = self.d, self.spec
+        j = d.focal_index
+        assert j is not None
+        controls = [i for i in range(d.n_cols) if i != j]
+        if not controls:
+            raise InputProblem(
+                f"double selection needs candidate controls besides the focal column '{spec.focal}'",
+                Place(file=d.source, sheet=d.sheet, column=spec.focal),
+            )
+        ds = double_selection(
+            d.y,
+            d.X[:, j],
+            d.X[:, controls],
+            penalty=spec.focal_penalty,
+            folds=spec.folds,
+            seed=spec.seed,
+            choose=spec.choose,
+            progress=progress,
+            workers=spec.workers,
+        )
+        for note in ds.notes:
+            self.notes.append(f"double selection: {note}")
+        return ds.to_focal(d.names[j], [d.names[i] for i in controls])
+
+    def stability(self, progress: Progress):
+        from engine.fitting.stability import stability_selection
+
+        d, spec = self.d, self.spec
+        st = stability_selection(
+            d.X,
+            d.y,
+            runs=spec.stability_runs,
+            seed=spec.seed,
+            progress=progress,
+            workers=spec.workers,
+        )
+        return st.to_result(d.names)

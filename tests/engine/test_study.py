@@ -1,0 +1,213 @@
+"""The study entry point and `tamis fit`, end to end on CSV files written in the test.
+
+Data are simulated with a known sparse truth (stated as such; not an outside source). The JSON
+keys and meanings are the contract of DESIGN.md.
+"""
+
+import io
+import json
+
+import numpy as np
+import pytest
+
+from engine import cli
+from engine.context import Context
+from engine.errors import Cancelled, InputProblem
+from engine.progress import CancelToken, Progress
+from engine.study import run_study
+from engine.study_spec import StudySpec
+
+
+def _write_csv(path, X, y, names=None, extra=None):
+    names = names or [f"x{j + 1}" for j in range(X.shape[1])]
+    cols = {"y": y, **{nm: X[:, j] for j, nm in enumerate(names)}, **(extra or {})}
+    keys = list(cols)
+    lines = [",".join(keys)]
+    for i in range(len(y)):
+        lines.append(
+            ",".join(
+                repr(float(cols[k][i])) if not isinstance(cols[k][i], str) else cols[k][i]
+                for k in keys
+            )
+        )
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def _sparse_problem(n=80, p=12, seed=0):
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p))
+    beta = np.zeros(p)
+    truth = [j for j in (0, 3, 7) if j < p]
+    beta[truth] = [3.0, -2.0, 1.5][: len(truth)]
+    y = 5.0 + X @ beta + rng.normal(scale=0.5, size=n)
+    return X, y, beta
+
+
+def _fit(argv, tmp_path):
+    out, err = io.StringIO(), io.StringIO()
+    code = cli.main(argv, Context(stdout=out, stderr=err, config_dir=tmp_path / "cfg"))
+    return code, out.getvalue(), err.getvalue()
+
+
+def test_fit_json_contract_and_truth_recovered(tmp_path):
+    X, y, beta = _sparse_problem()
+    book = _write_csv(tmp_path / "sim.csv", X, y)
+    code, out, err = _fit(
+        [
+            "fit",
+            str(book),
+            "--response",
+            "y",
+            "--json",
+            "--folds",
+            "5",
+            "--methods",
+            "ols,ridge,lasso,elastic-net",
+        ],
+        tmp_path,
+    )
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["response"] == "y" and doc["rows_used"] == 80 and doc["rows_dropped"] == 0
+    assert doc["candidates"] == [f"x{j + 1}" for j in range(12)]
+    assert [m["method"] for m in doc["models"]] == ["ols", "ridge", "lasso", "elastic-net"]
+    for m in doc["models"]:
+        assert set(m["coefficients"]) == set(doc["candidates"])
+        assert m["cv_error"] > 0 and m["cv_error_se"] > 0
+    lasso = doc["models"][2]
+    assert {"x1", "x4", "x8"} <= set(lasso["selected"])
+    assert lasso["coefficients"]["x1"] == pytest.approx(3.0, abs=0.3)
+    ridge = doc["models"][1]
+    assert len(ridge["selected"]) == 12  # ridge shrinks but keeps every column (common practice)
+    assert doc["output"] is None
+
+
+def test_same_seed_same_output_to_the_last_digit(tmp_path):
+    X, y, _ = _sparse_problem(seed=3)
+    book = _write_csv(tmp_path / "sim.csv", X, y)
+    argv = [
+        "fit",
+        str(book),
+        "--response",
+        "y",
+        "--json",
+        "--folds",
+        "4",
+        "--methods",
+        "lasso,elastic-net",
+        "--seed",
+        "7",
+    ]
+    first = _fit(argv, tmp_path)[1]
+    second = _fit(argv, tmp_path)[1]
+    assert first == second
+    third = _fit(argv[:-1] + ["8"], tmp_path)[1]
+    assert third != first  # another seed gives other folds
+
+
+def test_more_columns_than_rows_runs_and_skips_least_squares_with_a_note(tmp_path):
+    rng = np.random.default_rng(5)
+    X = rng.normal(size=(30, 60))
+    y = 2 * X[:, 0] - X[:, 1] + rng.normal(scale=0.3, size=30)
+    book = _write_csv(tmp_path / "wide.csv", X, y)
+    code, out, err = _fit(
+        ["fit", str(book), "--response", "y", "--json", "--folds", "5", "--methods", "ols,lasso"],
+        tmp_path,
+    )
+    assert code == 0, err
+    doc = json.loads(out)
+    assert [m["method"] for m in doc["models"]] == ["lasso"]
+    assert any("least squares left out" in w for w in doc["warnings"])
+
+
+@pytest.mark.parametrize(
+    "extra_args, fragment",
+    [
+        (["--folds", "50"], "50 folds were asked"),
+        (["--response", "name"], "not numbers"),
+        (["--scheme", "grouped", "--group", "team", "--folds", "5"], "group"),
+    ],
+)
+def test_bad_input_exit_2_says_what_to_change(tmp_path, extra_args, fragment):
+    X, y, _ = _sparse_problem(n=20, p=3)
+    names = ["x1", "x2", "x3"]
+    extra = {"name": [f"lot{i}" for i in range(20)], "team": [float(i % 3) for i in range(20)]}
+    book = _write_csv(tmp_path / "b.csv", X, y, names, extra)
+    argv = ["fit", str(book), "--response", "y", "--methods", "lasso"]
+    if "--response" in extra_args:
+        argv = ["fit", str(book), "--methods", "lasso"]
+    code, out, err = _fit(argv + extra_args, tmp_path)
+    assert code == 2, err
+    assert fragment in err and err.startswith("tamis: error:")
+
+
+def test_progress_is_monotone_and_cancel_stops_the_run(tmp_path):
+    X, y, _ = _sparse_problem()
+    book = _write_csv(tmp_path / "sim.csv", X, y)
+    seen = []
+    spec = StudySpec(source=str(book), response="y", methods=("lasso", "ridge"), folds=5)
+    run_study(spec, Progress(lambda f, w: seen.append(f)))
+    assert seen[-1] == 1.0 and all(b >= a - 1e-12 for a, b in zip(seen, seen[1:]))
+
+    token = CancelToken()
+
+    def cancel_midway(f, w):
+        if f > 0.3:
+            token.cancel()
+
+    with pytest.raises(Cancelled):
+        run_study(spec, Progress(cancel_midway, token))
+
+
+def test_response_with_zero_variance_is_refused(tmp_path):
+    X, _, _ = _sparse_problem(n=20, p=3)
+    book = _write_csv(tmp_path / "c.csv", X, np.full(20, 4.0))
+    with pytest.raises(InputProblem, match="same value"):
+        run_study(StudySpec(source=str(book), response="y", methods=("lasso",), folds=5))
+
+
+def test_subset_methods_focal_and_stability_reach_the_json(tmp_path):
+    # simulated known truth (stated as such): y depends on x1, x4 and the focal column d
+    rng = np.random.default_rng(11)
+    n, p = 120, 8
+    X = rng.normal(size=(n, p))
+    d = 0.8 * X[:, 0] + rng.normal(size=n)  # the focal column is confounded by x1
+    y = 1.0 + 2.0 * X[:, 0] - 1.5 * X[:, 3] + 0.7 * d + rng.normal(scale=0.5, size=n)
+    book = _write_csv(tmp_path / "f.csv", X, y, extra={"d": d})
+    code, out, err = _fit(
+        [
+            "fit",
+            str(book),
+            "--response",
+            "y",
+            "--json",
+            "--folds",
+            "5",
+            "--focal",
+            "d",
+            "--stability",
+            "20",
+            "--methods",
+            "adaptive-lasso,post-lasso,best-subset,forward-stepwise",
+        ],
+        tmp_path,
+    )
+    assert code == 0, err
+    doc = json.loads(out)
+    by = {m["method"]: m for m in doc["models"]}
+    for name in ("best-subset", "forward-stepwise"):
+        sizes = by[name]["by_size"]
+        assert [r["size"] for r in sizes] == list(range(1, len(sizes) + 1))
+        assert all(
+            a["rss"] >= b["rss"] - 1e-9 for a, b in zip(sizes, sizes[1:])
+        )  # more columns, less RSS
+        assert {"x1", "x4", "d"} <= set(by[name]["selected"])
+    # best subset is never worse than the greedy sequence at any size (invariant)
+    for a, b in zip(by["best-subset"]["by_size"], by["forward-stepwise"]["by_size"]):
+        assert a["rss"] <= b["rss"] + 1e-8
+    assert set(by["post-lasso"]["std_errors"]) == set(by["post-lasso"]["selected"])
+    focal = doc["focal"]
+    assert focal["column"] == "d" and focal["ci_low"] < 0.7 < focal["ci_high"]
+    assert "x1" in focal["controls"]
+    assert doc["stability"]["runs"] == 20 and doc["stability"]["shares"]["x1"] >= 0.6

@@ -16,6 +16,7 @@ import xlsxwriter
 
 from engine.progress import Progress, silent
 from engine.report import names
+from engine.report.bulk_rows import BulkSheet
 from engine.report.scoring_model import ScoringModel, choose_scoring_method
 from engine.report.sheets import coefficients, fitted, path, scoring, settings, summary, validation
 from engine.report.sheets.cells import Formats
@@ -35,9 +36,14 @@ def build_our_sheets(
     progress: Progress | None = None,
     *,
     scoring_blank_rows: int | None = None,
-) -> scoring.ScoringLayout:
-    """Write every result sheet to the new workbook ``target``; returns the scoring layout."""
+) -> tuple[scoring.ScoringLayout, dict[str, BulkSheet]]:
+    """Write every result sheet to the new workbook ``target``.
+
+    Returns the scoring layout and, per sheet name, the numeric blocks still to be spliced into
+    that sheet's XML (see ``bulk_rows``; the package merge does it).
+    """
     progress = progress or silent()
+    bulks = {names.PATH: BulkSheet(), names.FITTED: BulkSheet()}
     book = xlsxwriter.Workbook(str(target), WORKBOOK_OPTIONS)
     try:
         fm = Formats(book)
@@ -49,11 +55,21 @@ def build_our_sheets(
         progress.step(0.05, "coefficients sheet")
         coefficients.write(book, sheets[names.COEFFICIENTS], result, fm)
         progress.step(0.1, "coefficient paths")
-        path.write(book, sheets[names.PATH], result, fm, names.PATH, progress.part(0.1, 0.4))
+        path.write(
+            book,
+            sheets[names.PATH],
+            result,
+            fm,
+            names.PATH,
+            bulks[names.PATH],
+            progress.part(0.1, 0.4),
+        )
         progress.step(0.4, "validation sheet")
         validation.write(book, sheets[names.VALIDATION], result, fm, names.VALIDATION)
         progress.step(0.45, "fitted values")
-        fitted.write(book, sheets[names.FITTED], result, fm, progress.part(0.45, 0.85))
+        fitted.write(
+            book, sheets[names.FITTED], result, fm, bulks[names.FITTED], progress.part(0.45, 0.85)
+        )
         progress.step(0.85, "scoring sheet")
         layout = scoring.write(
             book, sheets[names.SCORING], result, model, fm, n_blank=scoring_blank_rows
@@ -64,4 +80,4 @@ def build_our_sheets(
     finally:
         progress.step(0.95, "saving the result sheets")
         book.close()
-    return layout
+    return layout, bulks

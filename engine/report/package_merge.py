@@ -24,7 +24,7 @@ __all__ = ["MARKER_NAME", "merge_package", "read_sheet_list", "SheetNameTaken", 
 
 import posixpath
 import re
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
 from typing import BinaryIO
 
@@ -200,13 +200,29 @@ def _next_name(part: str, taken: set[str]) -> str:
     return f"{stem}{start}{ext}"
 
 
-def merge_package(base_path: str, ours_path: str, out: BinaryIO, our_names: list[str]) -> None:
-    """Write base + our sheets (replacing our previous ones) to the open binary file ``out``."""
+def merge_package(
+    base_path: str,
+    ours_path: str,
+    out: BinaryIO,
+    our_names: list[str],
+    transforms: dict[str, Callable[[str], str]] | None = None,
+) -> None:
+    """Write base + our sheets (replacing our previous ones) to the open binary file ``out``.
+
+    ``transforms`` maps one of our sheet names to a function applied to its XML text last
+    (used to splice in large numeric blocks, see ``bulk_rows``).
+    """
     with ZipSource(base_path) as base, ZipSource(ours_path) as ours:
-        _merge(base, ours, out, our_names)
+        _merge(base, ours, out, our_names, transforms or {})
 
 
-def _merge(base: ZipSource, ours: ZipSource, out: BinaryIO, our_names: list[str]) -> None:
+def _merge(
+    base: ZipSource,
+    ours: ZipSource,
+    out: BinaryIO,
+    our_names: list[str],
+    transforms: dict[str, Callable[[str], str]],
+) -> None:
     pkg = _open_package(base)
     mine = _open_package(ours)
     wb_xml, rels_xml = pkg.workbook_xml, pkg.rels_xml
@@ -337,10 +353,13 @@ def _merge(base: ZipSource, ours: ZipSource, out: BinaryIO, our_names: list[str]
             target.add(entry.name, replaced[entry.name], like=entry)
         else:
             target.copy(base, entry)
+    part_names = {s.part: s.name for s in mine.sheets}
     for part in order:
         new = rename[part]
         if part in sheet_texts:
-            data = _restyle_sheet(sheet_texts[part], mapping).encode("utf-8")
+            text = _restyle_sheet(sheet_texts.pop(part), mapping)
+            transform = transforms.get(part_names[part])
+            data = (transform(text) if transform else text).encode("utf-8")
         else:
             data = ours.read(part)
         target.add(new, data)

@@ -115,7 +115,7 @@ def write_results(
     progress.step(0.0, "writing the result sheets")
     with tempfile.TemporaryDirectory(prefix="tamis-report-") as tmp:
         ours = Path(tmp) / "ours.xlsx"
-        build_our_sheets(result, ours, progress.part(0.0, 0.8))
+        _, bulks = build_our_sheets(result, ours, progress.part(0.0, 0.8))
         base = source
         if suffix not in _PACKAGES:
             progress.step(0.8, "copying the data")
@@ -125,7 +125,13 @@ def write_results(
 
         def build(fh) -> None:
             try:
-                merge_package(str(base), str(ours), fh, list(names.ALL_SHEETS))
+                merge_package(
+                    str(base),
+                    str(ours),
+                    fh,
+                    list(names.ALL_SHEETS),
+                    {n: b.inject for n, b in bulks.items()},
+                )
             except SheetNameTaken as exc:
                 raise WriteProblem(
                     f"'{source}' already has a sheet named '{exc.name}' that Tamis did not write; "

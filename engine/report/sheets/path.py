@@ -12,6 +12,7 @@ __all__ = ["write", "MAX_SERIES", "CHART_ROWS"]
 
 import numpy as np
 
+from engine.report.bulk_rows import BulkSheet
 from engine.report.sheets.cells import Formats, number, range_ref, text
 
 MAX_SERIES = 40  # spreadsheet charts cap series counts; the table keeps every column
@@ -27,7 +28,9 @@ def _charted(path, names: list[str], ever: np.ndarray, chosen: int) -> list[int]
     return cols[:MAX_SERIES]
 
 
-def write(book, ws, result, fm: Formats, sheet_name: str, progress=None) -> list[tuple[str, int]]:
+def write(
+    book, ws, result, fm: Formats, sheet_name: str, bulk: BulkSheet, progress=None
+) -> list[tuple[str, int]]:
     """Write every penalized method's path; returns (method, header row) per block."""
     d = result.design
     blocks = []
@@ -81,17 +84,9 @@ def write(book, ws, result, fm: Formats, sheet_name: str, progress=None) -> list
         l1 = np.abs(P).sum(axis=1)
         l2 = (P**2).sum(axis=1)
         kept = (P != 0).sum(axis=1)
-        for i in range(L):
-            rr = head + 1 + i
-            number(ws, rr, 0, pen[i])
-            number(ws, rr, 1, l1[i])
-            number(ws, rr, 2, l2[i])
-            ws.write_number(rr, 3, int(kept[i]))
-            row = P[i]
-            for c, j in enumerate(cols):
-                ws.write_number(rr, 4 + c, float(row[j]))
-            if progress is not None and i % 20 == 0:
-                progress.step((b + i / L) / len(models), f"path of {m.method}")
+        bulk.add(head + 1, 0, np.column_stack([pen, l1, l2, kept, P[:, cols]]))
+        if progress is not None:
+            progress.step((b + 1) / len(models), f"path of {m.method}")
         first, last = head + 1, head + L
         chart = book.add_chart({"type": "scatter", "subtype": "straight"})
         pos = {j: 4 + c for c, j in enumerate(cols)}

@@ -32,6 +32,7 @@ __all__ = [
 ]
 
 import datetime as dt
+import re
 from collections import Counter
 
 import numpy as np
@@ -108,6 +109,12 @@ def classify_column(
         values = np.full(n, np.nan)
         values[present_idx] = present.astype(np.float64)
         return _number_column(values, name, heading, letter, n_missing=int(empty.sum()))
+    if from_text_file and types == {str}:
+        plain = _plain_number_texts(present, decimal)
+        if plain is not None:
+            values = np.full(n, np.nan)
+            values[present_idx] = plain
+            return _number_column(values, name, heading, letter, n_missing=int(empty.sum()))
 
     return _classify_mixed(
         cells,
@@ -121,6 +128,84 @@ def classify_column(
         day_first,
         from_text_file,
     )
+
+
+def _plain_number_texts(texts: np.ndarray, decimal: str) -> np.ndarray | None:
+    """Texts that all read as plain numbers ("1.5", "-3", "2e5") converted in one call, or None.
+
+    Anything else (grouping marks, percent, codes with a leading zero, words, "nan") goes the
+    careful way. With a decimal comma, a text holding a point ("1.234" = 1234) also does.
+    """
+    try:
+        values = texts.astype(np.float64)
+    except (ValueError, TypeError, OverflowError):
+        return None
+    if not np.isfinite(values).all():
+        return None
+    # one scan of all texts at once instead of a Python loop over them
+    joined = "\n".join(texts.tolist())
+    if "_" in joined or (decimal == "," and "." in joined) or _LEADING_ZERO.search(joined):
+        return None
+    return values
+
+
+_LEADING_ZERO = re.compile(r"^[ +-]*0\d", re.M)
+_KNOWN_TYPES = frozenset({str, float, int, bool, dt.datetime, dt.date, dt.timedelta})
+_NAN = float("nan")
+# what one cell holds: (code, number, flag value, what a person sees, date)
+_Record = tuple[int, float, float, object, "dt.datetime | None"]
+
+
+def _value_record(v: object) -> _Record:
+    """The record of a cell that is not text."""
+    t = type(v)
+    if t is float or t is int:
+        x = float(v)  # type: ignore[arg-type]
+        return (_NUMBER, x, x if x in (0.0, 1.0) else _NAN, v, None)
+    if t is bool:
+        return (_BOOL, _NAN, 1.0 if v else 0.0, v, None)
+    if t is dt.datetime:
+        return (_DATE, _NAN, _NAN, v, v)  # type: ignore[return-value]
+    if t is dt.date:
+        d = dt.datetime(v.year, v.month, v.day)  # type: ignore[attr-defined]
+        return (_DATE, _NAN, _NAN, v, d)
+    if t is dt.timedelta:  # a duration: read in days, as the spreadsheet stores it
+        return (_NUMBER, v.total_seconds() / 86400.0, _NAN, str(v), None)  # type: ignore[attr-defined]
+    return (_NOFORMULA, _NAN, _NAN, "", None)
+
+
+def _text_records(
+    unique: list[str], decimal: str, day_first: bool
+) -> tuple[dict[str, _Record], str | None]:
+    """Records of distinct texts, and a note when the day/month order of dates was a guess."""
+    if not unique:
+        return {}, None
+    conv = text_number_convention(unique[:_CONVENTION_SAMPLE], default=decimal)
+    date_like = [u for u in unique if looks_like_date(u)]
+    parsed_dates: dict[str, dt.datetime | None] = {}
+    date_note = None
+    if date_like:
+        got, date_note = parse_date_texts(date_like, day_first)
+        parsed_dates = dict(zip(date_like, got))
+    info: dict[str, _Record] = {}
+    for u in unique:
+        s = " ".join(u.split())
+        if not s:
+            info[u] = (_MISSING, _NAN, _NAN, "", None)
+        elif s.upper() in _ERRORS:
+            info[u] = (_ERROR, _NAN, _NAN, s.upper(), None)
+        elif parsed_dates.get(u) is not None:
+            info[u] = (_TEXT_DATE, _NAN, _NAN, s, parsed_dates[u])
+        else:
+            num = None if _is_code(s) else parse_number_text(s, conv)
+            low = s.lower()
+            if num is not None:
+                info[u] = (_TEXT_NUMBER, num, num if num in (0.0, 1.0) else _NAN, s, None)
+            elif low in _FLAG_WORDS:
+                info[u] = (_TEXT_FLAG, _NAN, _FLAG_WORDS[low], s, None)
+            else:
+                info[u] = (_TEXT, _NAN, _NAN, s, None)
+    return info, date_note
 
 
 def _number_column(
@@ -158,90 +243,26 @@ def _classify_mixed(
     from_text_file: bool,
 ) -> Column:
     m = present_idx.size
-    codes = np.full(m, _TEXT, dtype=np.int8)
-    numbers = np.full(m, np.nan)
-    flags = np.full(m, np.nan)
-    dates: list[dt.datetime | None] = [None] * m
-    shown: list[str] = [""] * m  # the text a person sees, for text columns and notes
-    error_codes: Counter[str] = Counter()
+    present = cells[present_idx].tolist()
+    if any(type(v) not in _KNOWN_TYPES and v is not UNCACHED for v in present):
+        # time of day and anything unforeseen: keep the text a person sees
+        present = [
+            v if type(v) in _KNOWN_TYPES or v is UNCACHED else format_plain(v) for v in present
+        ]
 
     # Texts are classified once per distinct text (labels repeat a lot).
-    text_pos: list[int] = []
-    for k, i in enumerate(present_idx):
-        v = cells[i]
-        t = type(v)
-        if t is str:
-            text_pos.append(k)
-        elif t is float or t is int:
-            codes[k] = _NUMBER
-            numbers[k] = v
-            if v == 0 or v == 1:
-                flags[k] = float(v)
-            shown[k] = format_plain(float(v))
-        elif t is bool:
-            codes[k] = _BOOL
-            flags[k] = 1.0 if v else 0.0
-            shown[k] = format_plain(v)
-        elif t is dt.datetime or t is dt.date:
-            codes[k] = _DATE
-            dates[k] = v if t is dt.datetime else dt.datetime(v.year, v.month, v.day)
-            shown[k] = format_plain(v)
-        elif v is UNCACHED:
-            codes[k] = _NOFORMULA
-        elif t is dt.timedelta:  # a duration: read in days, as the spreadsheet stores it
-            codes[k] = _NUMBER
-            numbers[k] = v.total_seconds() / 86400.0
-            shown[k] = str(v)
-        else:  # time of day and anything unforeseen: keep the text
-            text_pos.append(k)
-            cells_text = format_plain(v)
-            shown[k] = cells_text
-
-    if text_pos:
-        texts = [
-            cells[present_idx[k]] if type(cells[present_idx[k]]) is str else shown[k]
-            for k in text_pos
-        ]
-        unique = list(dict.fromkeys(texts))
-        conv = text_number_convention(unique[:_CONVENTION_SAMPLE], default=decimal)
-        date_like = [u for u in unique if looks_like_date(u)]
-        parsed_dates: dict[str, dt.datetime | None] = {}
-        date_note = None
-        if date_like:
-            got, date_note = parse_date_texts(date_like, day_first)
-            parsed_dates = dict(zip(date_like, got))
-        info: dict[str, tuple[int, float, float, str]] = {}
-        for u in unique:
-            s = " ".join(u.split())
-            low = s.lower()
-            if not s:
-                info[u] = (_MISSING, np.nan, np.nan, "")
-            elif s.upper() in _ERRORS:
-                info[u] = (_ERROR, np.nan, np.nan, s.upper())
-            elif parsed_dates.get(u) is not None:
-                info[u] = (_TEXT_DATE, np.nan, np.nan, s)
-            else:
-                num = None if _is_code(s) else parse_number_text(s, conv)
-                if num is not None:
-                    info[u] = (_TEXT_NUMBER, num, num if num in (0.0, 1.0) else np.nan, s)
-                elif low in _FLAG_WORDS:
-                    info[u] = (_TEXT_FLAG, np.nan, _FLAG_WORDS[low], s)
-                else:
-                    info[u] = (_TEXT, np.nan, np.nan, s)
-        any_code = any(_is_code(u) for u in unique)
-        for k, u in zip(text_pos, texts):
-            code, num, flag, s = info[u]
-            codes[k] = code
-            numbers[k] = num
-            flags[k] = flag
-            shown[k] = s
-            if code == _TEXT_DATE:
-                dates[k] = parsed_dates[u]
-            elif code == _ERROR:
-                error_codes[s] += 1
-    else:
-        any_code = False
-        date_note = None
+    unique = list(dict.fromkeys(v for v in present if type(v) is str))
+    info, date_note = _text_records(unique, decimal, day_first)
+    any_code = any(_is_code(u) for u in unique)
+    records = [info[v] if type(v) is str else _value_record(v) for v in present]
+    code_list, number_list, flag_list, shown, date_list = zip(*records)
+    codes = np.array(code_list, dtype=np.int8)
+    numbers = np.array(number_list, dtype=np.float64)
+    flags = np.array(flag_list, dtype=np.float64)
+    dates: list[dt.datetime | None] = list(date_list)
+    error_codes: Counter[str] = Counter(
+        str(shown[k]) for k in np.flatnonzero(codes == _ERROR).tolist()
+    )
 
     counts = np.bincount(codes, minlength=10)
     n_errors = int(counts[_ERROR])
@@ -263,7 +284,7 @@ def _classify_mixed(
             & np.isin(codes, (_NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT))
         )
         if bad.size:
-            named = ", ".join(f"{cell_at(k)} '{shown[k]}'" for k in bad[:3])
+            named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[:3])
             more = f" and {bad.size - 3} more" if bad.size > 3 else ""
             notes.append(
                 f"{bad.size} cell{'s' if bad.size > 1 else ''} that {'are' if bad.size > 1 else 'is'} not {what} treated as missing: {named}{more}"
@@ -338,9 +359,9 @@ def _classify_mixed(
     else:
         keep = ~np.isin(codes, (_MISSING, _ERROR, _NOFORMULA))
         labels = np.full(n, None, dtype=object)
-        shown_arr = np.array(shown, dtype=object)
-        labels[present_idx[keep]] = shown_arr[keep]
-        tally = Counter(shown_arr[keep].tolist())
+        kept = [_seen(shown[k]) for k in np.flatnonzero(keep).tolist()]
+        labels[present_idx[keep]] = kept
+        tally = Counter(kept)
         distinct = len(tally)
         if distinct <= CATEGORY_MAX_SHARE * usable and distinct <= CATEGORY_MAX_LEVELS:
             kind = ColumnKind.CATEGORY
@@ -362,6 +383,11 @@ def _classify_mixed(
     col.errors = n_errors
     col.notes = notes
     return col
+
+
+def _seen(value: object) -> str:
+    """The text a person sees in the cell."""
+    return value if type(value) is str else format_plain(value)
 
 
 def _share(usable: int) -> float:

@@ -158,6 +158,9 @@ class StudyResult:
     started: str = ""  # ISO 8601 date and time of the run
     seconds: float = 0.0
     output: str | None = None
+    # size, mtime and SHA-256 of the source when it was read (engine.report.fingerprint(path)
+    # .to_dict()); in-place writing refuses a file that no longer matches it
+    source_fingerprint: dict[str, Any] | None = None
 
     def model(self, method: str) -> ModelResult:
         for m in self.models:

@@ -183,7 +183,8 @@ class ZipTarget:
 
     def add(self, name: str, data: bytes, like: ZipEntry | None = None) -> None:
         """Deflate ``data`` as a new entry; ``like`` keeps an old entry's time and attributes."""
-        comp = zlib.compressobj(6, zlib.DEFLATED, -15)
+        # large parts of ours get the fastest deflate level: a little larger, several times quicker
+        comp = zlib.compressobj(1 if len(data) > (4 << 20) else 6, zlib.DEFLATED, -15)
         packed = comp.compress(data) + comp.flush()
         crc = zlib.crc32(data) & 0xFFFFFFFF
         raw_name = name.encode("utf-8")

@@ -69,6 +69,9 @@ def test_in_place_keeps_every_user_part_byte_identical(rich):
     assert _xfs(after["xl/styles.xml"])[: len(_xfs(before["xl/styles.xml"]))] == _xfs(
         before["xl/styles.xml"]
     )
+    # the document properties list our sheets among the worksheets
+    assert b"<vt:lpstr>TM Settings</vt:lpstr>" in after["docProps/app.xml"]
+    assert b"<vt:i4>10</vt:i4>" in after["docProps/app.xml"]
     if book.suffix == ".xlsm":
         assert after["xl/vbaProject.bin"] == MACRO_BYTES
         assert b"macroEnabled" in after["[Content_Types].xml"]

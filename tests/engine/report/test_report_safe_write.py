@@ -114,3 +114,32 @@ def test_change_during_writing_is_refused(tmp_path, monkeypatch):
     monkeypatch.setattr(safe_write, "_checkpoint", someone_saves)
     with pytest.raises(WriteProblem, match="changed on disk"):
         write_results(result, in_place=True)
+
+
+def test_cancel_before_saving_writes_nothing(tmp_path):
+    from engine.errors import Cancelled
+    from engine.progress import CancelToken, Progress
+
+    result, _ = make_result(tmp_path, name="book.xlsx")
+    book = Path(result.spec.source)
+    old = book.read_bytes()
+    token = CancelToken()
+    seen = []
+
+    def cancel_midway(fraction, words):
+        seen.append(words)
+        if "fitted" in words:
+            token.cancel()
+
+    with pytest.raises(Cancelled):
+        write_results(result, in_place=True, progress=Progress(cancel_midway, token))
+    assert book.read_bytes() == old
+    assert sorted(p.name for p in tmp_path.iterdir() if p.is_file()) == ["book.xlsx"]
+
+
+def test_recorded_fingerprint_as_dict_is_accepted(tmp_path):
+    result, _ = make_result(tmp_path, name="book.xlsx")
+    book = Path(result.spec.source)
+    result.source_fingerprint = fingerprint(book).to_dict()
+    write_results(result, in_place=True)
+    verify_results_file(book)

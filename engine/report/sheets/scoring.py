@@ -292,7 +292,7 @@ def write(
         r = first + t
         ex = examples[t] if t < len(examples) else None
         paste = f"{cell_ref(r, 0, False, True)}:{cell_ref(r, max(m - 1, 0), False, True)}"
-        empty = f"COUNTA({paste})=0"
+        empty = f"COUNTA({paste})=0" if m else "FALSE"  # a model with no column: a constant
         encoded: list[float] = []
         for s_i, s in enumerate(sources):
             is_date = source_kind(encs, s) == "date"

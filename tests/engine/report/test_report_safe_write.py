@@ -27,7 +27,7 @@ class Crash(Exception):
 @pytest.mark.parametrize("step", safe_write.STEPS)
 @pytest.mark.parametrize("first_run", [True, False])
 def test_crash_at_each_step_leaves_old_or_new(tmp_path, monkeypatch, step, first_run):
-    result, _ = make_result(tmp_path, name="book.xlsx", writer=write_rich)
+    result, _ = make_result(tmp_path, name="book.xlsx")
     book = Path(result.spec.source)
     if not first_run:
         write_results(result, in_place=True)

@@ -155,3 +155,22 @@ def test_summary_names_source_methods_and_cautions(written):
         "extrapolate",
     ):
         assert needle in text
+
+
+def test_a_model_without_columns_scores_its_constant(tmp_path):
+    """Invariant: with every coefficient zero the prediction is the intercept, with no formula
+    referring to its own cell."""
+    result, _ = make_result(tmp_path)
+    lasso = result.model("lasso")
+    for k in lasso.coefficients:
+        lasso.coefficients[k] = 0.0
+        lasso.std_coefficients[k] = 0.0
+    lasso.intercept = float(result.design.y.mean())
+    lasso.cv_error = 0.0  # make it the scoring model
+    out = write_results(result, out=tmp_path / "null.xlsx")
+    ws = openpyxl.load_workbook(out)["TM Scoring"]
+    head = next(r for r in range(1, 40) if str(ws.cell(r, 1).value).startswith("Prediction of"))
+    formula = ws.cell(head + 1, 1).value
+    assert formula.startswith("=") and "A" + str(head + 1) not in formula
+    cached = openpyxl.load_workbook(out, data_only=True)["TM Scoring"].cell(head + 1, 1).value
+    assert cached == pytest.approx(lasso.intercept)

@@ -136,15 +136,22 @@ def _plain_number_texts(texts: np.ndarray, decimal: str) -> np.ndarray | None:
     Anything else (grouping marks, percent, codes with a leading zero, words, "nan") goes the
     careful way. With a decimal comma, a text holding a point ("1.234" = 1234) also does.
     """
+    # one scan of all texts at once instead of a Python loop over them
+    joined = "\n".join(texts.tolist())
+    if "_" in joined or _LEADING_ZERO.search(joined):
+        return None
+    if decimal == ",":
+        if "." in joined:
+            return None
+        parts = joined.replace(",", ".").split("\n")
+        if len(parts) != texts.size:  # a text held a line break: take the careful way
+            return None
+        texts = np.array(parts, dtype=object)
     try:
         values = texts.astype(np.float64)
     except (ValueError, TypeError, OverflowError):
         return None
     if not np.isfinite(values).all():
-        return None
-    # one scan of all texts at once instead of a Python loop over them
-    joined = "\n".join(texts.tolist())
-    if "_" in joined or (decimal == "," and "." in joined) or _LEADING_ZERO.search(joined):
         return None
     return values
 

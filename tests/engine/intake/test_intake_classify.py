@@ -102,3 +102,29 @@ def test_durations_and_times_do_not_crash():
     assert col.values.tolist() == pytest.approx([0.5, 1.0])
     col = _col([dt.time(8, 30), dt.time(9, 0), dt.time(8, 30), dt.time(9, 0)])
     assert col.kind == ColumnKind.CATEGORY and col.levels == ["08:30:00", "09:00:00"]
+
+
+def test_fast_and_careful_number_reading_agree():
+    # Two routes: the one-call conversion of plain numeric text and the cell-by-cell reader.
+    from engine.intake.cells import parse_number_text
+    from engine.intake.classify import _plain_number_texts
+
+    rng = np.random.default_rng(11)
+    xs = rng.normal(scale=1e4, size=500)
+    for decimal in (".", ","):
+        texts = [f"{x:.4f}" if decimal == "." else f"{x:.4f}".replace(".", ",") for x in xs]
+        texts += ["12", "-0.5" if decimal == "." else "-0,5", "3e2", " 7 "]
+        arr = np.array(texts, dtype=object)
+        fast = _plain_number_texts(arr, decimal)
+        assert fast is not None
+        careful = [parse_number_text(t, decimal) for t in texts]
+        assert fast.tolist() == careful
+    # texts the quick route must hand over to the careful one
+    for bad in (["1", "007"], ["1", "1_000"], ["1", "nan"], ["1", "12%"]):
+        assert _plain_number_texts(np.array(bad, dtype=object), ".") is None
+    assert _plain_number_texts(np.array(["1.234", "2,5"], dtype=object), ",") is None
+
+
+def test_csv_style_columns_with_a_code_stay_text():
+    col = _col(["0123", "4567", "0042", "9999"], from_text_file=True)
+    assert col.kind == ColumnKind.IDENTIFIER and col.values[0] == "0123"

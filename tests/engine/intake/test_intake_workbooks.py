@@ -286,3 +286,19 @@ def test_columns_without_heading_are_named_by_letter(tmp_path):
     assert [c.name for c in table.columns] == ["a", "column B", "c"]
     assert table.column("c").kind.value == "empty"
     assert any("no heading" in w and "B" in w for w in table.warnings)
+
+
+def test_macro_enabled_name_and_content_decide_the_format(tmp_path):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["a", "b"])
+    ws.append([1, "x"])
+    ws.append([2, "y"])
+    xlsm = tmp_path / "macros.xlsm"
+    wb.save(xlsm)
+    table = read_table(xlsm)
+    assert table.file_format == "xlsm" and table.column("a").values.tolist() == [1.0, 2.0]
+    # an .xlsx package saved under an .xls name is read by its content
+    renamed = tmp_path / "renamed.xls"
+    renamed.write_bytes(xlsm.read_bytes())
+    assert read_table(renamed).file_format == "xlsx"

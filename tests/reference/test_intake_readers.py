@@ -147,7 +147,7 @@ def _write_messy(path: Path) -> Path:
 
     sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine" / "intake"))
     try:
-        from conftest import write_messy_book
+        from intake_corpus import write_messy_book
     finally:
         sys.path.pop(0)
     write_messy_book(path)

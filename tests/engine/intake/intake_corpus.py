@@ -1,7 +1,8 @@
 """Builders of ugly workbooks for the intake tests, generated inside the tests.
 
 Each builder writes a file with a known layout and returns the facts a correct reader must
-find, computed from the construction itself (not from Tamis).
+find, computed from the construction itself (not from Tamis). A plain helper module rather
+than a conftest.py, because several test folders import helpers by module name.
 """
 
 from __future__ import annotations
@@ -12,7 +13,6 @@ import zipfile
 from pathlib import Path
 
 import openpyxl
-import pytest
 
 MESSY_ROWS = 24  # data rows in the messy sheet, blank rows not counted
 MESSY_BLANK_AFTER = 10  # one blank row after this many data rows
@@ -155,9 +155,3 @@ def rewrite_part(src: Path, dst: Path, part: str, data: bytes) -> None:
     with zipfile.ZipFile(src) as zin, zipfile.ZipFile(dst, "w", zipfile.ZIP_DEFLATED) as zout:
         for info in zin.infolist():
             zout.writestr(info, data if info.filename == part else zin.read(info.filename))
-
-
-@pytest.fixture
-def messy_book(tmp_path: Path) -> tuple[Path, dict]:
-    path = tmp_path / "bakery demand.xlsx"
-    return path, write_messy_book(path)

@@ -6,12 +6,19 @@ import io
 import json
 import types
 
-from conftest import MESSY_ROWS
+import pytest
+from intake_corpus import MESSY_ROWS, write_messy_book
 
 from engine.cli import main
 from engine.commands.inspect import run
 from engine.context import Context
 from engine.intake import describe_table, read_table
+
+
+@pytest.fixture
+def messy_book(tmp_path):
+    path = tmp_path / "bakery demand.xlsx"
+    return path, write_messy_book(path)
 
 
 def _ctx(tmp_path) -> Context:

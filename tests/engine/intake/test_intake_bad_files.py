@@ -8,7 +8,7 @@ import zipfile
 
 import openpyxl
 import pytest
-from conftest import rewrite_part, write_encrypted_container
+from intake_corpus import rewrite_part, write_encrypted_container
 
 from engine.errors import InputProblem
 from engine.intake import list_sheets, read_table

@@ -9,10 +9,16 @@ import numpy as np
 import openpyxl
 import pytest
 import xlsxwriter
-from conftest import MESSY_ROWS, write_formula_book
+from intake_corpus import MESSY_ROWS, write_formula_book, write_messy_book
 
 from engine.errors import InputProblem
 from engine.intake import ColumnKind, describe_table, list_sheets, read_table
+
+
+@pytest.fixture
+def messy_book(tmp_path):
+    path = tmp_path / "bakery demand.xlsx"
+    return path, write_messy_book(path)
 
 
 def test_messy_sheet_layout(messy_book):

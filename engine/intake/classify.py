@@ -294,7 +294,9 @@ def _classify_mixed(
             named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[:3])
             more = f" and {bad.size - 3} more" if bad.size > 3 else ""
             notes.append(
-                f"{bad.size} cell{'s' if bad.size > 1 else ''} that {'are' if bad.size > 1 else 'is'} not {what} treated as missing: {named}{more}"
+                f"{bad.size} cells that are not {what} treated as missing: {named}{more}"
+                if bad.size > 1
+                else f"1 cell that is not {_SINGULAR[what]} treated as missing: {named}"
             )
         return int(bad.size)
 
@@ -390,6 +392,9 @@ def _classify_mixed(
     col.errors = n_errors
     col.notes = notes
     return col
+
+
+_SINGULAR = {"numbers": "a number", "dates": "a date", "yes/no values": "a yes/no value"}
 
 
 def _seen(value: object) -> str:

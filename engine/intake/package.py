@@ -7,6 +7,9 @@ only runs when the sheet has empty cells where such cells could hide, and a quic
 skips the parse when the XML holds no formula and no error at all.
 
 Positions are 0-based (row, column) pairs.
+
+Limitation: the binary .xls format is not parsed here, so in an .xls file an error cell
+counts as missing but not as an error (and formulas there always carry a result).
 """
 
 from __future__ import annotations

@@ -87,7 +87,7 @@ def mark_near_duplicates(columns: list[Column]) -> None:
                 col.notes.append(f"same values as column '{other.name}'")
             else:
                 col.notes.append(
-                    f"almost the same as column '{other.name}' (correlation {rij:.6f})"
+                    f"a straight-line copy of column '{other.name}' (correlation {rij:.6f})"
                 )
             col.near_duplicate_of = other.name
             break

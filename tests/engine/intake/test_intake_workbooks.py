@@ -121,7 +121,7 @@ def test_constant_duplicate_and_near_duplicate(messy_book):
     assert any("same values as column 'price'" in n for n in table.column("price again").notes)
     cents = table.column("price cents")
     assert cents.near_duplicate_of in ("price", "price again")
-    assert any("almost the same" in n for n in cents.notes)
+    assert any("straight-line copy" in n for n in cents.notes)
     assert table.column("demand").near_duplicate_of is None
     empty = table.column("comment")
     assert empty.missing == MESSY_ROWS and not empty.constant

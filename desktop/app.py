@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["main", "make_app"]
+__all__ = ["main", "make_app", "run_and_exit"]
 
 import sys
 from collections.abc import Sequence
@@ -48,8 +48,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     window.show()
     if book:
         window.open_book(book)
-    return int(app.exec())
+    code = int(app.exec())
+    window.runner.shutdown()
+    return code
+
+
+def run_and_exit(argv: Sequence[str] | None = None) -> None:
+    """For launchers only: run ``main`` and leave without the interpreter's final clean-up.
+
+    A reference-count slip in a compiled extension (seen with PySide6 6.12 after long runs)
+    can abort the interpreter while it tears objects down at exit; the user's work is saved
+    by then, so we flush and leave directly. Never called by tests or by ``tamis desktop``.
+    """
+    import os
+
+    code = main(argv)
+    sys.stdout.flush()
+    sys.stderr.flush()
+    os._exit(code)
 
 
 if __name__ == "__main__":
-    raise SystemExit(main())
+    run_and_exit()

@@ -27,7 +27,7 @@ from PySide6.QtWidgets import (
 )
 
 from desktop.roles import ROLE_HELP, Role, all_numeric_as_candidates
-from desktop.table_models import COL_CHECK, COL_NAME, COL_ROLE, ColumnLedgerModel
+from desktop.table_models import COL_NAME, COL_ROLE, ColumnLedgerModel
 
 
 class RoleDelegate(QStyledItemDelegate):
@@ -176,7 +176,8 @@ class ColumnLedger(QWidget):
         r = self.model.row_of(name)
         if r >= 0:
             self.filter.clear()
-            self.view.scrollTo(self.proxy.mapFromSource(self.model.index(r, COL_CHECK)))
+            self.view.scrollTo(self.proxy.mapFromSource(self.model.index(r, COL_NAME)))
+            self.view.horizontalScrollBar().setValue(0)
 
     # slots ------------------------------------------------------------------------------
     def _on_set_role_box(self, i: int) -> None:

@@ -318,7 +318,7 @@ class MainWindow(QMainWindow):
         self.bench.addWidget(self.pages)
         self.bench.setStretchFactor(0, 2)
         self.bench.setStretchFactor(1, 3)
-        self.bench.setSizes([560, 800])
+        self.bench.setSizes([540, 900])
 
         # welcome page for the empty state
         welcome = QWidget()

@@ -186,8 +186,10 @@ class ResultView(QWidget):
         ll.addWidget(self.path_chart, 1)
         split.addWidget(left)
         split.addWidget(side)
+        side.setMinimumWidth(280)
         split.setStretchFactor(0, 3)
         split.setStretchFactor(1, 2)
+        split.setSizes([620, 340])
         return split
 
     def _build_curve_tab(self) -> QWidget:

@@ -155,7 +155,7 @@ class PathChart(QWidget):
         """Name the largest lines where they end (the weakest penalty), skipping crowded ones."""
         path = self.path
         assert path is not None
-        end = int(np.argmax(self._x))
+        end = len(path) - 1  # the weakest penalty: the right-hand end on either axis
         values = {n: float(path.std_coefs[end, self.names.index(n)]) for n in self._lines}
         span = max((abs(v) for v in values.values()), default=0.0) or 1.0
         placed: list[float] = []

@@ -51,7 +51,7 @@ from sklearn.linear_model._cd_fast import (
     enet_coordinate_descent,
     enet_coordinate_descent_gram,
 )
-from threadpoolctl import threadpool_limits
+from threadpoolctl import ThreadpoolController
 
 from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
@@ -82,6 +82,17 @@ def normalize_penalty_factors(penalty_factors: np.ndarray | None, p: int) -> np.
     if total <= 0:
         raise ValueError("at least one column must be penalized (all penalty factors are 0)")
     return v * (p / total)
+
+
+_CONTROLLER: ThreadpoolController | None = None
+
+
+def one_blas_thread():
+    """Context limiting BLAS to one thread (the library scan is done once and cached)."""
+    global _CONTROLLER
+    if _CONTROLLER is None:
+        _CONTROLLER = ThreadpoolController()
+    return _CONTROLLER.limit(limits=1, user_api="blas")
 
 
 # --------------------------------------------------------------------------------------------
@@ -121,6 +132,10 @@ class _GramProblem:
 
     def cross_block(self, A: np.ndarray, B: np.ndarray) -> np.ndarray:
         return self.Q[np.ix_(A, B)]
+
+    def ztz(self, A: np.ndarray, x: np.ndarray) -> np.ndarray:
+        """Z' Z_A x for x of shape (|A|,) or (|A|, k)."""
+        return self.Q[A].T @ x
 
     def gradient(self, beta: np.ndarray) -> np.ndarray:
         """z_j' r for all columns, r = yc - Z beta."""
@@ -188,6 +203,13 @@ class _ResidualProblem:
 
     def cross_block(self, A: np.ndarray, B: np.ndarray) -> np.ndarray:
         return self._zcols(A).T @ self._zcols(B)
+
+    def ztz(self, A: np.ndarray, x: np.ndarray) -> np.ndarray:
+        """Z' Z_A x for x of shape (|A|,) or (|A|, k)."""
+        zx = self._zcols(A) @ x
+        if zx.ndim == 1:
+            return self._xt(zx)
+        return np.column_stack([self._xt(zx[:, i]) for i in range(zx.shape[1])])
 
     def _zcols(self, A: np.ndarray) -> np.ndarray:
         sub = self.X[:, A] if self.rows is None else self.X[np.ix_(self.rows, A)]
@@ -477,6 +499,96 @@ class _GrowingCholesky:
         return x[idx]
 
 
+# largest number of breakpoints followed between two grid penalties before giving up
+_HOMOTOPY_EVENTS = 400
+_USE_HOMOTOPY = True  # switch for comparisons in benchmarks
+
+
+class _LassoHomotopy:
+    """Exact lasso solutions between two penalties by following the piecewise-linear path.
+
+    On an interval where the active set A and signs s do not change, the conditions
+    Z_A'Z_A beta_A = Z_A'yc - n*lambda*V_A s give beta_A = u - n*lambda*w and the gradient of
+    every column g_j = a_j + n*lambda*c_j, both linear in lambda; the next breakpoint is where
+    an inactive |g_j| reaches n*lambda*v_j (the column enters) or an active coefficient
+    reaches 0 (it leaves). This is least angle regression with the lasso modification (Efron,
+    Hastie, Johnstone & Tibshirani 2004, Ann. Stat. 32(2); Osborne, Presnell & Turlach 2000,
+    IMA J. Numer. Anal. 20(3)), used here only between neighbouring grid penalties and only
+    when it stays well conditioned; otherwise the caller falls back to coordinate descent.
+    """
+
+    def __init__(self, prob, v: np.ndarray, chol: _GrowingCholesky):
+        self.prob = prob
+        self.v = v
+        self.n = prob.n
+        self.chol = chol
+
+    def run(self, beta: np.ndarray, lam_from: float, lam_to: float):
+        from scipy.linalg import cho_solve
+
+        prob, v, n = self.prob, self.v, self.n
+        p = beta.shape[0]
+        A = np.flatnonzero(beta)
+        s = np.sign(beta[A])
+        lam = lam_from
+        for _ in range(_HOMOTOPY_EVENTS):
+            if A.size >= n - 1:
+                return None
+            if A.size == 0:
+                ratio_in = np.abs(prob.q) / (n * v)
+                j = int(np.argmax(ratio_in))
+                lam_e = float(ratio_in[j])
+                if lam_e <= lam_to:
+                    return np.zeros(p), prob.q.copy()
+                A = np.array([j])
+                s = np.array([np.sign(prob.q[j])])
+                lam = min(lam, lam_e)
+                continue
+            if not self.chol.fit(A):
+                return None
+            idx = np.array([self.chol.pos[j] for j in A.tolist()])
+            k = len(self.chol.order)
+            rhs = np.zeros((k, 2))
+            rhs[idx, 0] = prob.q[A]
+            rhs[idx, 1] = v[A] * s
+            sol = cho_solve((self.chol.L, True), rhs, check_finite=False)[idx]
+            u, w = sol[:, 0], sol[:, 1]
+            zz = prob.ztz(A, sol)
+            a = prob.q - zz[:, 0]
+            c = zz[:, 1]
+            inactive = np.ones(p, bool)
+            inactive[A] = False
+            upper = lam * (1.0 - 1e-12)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                cand = np.concatenate(
+                    [a / (n * (v - c)), a / (n * (-v - c))]
+                )  # entering with sign + / -
+                cand = np.where(np.concatenate([inactive, inactive]), cand, -np.inf)
+                leave = np.where(w != 0, u / (n * w), -np.inf)
+            cand = np.where((cand > lam_to) & (cand < upper), cand, -np.inf)
+            leave = np.where((leave > lam_to) & (leave < upper), leave, -np.inf)
+            i_in = int(np.argmax(cand))
+            i_out = int(np.argmax(leave))
+            lam_in, lam_out = cand[i_in], leave[i_out]
+            if not np.isfinite(lam_in) and not np.isfinite(lam_out):
+                out = np.zeros(p)
+                out[A] = u - n * lam_to * w
+                g = a + n * lam_to * c
+                return out, g
+            if lam_in >= lam_out:
+                j = i_in % p
+                lam = float(lam_in)
+                sign_j = 1.0 if i_in < p else -1.0
+                order = np.argsort(np.append(A, j), kind="stable")
+                A = np.append(A, j)[order]
+                s = np.append(s, sign_j)[order]
+            else:
+                lam = float(lam_out)
+                keep = np.arange(A.size) != i_out
+                A, s = A[keep], s[keep]
+        return None
+
+
 class _ActiveSetSolver:
     """Exact solution for a given active set A and signs s (the optimality conditions solved
     as linear equations): beta_A = (Z_A'Z_A + n*lambda*(1-mix)*V_A)^-1 (Z_A'yc - n*lambda*mix*V_A s).
@@ -567,12 +679,19 @@ def solve_path(
     max_sweeps: int = 10000,
     progress: Progress | None = None,
     kkt_scale: float | None = None,
+    use_homotopy: bool = True,
+    sink=None,
 ) -> _PathOut:
-    """Standardized coefficients along decreasing ``penalties`` for a prepared problem."""
+    """Standardized coefficients along decreasing ``penalties`` for a prepared problem.
+
+    sink: optional callable (k, beta) receiving each solution instead of storing the (L, p)
+    array (cross-validation only needs held-out predictions); std_coefs is then None.
+    """
     p = prob.p
     free = v == 0
     if np.any(free):
         part = _Partialled(prob, free)
+        inner_sink = None if sink is None else (lambda k, b: sink(k, part.full_beta(b, p)))
         sub = solve_path(
             part.inner,
             penalties,
@@ -582,13 +701,17 @@ def solve_path(
             max_sweeps,
             progress,
             kkt_scale=kkt_scale if kkt_scale is not None else _g_scale(prob),
+            use_homotopy=use_homotopy,
+            sink=inner_sink,
         )
+        if sink is not None:
+            return sub
         full = np.vstack([part.full_beta(b, p) for b in sub.std_coefs])
         return _PathOut(full, sub.n_iter, sub.kkt, sub.notes)
 
     n = prob.n
     L = penalties.shape[0]
-    out = np.zeros((L, p))
+    out = np.zeros((L, p)) if sink is None else None
     iters = np.zeros(L, dtype=int)
     kkt = np.zeros(L)
     notes: list[str] = []
@@ -596,6 +719,8 @@ def solve_path(
     accept_abs = _EXACT_ACCEPT * scale_den
     rng = np.random.RandomState(0)  # only seeds the unused random-order option
     direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
+    use_homotopy = use_homotopy and _USE_HOMOTOPY
+    homotopy = _LassoHomotopy(prob, v, direct._chol) if mix == 1.0 and use_homotopy else None
 
     beta = np.zeros(p)
     g = prob.q.copy()
@@ -611,11 +736,17 @@ def solve_path(
         # 1. the exact solution on the previous active set (plus entering columns), if its
         #    signs and every optimality condition hold, is the answer without any sweep
         exact = None
+        beta_prev = beta
         if direct is not None and np.any(beta):
             exact = direct.try_exact(beta, lam, accept_abs)
+        # near saturation (active set above half the rows) coordinate descent crawls: follow
+        # the exact piecewise-linear lasso path from the previous solution instead
+        if exact is None and homotopy is not None and np.count_nonzero(beta) >= n // 2:
+            exact = _checked(homotopy.run(beta, prev, lam), lam, mix, v, n, accept_abs)
         if exact is not None:
             beta, g = exact
         else:
+            unconverged_here = False
             if mix > 0:
                 strong = ever | (np.abs(g) >= l1w * (2.0 * lam - prev))
             else:
@@ -638,6 +769,7 @@ def solve_path(
                         W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng
                     )
                     total_it += it
+                    unconverged_here = unconverged_here or unconverged
                     if unconverged:
                         notes.append(
                             f"coordinate descent stopped at {max_sweeps} sweeps before "
@@ -659,12 +791,29 @@ def solve_path(
                 polished = direct.polish(beta, g, lam)
                 if polished is not None:
                     beta, g = polished
+            # 3. coordinate descent hit its sweep limit: try the exact path-following route
+            if unconverged_here and homotopy is not None:
+                alt = _checked(homotopy.run(beta_prev, prev, lam), lam, mix, v, n, accept_abs)
+                if alt is not None:
+                    beta, g = alt
+                    notes.pop()
         ever |= beta != 0
-        out[k] = beta
+        if sink is None:
+            out[k] = beta
+        else:
+            sink(k, beta)
         iters[k] = total_it
         kkt[k] = float(np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)) / scale_den
         prev = lam
     return _PathOut(out, iters, kkt, notes)
+
+
+def _checked(res, lam, mix, v, n, accept_abs):
+    """``res`` (beta, gradient) if it satisfies every optimality condition, else None."""
+    if res is None:
+        return None
+    viol = np.max(_violation(res[1], res[0], lam, mix, v, n), initial=0.0)
+    return res if viol <= accept_abs else None
 
 
 def _g_scale(prob) -> float:
@@ -787,7 +936,7 @@ def elastic_net_path(
     v = normalize_penalty_factors(penalty_factors, X.shape[1])
     prob, sc = build_problem(X, y, use_gram=use_gram)
     # the path itself is many small linear-algebra calls: one BLAS thread avoids contention
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         return _path_from(prob, sc, mix, lam, n_penalties, ratio, v, tol, max_sweeps, progress)
 
 

@@ -16,6 +16,7 @@ import numpy as np
 
 # Rows per block when walking a large matrix, so temporaries stay small next to the data.
 _BLOCK_ROWS = 8192
+_BLOCK_CELLS = 1 << 19  # 4 MB of float64 per temporary block
 
 
 @dataclass
@@ -54,16 +55,23 @@ def column_moments(
     total = np.zeros(p)
     hi = np.full(p, -np.inf)
     lo = np.full(p, np.inf)
-    for start in range(0, n, _BLOCK_ROWS):
-        block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n))
-        total += block.sum(axis=0)
-        np.maximum(hi, block.max(axis=0), out=hi)
-        np.minimum(lo, block.min(axis=0), out=lo)
-    means = total / n
     ss = np.zeros(p)
-    for start in range(0, n, _BLOCK_ROWS):
-        block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n)) - means
-        ss += np.einsum("ij,ij->j", block, block)
+    # blocks of at most _BLOCK_ROWS rows and _BLOCK_CELLS cells, so wide data stay light too
+    width = max(1, _BLOCK_CELLS // min(n, _BLOCK_ROWS))
+    for c0 in range(0, p, width):
+        cols = slice(c0, min(c0 + width, p))
+        for start in range(0, n, _BLOCK_ROWS):
+            block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n), cols)
+            total[cols] += block.sum(axis=0)
+            np.maximum(hi[cols], block.max(axis=0), out=hi[cols])
+            np.minimum(lo[cols], block.min(axis=0), out=lo[cols])
+    means = total / n
+    for c0 in range(0, p, width):
+        cols = slice(c0, min(c0 + width, p))
+        for start in range(0, n, _BLOCK_ROWS):
+            block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n), cols)
+            block = block - means[cols]
+            ss[cols] += np.einsum("ij,ij->j", block, block)
     constant = hi == lo
     sds = np.sqrt(ss / n)
     sds[constant] = 1.0
@@ -72,8 +80,8 @@ def column_moments(
     return means, sds, constant
 
 
-def _rows(X: np.ndarray, idx: np.ndarray, all_rows: bool, a: int, b: int) -> np.ndarray:
-    return X[a:b] if all_rows else X[idx[a:b]]
+def _rows(X: np.ndarray, idx: np.ndarray, all_rows: bool, a: int, b: int, cols) -> np.ndarray:
+    return X[a:b, cols] if all_rows else X[idx[a:b], cols]
 
 
 def standardize(X: np.ndarray, y: np.ndarray | None = None) -> Standardized:

@@ -23,19 +23,18 @@ from collections.abc import Callable, Sequence
 
 import numpy as np
 from joblib import Parallel, delayed
-from threadpoolctl import threadpool_limits
 
 from engine.fitting.coordinate import (
     _check_penalties,
     _check_xy,
     _problem_lambda_max,
     _residual_problem,
-    _Scaling,
     build_problem,
     cross_products,
     default_ratio,
     gram_problem,
     normalize_penalty_factors,
+    one_blas_thread,
     penalty_grid,
     solve_path,
 )
@@ -91,21 +90,22 @@ def fold_errors(
     else:
         prob, sc = _residual_problem(X, y, train)
     notes: list[str] = []
+    # held-out rows centred and scaled with the TRAINING part's means and sds
+    Zt = (X[test] - sc.means) * sc.inv_sd
+    yt = y[test] - sc.y_mean
     if mix == 0 and np.all(v == 1.0):
         B = RidgeDecomposition(prob, sc).std_coefs(penalties, progress)
-        kkt = 0.0
-    else:
-        res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress)
-        B, kkt, notes = res.std_coefs, float(np.max(res.kkt, initial=0.0)), res.notes
-    return _held_out_mse(X, y, test, sc, B), kkt, notes
+        resid = yt[:, None] - Zt @ B.T
+        return np.mean(resid**2, axis=0), 0.0, notes
+    err = np.zeros(penalties.shape[0])
 
+    def sink(k: int, beta: np.ndarray) -> None:  # only held-out errors are kept, not the path
+        nz = np.flatnonzero(beta)
+        r = yt - Zt[:, nz] @ beta[nz]
+        err[k] = float(r @ r) / r.shape[0]
 
-def _held_out_mse(X, y, test, sc: _Scaling, B: np.ndarray) -> np.ndarray:
-    coefs = B / sc.sds
-    coefs[:, sc.constant] = 0.0
-    pred = (X[test] - sc.means) @ coefs.T + sc.y_mean  # (n_test, L)
-    resid = y[test][:, None] - pred
-    return np.mean(resid**2, axis=0)
+    res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, sink=sink)
+    return err, float(np.max(res.kkt, initial=0.0)), res.notes
 
 
 def cross_validate_path(
@@ -189,7 +189,7 @@ def cross_validate_path(
             progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
 
     # one BLAS thread per worker: the fold work is many small calls that contend otherwise
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         if workers == 1:
             for k in range(len(parts)):
                 collect(run(k))

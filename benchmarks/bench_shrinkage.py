@@ -1,0 +1,285 @@
+"""Speed of Tamis's penalized paths with cross-validation against scikit-learn (not a test).
+
+For each shape (rows x columns) the same simulated data with a sparse truth (10 true columns,
+signal-to-noise about 3), the same 10 folds and the same 100-penalty grid go to both sides:
+
+  lasso  Tamis elastic_net_path + cross_validate_path      vs  sklearn LassoCV
+  enet   the same with mix = 0.5                           vs  sklearn ElasticNetCV(l1_ratio=0.5)
+  ridge  Tamis ridge_path + cross_validate_path (mix = 0)  vs  sklearn RidgeCV(cv=10)
+
+scikit-learn gets the data standardized once (its estimators do not rescale), so both solve
+the same objective with alpha = lambda (Ridge: alpha = n_train * lambda). Its tolerance is
+the loosest of --ref-tols whose largest KKT violation on the full-data path is no worse than
+ours (else the tightest tried), measured with the same scale-free function
+(engine.fitting.coordinate.kkt_violation). The reference time is the best of n_jobs 1 and 2.
+RidgeCV refits per penalty and fold; on large shapes it is timed on --ridge-alphas penalties
+and scaled linearly to 100 (marked "extrapolated").
+
+Prints one table row per shape and method: seconds, ratio Tamis / reference, largest KKT
+violation of each, for n > p the ratio to one Gram product X'X, and the peak traced memory
+of the Tamis run relative to the data matrix. --json writes the rows for docs/benchmarks.md.
+
+    python benchmarks/bench_shrinkage.py --quick
+    python benchmarks/bench_shrinkage.py --shapes 20000x1000,100000x100 --methods lasso
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import sys
+import time
+import tracemalloc
+import warnings
+
+import numpy as np
+
+sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
+
+from engine.fitting.coordinate import elastic_net_path, kkt_violation  # noqa: E402
+from engine.fitting.ridge import ridge_path  # noqa: E402
+from engine.tuning.crossval import cross_validate_path  # noqa: E402
+from engine.tuning.folds import make_folds  # noqa: E402
+
+ALL_SHAPES = ["100x10000", "200x2000", "1000x500", "5000x200", "20000x1000", "100000x100"]
+QUICK_SHAPES = ["100x2000", "500x200", "2000x100"]
+
+
+def simulate(n: int, p: int, seed: int = 0):
+    """Correlated columns (AR(1) rho = 0.5 along the column order), 10 true coefficients."""
+    rng = np.random.default_rng(seed)
+    X = rng.standard_normal((n, p))
+    X[:, 1:] = 0.5 * X[:, :-1] + np.sqrt(0.75) * X[:, 1:]  # neighbour correlation ~0.5
+    X = X * rng.uniform(0.5, 3.0, p) + rng.normal(0, 5, p)
+    k = min(10, p)
+    b = np.zeros(p)
+    idx = rng.choice(p, k, replace=False)
+    b[idx] = rng.choice([-1, 1], k) * rng.uniform(0.5, 2.0, k) / X.std(0)[idx]
+    signal = X @ b
+    y = signal + rng.standard_normal(n) * signal.std() / 3.0 + 10.0
+    return X, y
+
+
+def timed(fn, *fargs, repeat: int = 1):
+    best, out = np.inf, None
+    for _ in range(repeat):
+        t = time.perf_counter()
+        out = fn(*fargs)
+        best = min(best, time.perf_counter() - t)
+    return best, out
+
+
+def tamis_run(X, y, parts, mix, lam, workers):
+    diag: dict = {}
+    if mix == 0:
+        path = ridge_path(X, y, penalties=lam)
+    else:
+        path = elastic_net_path(X, y, mix=mix, penalties=lam)
+    cross_validate_path(
+        X, y, parts, mix, lam, n_selected=path.n_selected, workers=workers, diagnostics=diag
+    )
+    return max(path.max_kkt_violation or 0.0, diag.get("max_kkt_violation", 0.0))
+
+
+def peak_memory_ratio(X, y, parts, mix, lam, workers):
+    tracemalloc.start()
+    tracemalloc.reset_peak()
+    tamis_run(X, y, parts, mix, lam, workers)
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    return peak / X.nbytes
+
+
+def calibrate_tol(Z, yc, lam, mix, ours_kkt, tols):
+    from sklearn.linear_model import enet_path
+
+    n, p = Z.shape
+    chosen, kkt = tols[-1], np.inf
+    for tol in tols:
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            _, coefs, _ = enet_path(
+                Z, yc, l1_ratio=mix, alphas=lam, tol=tol, max_iter=100_000, precompute=n > p
+            )
+        kkt = float(kkt_violation(Z, yc, coefs.T, lam, mix).max())
+        if kkt <= ours_kkt:
+            return tol, kkt
+        chosen = tol
+    return chosen, kkt
+
+
+def reference_cv(Z, y, parts, mix, lam, tol, n_jobs):
+    from sklearn.linear_model import ElasticNetCV, LassoCV
+
+    cv = [(tr, te) for tr, te in parts]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        if mix == 1:
+            est = LassoCV(alphas=lam, cv=cv, tol=tol, max_iter=100_000, n_jobs=n_jobs)
+        else:
+            est = ElasticNetCV(
+                l1_ratio=mix, alphas=lam, cv=cv, tol=tol, max_iter=100_000, n_jobs=n_jobs
+            )
+        return est.fit(Z, y)
+
+
+def reference_ridge(Z, y, parts, lam, n_alphas):
+    from sklearn.linear_model import RidgeCV
+
+    n_train = int(np.mean([tr.size for tr, _ in parts]))
+    alphas = n_train * lam
+    pick = np.unique(np.linspace(0, lam.size - 1, n_alphas).round().astype(int))
+    cv = [(tr, te) for tr, te in parts]
+    t, _ = timed(RidgeCV(alphas=alphas[pick], cv=cv).fit, Z, y)
+    return t * lam.size / pick.size, pick.size < lam.size
+
+
+def run_shape(shape, methods, args):
+    n, p = (int(v) for v in shape.lower().split("x"))
+    X, y = simulate(n, p, seed=args.seed)
+    parts = make_folds(n, "kfold", folds=10, seed=args.seed)
+    Z = (X - X.mean(0)) / X.std(0)
+    yc = y - y.mean()
+    rows = []
+    gram_t = None
+    if n > p:
+        gram_t, _ = timed(np.dot, X.T, X, repeat=3)
+    for method in methods:
+        mix = {"lasso": 1.0, "enet": 0.5, "ridge": 0.0}[method]
+        if mix == 0:
+            lam = ridge_path(X, y, n_penalties=100).penalties
+        else:
+            lam = elastic_net_path(X, y, mix=mix, penalties=None, n_penalties=2).penalties
+            lam = np.geomspace(lam[0], lam[-1], 100)
+        t_ours, kkt_ours = timed(tamis_run, X, y, parts, mix, lam, args.workers)
+        row = {
+            "shape": shape,
+            "method": method,
+            "tamis_s": t_ours,
+            "tamis_kkt": kkt_ours,
+            "gram_s": gram_t,
+            "ratio_to_gram": (t_ours / gram_t) if gram_t else None,
+        }
+        if mix == 0:
+            n_alphas = lam.size if n * p <= args.ridge_full_limit else args.ridge_alphas
+            t_ref, extrap = reference_ridge(Z, y, parts, lam, n_alphas)
+            row.update(
+                ref="RidgeCV(cv=10)",
+                ref_s=t_ref,
+                ref_extrapolated=extrap,
+                ref_tol=None,
+                ref_kkt=None,
+                ref_default_s=None,
+            )
+        else:
+            tol, kkt_ref = calibrate_tol(Z, yc, lam, mix, kkt_ours, args.ref_tols)
+            best = np.inf
+            for jobs in (1, 2):
+                t, _ = timed(reference_cv, Z, y, parts, mix, lam, tol, jobs)
+                best = min(best, t)
+            t_def = np.inf
+            if not args.skip_default:
+                for jobs in (1, 2):
+                    t, _ = timed(reference_cv, Z, y, parts, mix, lam, 1e-4, jobs)
+                    t_def = min(t_def, t)
+            row.update(
+                ref="LassoCV" if mix == 1 else "ElasticNetCV(0.5)",
+                ref_s=best,
+                ref_tol=tol,
+                ref_kkt=kkt_ref,
+                ref_extrapolated=False,
+                ref_default_s=None if args.skip_default else t_def,
+            )
+        row["ratio"] = row["tamis_s"] / row["ref_s"]
+        if args.memory:
+            row["peak_mem_x_data"] = peak_memory_ratio(X, y, parts, mix, lam, args.workers)
+        rows.append(row)
+        print_row(row)
+        sys.stdout.flush()
+    return rows
+
+
+def fmt(x, spec=".3g"):
+    return "-" if x is None else format(x, spec)
+
+
+def print_row(r):
+    print(
+        f"{r['shape']:>11} {r['method']:>5} | tamis {r['tamis_s']:8.3f}s kkt {fmt(r['tamis_kkt'], '.1e')}"
+        f" | {r['ref']} {r['ref_s']:8.3f}s{'*' if r['ref_extrapolated'] else ' '}"
+        f" tol {fmt(r['ref_tol'], '.0e')} kkt {fmt(r['ref_kkt'], '.1e')}"
+        f" | ratio {r['ratio']:.3f}"
+        f" | vs default-tol ref {fmt(r['ref_default_s'] and r['tamis_s'] / r['ref_default_s'])}"
+        f" | /gram {fmt(r['ratio_to_gram'], '.1f')}"
+        f" | mem {fmt(r.get('peak_mem_x_data'), '.2f')}x"
+    )
+
+
+def versions():
+    import joblib
+    import scipy
+    import sklearn
+    import threadpoolctl
+
+    blas = threadpoolctl.threadpool_info()
+    return {
+        "python": platform.python_version(),
+        "numpy": np.__version__,
+        "scipy": scipy.__version__,
+        "scikit-learn": sklearn.__version__,
+        "joblib": joblib.__version__,
+        "blas": sorted({f"{b['internal_api']} {b.get('version')}" for b in blas}),
+        "machine": f"{platform.machine()} {platform.processor() or ''}".strip(),
+        "cores": os.cpu_count(),
+    }
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--shapes", help="comma-separated RxC list (default: the six target shapes)")
+    ap.add_argument("--quick", action="store_true", help="three small shapes, a few seconds each")
+    ap.add_argument("--methods", default="lasso,enet,ridge")
+    ap.add_argument(
+        "--workers", type=int, default=None, help="Tamis parallel parts (default: cores)"
+    )
+    ap.add_argument("--ref-tols", default="1e-4,1e-6,1e-8")
+    ap.add_argument(
+        "--ridge-alphas",
+        type=int,
+        default=10,
+        help="penalties RidgeCV is timed on for large shapes (scaled to 100)",
+    )
+    ap.add_argument(
+        "--ridge-full-limit",
+        type=float,
+        default=2e6,
+        help="rows*cols up to which RidgeCV runs all 100 penalties",
+    )
+    ap.add_argument(
+        "--skip-default",
+        action="store_true",
+        help="do not also time the reference at its default tolerance 1e-4",
+    )
+    ap.add_argument("--memory", action="store_true", help="also measure peak traced memory")
+    ap.add_argument("--seed", type=int, default=0)
+    ap.add_argument("--json", help="append result rows to this JSON-lines file")
+    args = ap.parse_args(argv)
+    args.ref_tols = [float(t) for t in args.ref_tols.split(",")]
+    shapes = QUICK_SHAPES if args.quick else ALL_SHAPES
+    if args.shapes:
+        shapes = args.shapes.split(",")
+    methods = args.methods.split(",")
+    info = versions()
+    print(json.dumps(info))
+    for shape in shapes:
+        rows = run_shape(shape, methods, args)
+        if args.json:
+            with open(args.json, "a") as fh:
+                for r in rows:
+                    fh.write(json.dumps({**r, "versions": info}) + "\n")
+
+
+if __name__ == "__main__":
+    main()

@@ -47,6 +47,9 @@ __all__ = [
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy.linalg.lapack import dpotrf as _dpotrf
+from scipy.linalg.lapack import dpotrs as _dpotrs
+from scipy.linalg.lapack import dtrtrs as _dtrtrs
 from sklearn.linear_model._cd_fast import (
     enet_coordinate_descent,
     enet_coordinate_descent_gram,
@@ -445,57 +448,64 @@ class _GrowingCholesky:
 
     def __init__(self, prob):
         self.prob = prob
-        self.order: list[int] = []
+        self.order = np.zeros(0, dtype=np.intp)
         self.L = np.zeros((0, 0))
-        self.pos: dict[int, int] = {}
+        self.pos = np.full(prob.p, -1, dtype=np.intp)  # position in ``order``, -1 if absent
+
+    def _reset(self) -> None:
+        self.pos[self.order] = -1
+        self.order = np.zeros(0, dtype=np.intp)
+        self.L = np.zeros((0, 0))
 
     def fit(self, A: np.ndarray) -> bool:
-        from scipy.linalg import LinAlgError, cholesky, solve_triangular
-
-        wanted = set(A.tolist())
-        gone = [i for i, j in enumerate(self.order) if j not in wanted]
-        if gone:  # keep the factor of the prefix before the first leaving column (free)
-            cut = gone[0]
-            suffix = [j for j in self.order[cut:] if j in wanted]
+        if A.size == self.order.size and np.all(self.pos[A] >= 0):
+            return True  # same set: nothing to do
+        member = np.zeros(self.prob.p, bool)
+        member[A] = True
+        gone = np.flatnonzero(~member[self.order])
+        if gone.size:  # keep the factor of the prefix before the first leaving column (free)
+            cut = int(gone[0])
+            suffix = self.order[cut:][member[self.order[cut:]]]
+            self.pos[self.order[cut:]] = -1
             self.order, self.L = self.order[:cut], self.L[:cut, :cut].copy()
-            have = set(self.order)
-            new = suffix + sorted(wanted - have - set(suffix))
+            fresh = A[self.pos[A] < 0]
+            fresh = fresh[~np.isin(fresh, suffix)]
+            new_a = np.concatenate([suffix, fresh]).astype(np.intp)
         else:
-            new = sorted(wanted - set(self.order))
-        if not new:
+            new_a = A[self.pos[A] < 0]
+        if new_a.size == 0:
             return True
-        old = np.array(self.order, dtype=np.intp)
-        new_a = np.array(new, dtype=np.intp)
+        old = self.order
         C = self.prob.gram_block(new_a)
+        diag_ref = np.diag(C).copy()
         k0, k1 = old.size, new_a.size
         L = np.zeros((k0 + k1, k0 + k1))
         L[:k0, :k0] = self.L
         if k0:
             B = self.prob.cross_block(old, new_a)
-            L21 = solve_triangular(self.L, B, lower=True, check_finite=False).T
+            L21, info = _dtrtrs(self.L, B, lower=1)
+            if info != 0:
+                self._reset()
+                return False
+            L21 = L21.T
             C = C - L21 @ L21.T
             L[k0:, :k0] = L21
-        try:
-            L22 = cholesky(C, lower=True, check_finite=False)
-        except (LinAlgError, ValueError):
-            L22 = None
-        diag_ref = np.diag(self.prob.gram_block(new_a)) if L22 is not None else None
-        if L22 is None or np.any(np.diag(L22) ** 2 <= 1e-10 * diag_ref):
-            self.order, self.L, self.pos = [], np.zeros((0, 0)), {}
+        L22, info = _dpotrf(C, lower=1, clean=1)
+        if info != 0 or np.any(np.diag(L22) ** 2 <= 1e-10 * diag_ref):
+            self._reset()
             return False  # (numerically) dependent columns
         L[k0:, k0:] = L22
-        self.order = self.order + new
+        self.order = np.concatenate([old, new_a])
+        self.pos[self.order] = np.arange(self.order.size)
         self.L = L
-        self.pos = {j: i for i, j in enumerate(self.order)}
         return True
 
     def solve(self, A: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-        from scipy.linalg import cho_solve
-
-        idx = np.array([self.pos[j] for j in A.tolist()])
-        r = np.zeros(len(self.order))
+        """Solve Z_A'Z_A x = rhs (rhs (|A|,) or (|A|, k)); A must be the factored set."""
+        idx = self.pos[A]
+        r = np.zeros((self.order.size,) + rhs.shape[1:])
         r[idx] = rhs
-        x = cho_solve((self.L, True), r, check_finite=False)
+        x, _ = _dpotrs(self.L, r, lower=1)
         return x[idx]
 
 
@@ -524,8 +534,6 @@ class _LassoHomotopy:
         self.chol = chol
 
     def run(self, beta: np.ndarray, lam_from: float, lam_to: float):
-        from scipy.linalg import cho_solve
-
         prob, v, n = self.prob, self.v, self.n
         p = beta.shape[0]
         A = np.flatnonzero(beta)
@@ -546,12 +554,7 @@ class _LassoHomotopy:
                 continue
             if not self.chol.fit(A):
                 return None
-            idx = np.array([self.chol.pos[j] for j in A.tolist()])
-            k = len(self.chol.order)
-            rhs = np.zeros((k, 2))
-            rhs[idx, 0] = prob.q[A]
-            rhs[idx, 1] = v[A] * s
-            sol = cho_solve((self.chol.L, True), rhs, check_finite=False)[idx]
+            sol = self.chol.solve(A, np.column_stack([prob.q[A], v[A] * s]))
             u, w = sol[:, 0], sol[:, 1]
             zz = prob.ztz(A, sol)
             a = prob.q - zz[:, 0]
@@ -609,8 +612,6 @@ class _ActiveSetSolver:
         self._chol = _GrowingCholesky(prob)
 
     def _solve(self, A: np.ndarray, sA: np.ndarray, lam: float) -> np.ndarray | None:
-        from scipy.linalg import LinAlgError, cho_factor, cho_solve
-
         if A.size >= self.n:  # centred data have rank < n: no unique solution
             return None
         n, mix, v = self.n, self.mix, self.v
@@ -626,10 +627,11 @@ class _ActiveSetSolver:
             self._QA = self.prob.gram_block(A)
             self._key = key
         M = self._QA + np.diag(n * lam * (1.0 - mix) * v[A])
-        try:
-            return cho_solve(cho_factor(M, check_finite=False), rhs, check_finite=False)
-        except (LinAlgError, ValueError):
+        c, info = _dpotrf(M, lower=1, clean=1)
+        if info != 0:
             return None
+        x, info = _dpotrs(c, rhs, lower=1)
+        return x if info == 0 else None
 
     def _candidate(self, A, sA, lam):
         bA = self._solve(A, sA, lam)

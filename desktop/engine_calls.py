@@ -36,12 +36,14 @@ class EngineCalls:
     def run_study(self, spec: StudySpec, progress: Progress) -> Any:
         from engine.study import run_study
 
+        _warm_up_engine()
         return run_study(spec, progress)
 
     def run_study_on_table(self, spec: StudySpec, table: Table, progress: Progress) -> Any:
         """Run on the table the window already read (same file, sheet and header row as ``spec``)."""
         from engine.study import run_study
 
+        _warm_up_engine()
         return run_study(spec, progress, table=table)
 
     def write_results(
@@ -86,3 +88,35 @@ def load_book(
     progress.step(0.1, "reading the sheet")
     table = calls.read_table(path, sheet, header_row, progress.part(0.1, 1.0, "reading the sheet"))
     return LoadedBook(path, sheets, table, saved)
+
+
+_warmed = False
+
+
+def _warm_up_engine() -> None:
+    """Import the fitting modules once, then move every object alive into the permanent generation.
+
+    A full garbage collection walks every object the numerical libraries created at import; it
+    holds the interpreter lock for a few hundred milliseconds, which freezes the window while a
+    run is under way. After gc.freeze() those objects are no longer walked (measured here: a
+    full collection fell from about 220 ms to about 20 ms during a demo run).
+    """
+    global _warmed
+    if _warmed:
+        return
+    import gc
+    import importlib
+
+    for name in (
+        "engine.fitting.coordinate",
+        "engine.fitting.ridge",
+        "engine.tuning.crossval",
+        "engine.fitting.double_selection",
+        "engine.tuning.size_crossval",
+        "engine.fitting.stability",
+        "engine.report",
+    ):
+        importlib.import_module(name)
+    gc.collect()
+    gc.freeze()
+    _warmed = True

@@ -30,6 +30,9 @@ class Context:
     config_dir: Path = field(default_factory=_config_dir)
     # whether stderr is a terminal that can show a live progress line
     interactive: bool = False
+    # a real process (not a test calling main): after the desktop window closes, leave without the
+    # interpreter's final clean-up, which can abort in a compiled GUI extension (PySide6 6.12)
+    own_process: bool = False
 
     @property
     def log_file(self) -> Path:
@@ -37,4 +40,4 @@ class Context:
 
 
 def default_context() -> Context:
-    return Context(interactive=sys.stderr.isatty())
+    return Context(interactive=sys.stderr.isatty(), own_process=True)

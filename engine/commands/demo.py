@@ -105,9 +105,9 @@ def run(args, ctx) -> int:
         return 0
     if has_display() and not os.environ.get("TAMIS_NO_WINDOW"):
         print(f"\nopening the desktop window on {written[0]}", file=ctx.stderr)
-        from desktop.app import main as desktop_main
+        from engine.commands.desktop import open_window
 
-        return int(desktop_main([str(written[0])]))
+        return open_window([str(written[0])], ctx)
     print(
         "\n(no display found: the same analysis ran headless; open the results workbooks in any "
         "spreadsheet program, or run 'tamis desktop' where a display exists)",

@@ -2,8 +2,21 @@
 
 from __future__ import annotations
 
+import os
+import sys
 
-def run(args, ctx) -> int:
+
+def open_window(argv: list[str], ctx) -> int:
+    """Run the desktop until its window closes; in a real process, leave right after."""
     from desktop.app import main as desktop_main
 
-    return int(desktop_main([args.book] if args.book else []))
+    code = int(desktop_main(argv))
+    if ctx.own_process:
+        sys.stdout.flush()
+        sys.stderr.flush()
+        os._exit(code)
+    return code
+
+
+def run(args, ctx) -> int:
+    return open_window([args.book] if args.book else [], ctx)

@@ -96,6 +96,27 @@ class Target:
             "manylinux1_x86_64",
         ]
 
+    def marker_environment(self) -> dict[str, str]:
+        """PEP 508 marker values of the target (pip evaluates markers for the build machine)."""
+        systems = {
+            "windows": ("win32", "Windows", "nt"),
+            "macos": ("darwin", "Darwin", "posix"),
+            "linux": ("linux", "Linux", "posix"),
+        }
+        system = systems[self.platform.split("-")[0]]
+        machine = {"windows-x64": "AMD64", "macos-arm64": "arm64"}.get(self.platform, "x86_64")
+        return {
+            "sys_platform": system[0],
+            "platform_system": system[1],
+            "os_name": system[2],
+            "platform_machine": machine,
+            "python_version": self.python_version,
+            "python_full_version": f"{self.python_version}.0",
+            "implementation_name": "cpython",
+            "platform_python_implementation": "CPython",
+            "extra": "",
+        }
+
     def pip_target_options(self) -> list[str]:
         nodot = self.python_version.replace(".", "")
         opts = [
@@ -239,6 +260,29 @@ def gather_wheels(
     refresh: bool,
     constraints: Path | None = None,
 ) -> None:
+    """Resolve Tamis for ``target`` into ``dest``, then add what the target's markers require."""
+    requirements = [str(tamis_wheel)]
+    extra: list[str] = []
+    for _ in range(5):  # each round brings the added requirements' own dependencies too
+        _gather(target, requirements, cache, dest, refresh, constraints)
+        extra = missing_for_target(target, dest)
+        if not extra:
+            return
+        _say(f"the target also needs {', '.join(extra)} (markers for {target.platform})")
+        requirements = extra
+    raise SystemExit(
+        f"the dependencies for {target.key} did not settle; missing: {', '.join(extra)}"
+    )
+
+
+def _gather(
+    target: Target,
+    requirements: list[str],
+    cache: Path,
+    dest: Path,
+    refresh: bool,
+    constraints: Path | None,
+) -> None:
     """Put Tamis and every dependency wheel for ``target`` into ``dest``.
 
     First resolve from the cache alone (no network). When the cache lacks something, or
@@ -268,7 +312,7 @@ def gather_wheels(
         str(cache),
         "-d",
         str(dest),
-        str(tamis_wheel),
+        *requirements,
     ]
     if not refresh:
         done = _run(from_cache, env=_offline_env(), quiet=True)
@@ -276,18 +320,51 @@ def gather_wheels(
             _say(f"all wheels for {target.key} came from the cache {cache}")
             return
         _say("the cache lacks some wheels; downloading from the package registry")
-    fetch = [*common, "-d", str(cache), str(tamis_wheel)]
+    fetch = [*common, "-d", str(cache), *requirements]
     if _run(fetch).returncode != 0:
         raise SystemExit(
             f"pip could not gather the wheels for {target.key} (see the messages above)"
         )
-    for stale in dest.glob("*.whl"):  # only what the final resolution picks goes into the kit
-        stale.unlink()
     done = _run(from_cache, env=_offline_env(), quiet=True)
     if done.returncode != 0:
         raise SystemExit(
             f"resolving from the cache failed after downloading:\n{done.stdout}\n{done.stderr}"
         )
+
+
+def _canonical(name: str) -> str:
+    return re.sub(r"[-_.]+", "-", name).lower()
+
+
+def missing_for_target(target: Target, wheels_dir: Path) -> list[str]:
+    """Requirements the target needs that pip left out.
+
+    pip evaluates environment markers for the machine it runs on, so a Linux build of a Windows
+    kit misses e.g. ``tzdata; sys_platform == "win32"`` (a pandas requirement). Read every
+    wheel's metadata and evaluate its markers for the target instead.
+    """
+    try:
+        from packaging.requirements import Requirement
+    except ImportError:  # pip always carries a copy
+        from pip._vendor.packaging.requirements import Requirement
+
+    env = target.marker_environment()
+    have = {_canonical(_wheel_name_version(w)[0]) for w in wheels_dir.glob("*.whl")}
+    missing: set[str] = set()
+    for wheel in wheels_dir.glob("*.whl"):
+        with zipfile.ZipFile(wheel) as zf:
+            meta = next(n for n in zf.namelist() if n.endswith(".dist-info/METADATA"))
+            text = zf.read(meta).decode("utf-8", "replace")
+        for line in text.splitlines():
+            if not line.startswith("Requires-Dist:"):
+                continue
+            req = Requirement(line.split(":", 1)[1].strip())
+            if req.marker is not None and not req.marker.evaluate(env):
+                continue
+            if _canonical(req.name) not in have:
+                req.marker = None
+                missing.add(str(req))
+    return sorted(missing)
 
 
 def _wheel_name_version(path: Path) -> tuple[str, str]:

@@ -131,8 +131,6 @@ def commit(
     place = Place(file=str(target))
     check_writable(target)
     folder = target.parent if str(target.parent) else Path(".")
-    if expected is not None and target.exists() and fingerprint(target) != expected:
-        raise _changed(target)
     try:
         fd, tmp_name = tempfile.mkstemp(prefix=f".{target.stem}.", suffix=".tamis-tmp", dir=folder)
     except OSError as exc:

@@ -85,7 +85,7 @@ def write_results(
             )
         target = source
         expected = _expected_fingerprint(result, source)
-        if fingerprint(source) != expected:
+        if getattr(result, "source_fingerprint", None) and fingerprint(source) != expected:
             raise WriteProblem(
                 f"'{source}' changed on disk since it was read; nothing was written. "
                 "Run the study again on the current file",

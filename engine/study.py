@@ -53,6 +53,7 @@ def run_study(
     started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
     t0 = time.perf_counter()
     progress.step(0.0, "reading the sheet")
+    fingerprint = _fingerprint(spec.source)  # before reading: a later change must be noticed
     if table is None:
         table = load_table(spec, progress.part(0.0, 0.04))
     progress.step(0.04, "building the design matrix")
@@ -109,7 +110,18 @@ def run_study(
         tool_version=__version__,
         started=started,
         seconds=time.perf_counter() - t0,
+        source_fingerprint=fingerprint,
     )
+
+
+def _fingerprint(source: str) -> dict | None:
+    """Size, time and hash of the input file, so the writer can refuse a file changed since."""
+    from engine.report import fingerprint
+
+    try:
+        return fingerprint(source).to_dict()
+    except OSError:
+        return None
 
 
 def _monotone(progress: Progress) -> Progress:

@@ -22,6 +22,7 @@ __all__ = ["Fingerprint", "fingerprint", "check_writable", "commit"]
 import hashlib
 import os
 import shutil
+import stat
 import tempfile
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -141,6 +142,9 @@ def commit(
     backup: Path | None = None
     replaced = False
     try:
+        # mkstemp creates the file readable by its owner only; give the new file the mode the
+        # replaced one had (or the usual mode for a new file) so colleagues keep their access
+        os.chmod(tmp_name, _mode_for(target))
         with os.fdopen(fd, "wb") as fh:
             build(fh)
             fh.flush()
@@ -194,6 +198,15 @@ def commit(
                 os.replace(backup, target)  # put the previous version back
             else:
                 backup.unlink()
+
+
+def _mode_for(target: Path) -> int:
+    try:
+        return stat.S_IMODE(target.stat().st_mode)
+    except OSError:
+        umask = os.umask(0)
+        os.umask(umask)
+        return 0o666 & ~umask
 
 
 def _changed(target: Path) -> WriteProblem:

@@ -143,3 +143,19 @@ def test_recorded_fingerprint_as_dict_is_accepted(tmp_path):
     result.source_fingerprint = fingerprint(book).to_dict()
     write_results(result, in_place=True)
     verify_results_file(book)
+
+
+@pytest.mark.skipif(os.name != "posix", reason="file modes are POSIX")
+def test_in_place_keeps_the_file_mode_and_new_files_get_the_usual_one(tmp_path):
+    # common practice: replacing a file must not narrow who may read it
+    result, _ = make_result(tmp_path, name="book.xlsx")
+    book = Path(result.spec.source)
+    os.chmod(book, 0o640)
+    write_results(result, in_place=True)
+    assert book.stat().st_mode & 0o777 == 0o640
+    umask = os.umask(0o022)
+    try:
+        out = write_results(result, out=tmp_path / "copy.xlsx")
+    finally:
+        os.umask(umask)
+    assert out.stat().st_mode & 0o777 == 0o644

@@ -65,6 +65,8 @@ _MIN_MIX_FOR_GRID = 1e-3
 # a column whose training-part variance is below this share of its full-data variance is taken
 # as constant on that part (exact zero is lost to rounding in the Gram downdate)
 _CONSTANT_VARIANCE_SHARE = 1e-10
+# the residual route keeps at least this many gathered standardized columns (or p/4)
+_CACHE_MIN_COLUMNS = 256
 
 
 def default_ratio(n: int, p: int) -> float:
@@ -178,25 +180,36 @@ class _ResidualProblem:
         self._r_full = np.zeros(X.shape[0]) if rows is not None else None
         self._cache_key: bytes | None = None
         self._cache_cols: np.ndarray | None = None
+        # standardized columns already gathered, kept in one column-major buffer (bounded)
+        self._slot = np.full(self.p, -1, dtype=np.intp)
+        self._buf = np.empty((self.n, 0), order="F")
+        self._used = 0
+        self._cap = max(_CACHE_MIN_COLUMNS, self.p // 4)
         self.r = yc.copy()
         self.r_norm2 = float(yc @ yc)
         self.q = self._xt(self.yc)
 
     def _xt(self, r: np.ndarray) -> np.ndarray:
-        """Z' r = ((X_rows - mean)' r) / sd without forming Z."""
+        """Z' r = ((X_rows - mean)' r) / sd without forming Z; r (n,) or (n, k)."""
         if self.rows is None:
             xr = self.X.T @ r
-        else:
+        elif r.ndim == 1:
             self._r_full[self.rows] = r
             xr = self.X.T @ self._r_full
-        return (xr - self.sc.means * r.sum()) * self.inv_sd
+        else:
+            full = np.zeros((self.X.shape[0], r.shape[1]))
+            full[self.rows] = r
+            xr = self.X.T @ full
+        if r.ndim == 1:
+            return (xr - self.sc.means * r.sum()) * self.inv_sd
+        return (xr - np.outer(self.sc.means, r.sum(axis=0))) * self.inv_sd[:, None]
 
     def columns(self, W: np.ndarray) -> np.ndarray:
+        """Standardized working columns as a column-major array (what the solver reads)."""
         key = W.tobytes()
         if key == self._cache_key:
             return self._cache_cols
-        sub = self.X[:, W] if self.rows is None else self.X[np.ix_(self.rows, W)]
-        Zw = np.asfortranarray((sub - self.sc.means[W]) * self.inv_sd[W])
+        Zw = np.asfortranarray(self._zcols(W))
         self._cache_key, self._cache_cols = key, Zw
         return Zw
 
@@ -209,22 +222,36 @@ class _ResidualProblem:
 
     def ztz(self, A: np.ndarray, x: np.ndarray) -> np.ndarray:
         """Z' Z_A x for x of shape (|A|,) or (|A|, k)."""
-        zx = self._zcols(A) @ x
-        if zx.ndim == 1:
-            return self._xt(zx)
-        return np.column_stack([self._xt(zx[:, i]) for i in range(zx.shape[1])])
+        return self._xt(self._zcols(A) @ x)
 
-    def _zcols(self, A: np.ndarray) -> np.ndarray:
+    def _gather(self, A: np.ndarray) -> np.ndarray:
         sub = self.X[:, A] if self.rows is None else self.X[np.ix_(self.rows, A)]
         return (sub - self.sc.means[A]) * self.inv_sd[A]
+
+    def _zcols(self, A: np.ndarray) -> np.ndarray:
+        """Z[:, A]; columns seen before come from the buffer instead of another gather."""
+        miss = A[self._slot[A] < 0]
+        if miss.size:
+            need = self._used + miss.size
+            if need > self._cap:
+                return self._gather(A)
+            if need > self._buf.shape[1]:
+                grown = np.empty(
+                    (self.n, min(self._cap, max(need, 2 * self._buf.shape[1]))), order="F"
+                )
+                grown[:, : self._used] = self._buf[:, : self._used]
+                self._buf = grown
+            self._buf[:, self._used : need] = self._gather(miss)
+            self._slot[miss] = np.arange(self._used, need)
+            self._used = need
+        return self._buf[:, self._slot[A]]
 
     def gradient(self, beta: np.ndarray) -> np.ndarray:
         nz = np.flatnonzero(beta)
         if nz.size == 0:
             self.r = self.yc.copy()
         else:
-            sub = self.X[:, nz] if self.rows is None else self.X[np.ix_(self.rows, nz)]
-            self.r = self.yc - ((sub - self.sc.means[nz]) * self.inv_sd[nz]) @ beta[nz]
+            self.r = self.yc - self._zcols(nz) @ beta[nz]
         self.r_norm2 = float(self.r @ self.r)
         return self._xt(self.r)
 
@@ -683,6 +710,7 @@ def solve_path(
     kkt_scale: float | None = None,
     use_homotopy: bool = True,
     sink=None,
+    report_steps: bool = False,
 ) -> _PathOut:
     """Standardized coefficients along decreasing ``penalties`` for a prepared problem.
 
@@ -705,6 +733,7 @@ def solve_path(
             kkt_scale=kkt_scale if kkt_scale is not None else _g_scale(prob),
             use_homotopy=use_homotopy,
             sink=inner_sink,
+            report_steps=report_steps,
         )
         if sink is not None:
             return sub
@@ -732,7 +761,10 @@ def solve_path(
     prev = max(_lambda_max_of(g, n, mix, v), float(penalties[0]) if L else 0.0)
     for k in range(L):
         if progress is not None:
-            progress.check()
+            if report_steps:
+                progress.step(k / L, f"penalty {k + 1} of {L}")
+            else:
+                progress.check()
         lam = float(penalties[k])
         total_it = 0
         # 1. the exact solution on the previous active set (plus entering columns), if its
@@ -873,7 +905,9 @@ def _path_from(
     if penalties is None:
         ratio = default_ratio(sc.n, prob.p) if ratio is None else float(ratio)
         penalties = penalty_grid(_problem_lambda_max(prob, mix, v), n_penalties, ratio)
-    res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress)
+    res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, report_steps=True)
+    if progress is not None:
+        progress.step(1.0, "path done")
     coefs = res.std_coefs / sc.sds
     coefs[:, sc.constant] = 0.0
     intercepts = sc.y_mean - coefs @ sc.means

@@ -119,6 +119,14 @@ def test_constant_column_stays_zero():
     assert np.all(path.coefs[:, 2] == 0.0)
 
 
+def test_progress_moves_from_zero_to_one_along_the_path():
+    X, y, _ = _data(60, 20)
+    seen = []
+    elastic_net_path(X, y, n_penalties=10, progress=Progress(lambda f, w: seen.append(f)))
+    assert seen[0] == 0.0 and seen[-1] == 1.0 and len(seen) == 11
+    assert np.all(np.diff(seen) > 0)
+
+
 def test_cancel_stops_the_path():
     X, y, _ = _data(60, 20)
     token = CancelToken()

@@ -184,12 +184,12 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     for c in (group_col, order_col):
         if c is not None:
             drop(
-                _missing_mask(c),
+                c.missing_mask(),
                 f"{'group' if c is group_col else 'time order'} '{c.name}' missing",
             )
     if spec.missing == "drop":
         for c in usable:
-            drop(_missing_mask(c), f"missing in candidate '{c.name}'")
+            drop(c.missing_mask(), f"missing in candidate '{c.name}'")
 
     n = int(keep.sum())
     if n < 3:
@@ -210,7 +210,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         blocks.append(values.astype(float))
 
     for c in usable:
-        miss = _missing_mask(c)[keep]
+        miss = c.missing_mask()[keep]
         fill_policy = spec.missing == "fill" and bool(miss.any())
         if c.kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
             v = np.asarray(c.values, dtype=float)[keep]
@@ -359,17 +359,6 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         dropped_columns=dropped_columns,
         category_levels=category_levels,
         warnings=warnings,
-    )
-
-
-def _missing_mask(c: Column) -> np.ndarray:
-    v = c.values
-    if v.dtype.kind == "f":
-        return ~np.isfinite(v)
-    if v.dtype.kind == "M":
-        return np.isnat(v)
-    return np.array(
-        [x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool
     )
 
 

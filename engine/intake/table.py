@@ -55,6 +55,17 @@ class Column:
     def is_numeric(self) -> bool:
         return self.kind in (ColumnKind.NUMBER, ColumnKind.FLAG)
 
+    def missing_mask(self) -> np.ndarray:
+        """True where the row has no usable value (NaN, NaT, None or empty text)."""
+        v = self.values
+        if v.dtype.kind == "f":
+            return ~np.isfinite(v)
+        if v.dtype.kind == "M":
+            return np.isnat(v)
+        return np.array(
+            [x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool
+        )
+
 
 @dataclass
 class Table:

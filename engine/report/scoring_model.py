@@ -237,7 +237,7 @@ class ScoringModel:
                 part = ((d.astype(int) + 3) % 7) + 1  # 1970-01-01 was a Thursday (ISO weekday 4)
             return np.where(ok, (part == int(enc.level or 0)).astype(float), 0.0)
         if enc.kind == "missing":
-            return _missing_mask(col).astype(float)
+            return col.missing_mask().astype(float)
         raise ValueError(f"unknown encoding kind {enc.kind!r}")
 
     def _wrong_kind(self, enc: Encoding, col, table, expected: str) -> InputProblem:
@@ -331,14 +331,3 @@ def _as_days(col) -> np.ndarray:
     serial = np.asarray(v, dtype=float)
     offset = (EXCEL_EPOCH - _dt.date(1970, 1, 1)).days
     return np.floor(serial) + offset
-
-
-def _missing_mask(col) -> np.ndarray:
-    v = col.values
-    if v.dtype.kind == "f":
-        return ~np.isfinite(v)
-    if v.dtype.kind == "M":
-        return np.isnat(v)
-    return np.array(
-        [x is None or (isinstance(x, float) and x != x) or x == "" for x in v], dtype=bool
-    )

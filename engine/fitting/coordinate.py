@@ -510,7 +510,7 @@ class _GrowingCholesky:
         L[:k0, :k0] = self.L
         if k0:
             B = self.prob.cross_block(old, new_a)
-            L21, info = _dtrtrs(self.L, B, lower=1)
+            L21, info = _dtrtrs(self.L.T, B, lower=0, trans=1)  # solves L X = B
             if info != 0:
                 self._reset()
                 return False
@@ -532,7 +532,7 @@ class _GrowingCholesky:
         idx = self.pos[A]
         r = np.zeros((self.order.size,) + rhs.shape[1:])
         r[idx] = rhs
-        x, _ = _dpotrs(self.L, r, lower=1)
+        x, _ = _dpotrs(self.L.T, r, lower=0)  # L' is column-major: no copy for LAPACK
         return x[idx]
 
 

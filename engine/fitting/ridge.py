@@ -39,6 +39,7 @@ from engine.progress import Progress
 
 RIDGE_RATIO = 1e-4
 _COLUMN_BLOCK = 2048
+_BLOCK_CELLS = 1 << 19  # 4 MB of float64 per temporary block of standardized columns
 
 
 def ridge_df(singular_values: np.ndarray, penalties: np.ndarray, n: int) -> np.ndarray:
@@ -88,7 +89,8 @@ class RidgeDecomposition:
 
     def _blocks(self):
         p = self.p
-        return [np.arange(a, min(a + _COLUMN_BLOCK, p)) for a in range(0, p, _COLUMN_BLOCK)]
+        width = max(1, min(_COLUMN_BLOCK, _BLOCK_CELLS // max(self.n, 1)))
+        return [np.arange(a, min(a + width, p)) for a in range(0, p, width)]
 
     def _zcols(self, cols: np.ndarray) -> np.ndarray:
         pr = self.prob
@@ -101,6 +103,21 @@ class RidgeDecomposition:
         with np.errstate(divide="ignore", invalid="ignore"):
             w = np.where(self.d2[None, :] > 0, 1.0 / den, 0.0)
         return w
+
+    def predict(
+        self, penalties: np.ndarray, Zt: np.ndarray, progress: Progress | None = None
+    ) -> np.ndarray:
+        """Zt @ beta(lambda)' for standardized rows Zt (m, p): (m, L), without the (L, p) path."""
+        lam = np.asarray(penalties, dtype=float)
+        C = self._shrink(lam, 1) * self.c[None, :]
+        if self.kind == "gram":
+            return (Zt @ self.V) @ C.T
+        out = np.zeros((Zt.shape[0], lam.shape[0]))
+        for b in self._blocks():
+            if progress is not None:
+                progress.check()
+            out += Zt[:, b] @ (C @ (self.U.T @ self._zcols(b))).T
+        return out
 
     def std_coefs(self, penalties: np.ndarray, progress: Progress | None = None) -> np.ndarray:
         """(L, p) standardized coefficients."""

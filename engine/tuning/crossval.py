@@ -94,8 +94,7 @@ def fold_errors(
     Zt = (X[test] - sc.means) * sc.inv_sd
     yt = y[test] - sc.y_mean
     if mix == 0 and np.all(v == 1.0):
-        B = RidgeDecomposition(prob, sc).std_coefs(penalties, progress)
-        resid = yt[:, None] - Zt @ B.T
+        resid = yt[:, None] - RidgeDecomposition(prob, sc).predict(penalties, Zt, progress)
         return np.mean(resid**2, axis=0), 0.0, notes
     err = np.zeros(penalties.shape[0])
 

@@ -17,7 +17,7 @@ import weakref
 from collections.abc import Callable
 from typing import Any
 
-from PySide6.QtCore import QObject, QThread, Signal, Slot
+from PySide6.QtCore import QObject, Qt, QThread, Signal, Slot
 
 from engine.progress import CancelToken, Progress
 
@@ -96,7 +96,9 @@ class TaskRunner(QObject):
         worker.progressed.connect(self.progressed)
         worker.succeeded.connect(self._on_succeeded)
         worker.failed.connect(self._on_failed)
-        worker.done.connect(thread.quit)
+        # direct: the QThread object lives on the GUI thread, so a queued quit would wait for the
+        # GUI event loop, which is blocked while the window waits for this thread at closing time
+        worker.done.connect(thread.quit, Qt.ConnectionType.DirectConnection)
         thread.finished.connect(worker.deleteLater)
         thread.finished.connect(self._on_thread_finished)
         self._thread, self._worker = thread, worker
@@ -116,8 +118,9 @@ class TaskRunner(QObject):
     def shutdown(self, ms: int = 5000) -> None:
         """Cancel and wait; used when the window closes."""
         self.cancel()
-        if self._thread is not None:
-            self._thread.wait(ms)
+        # a step that cannot be interrupted (one long read of a huge sheet) may outlast the wait;
+        # then the window closes anyway instead of hanging
+        if self._thread is not None and self._thread.wait(ms):
             self._on_thread_finished()
 
     @Slot(object)

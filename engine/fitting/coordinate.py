@@ -147,15 +147,21 @@ class _GramProblem:
         nz = np.flatnonzero(beta)
         if nz.size == 0:
             return self.q.copy()
+        if 4 * nz.size > self.p:  # many nonzeros: one product with Q beats copying its rows
+            return self.q - self.Q @ beta
         return self.q - beta[nz] @ self.Q[nz]
 
     def solve(self, W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng):
-        Qw = self.Q[np.ix_(W, W)]
-        qw = self.q[W]
+        if W.size == self.p and scale is None and l2_diag is None:
+            Qw, qw = self.Q, self.q  # the whole problem: no copy of Q
+        else:
+            Qw = self.Q[np.ix_(W, W)]
+            qw = self.q[W]
         if scale is not None:
-            Qw *= np.outer(scale, scale)
+            Qw = Qw * np.outer(scale, scale)
             qw = qw * scale
         if l2_diag is not None:
+            Qw = Qw.copy() if Qw is self.Q else Qw
             Qw[np.diag_indices_from(Qw)] += l2_diag
         Qw = np.ascontiguousarray(Qw)
         w = np.ascontiguousarray(gamma0, dtype=float)
@@ -750,6 +756,7 @@ def solve_path(
     accept_abs = _EXACT_ACCEPT * scale_den
     rng = np.random.RandomState(0)  # only seeds the unused random-order option
     direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
+    gram_route = isinstance(prob, _GramProblem)
     use_homotopy = use_homotopy and _USE_HOMOTOPY
     homotopy = _LassoHomotopy(prob, v, direct._chol) if mix == 1.0 and use_homotopy else None
 
@@ -787,6 +794,9 @@ def solve_path(
                 strong = np.ones(p, bool)
             while True:
                 W = np.flatnonzero(strong)
+                if gram_route and 2 * W.size > p:  # most columns: solve the whole problem
+                    strong[:] = True
+                    W = np.arange(p)
                 if W.size:
                     vw = v[W]
                     scale = None if uniform and v[0] == 1.0 else 1.0 / vw

@@ -9,7 +9,9 @@ from dataclasses import dataclass
 import numpy as np
 
 
-def choose_index(mean_error: np.ndarray, se: np.ndarray, rule: str, simpler_first: bool = True) -> int:
+def choose_index(
+    mean_error: np.ndarray, se: np.ndarray, rule: str, simpler_first: bool = True
+) -> int:
     """Index of the chosen grid point.
 
     "min": smallest mean error. "one-se": the simplest model whose mean error is within one

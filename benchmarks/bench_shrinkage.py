@@ -217,6 +217,29 @@ def print_row(r):
     )
 
 
+def render(path: str) -> str:
+    """Markdown table of the rows stored with --json (the last row per shape and method)."""
+    rows: dict = {}
+    for line in open(path):
+        r = json.loads(line)
+        rows[(r["shape"], r["method"])] = r
+    out = [
+        "| shape (rows x cols) | method | Tamis s | reference | ref s | ratio | ratio vs ref at tol 1e-4 "
+        "| KKT Tamis | KKT ref (tol) | Tamis / one X'X | peak memory / data |",
+        "|---|---|---|---|---|---|---|---|---|---|---|",
+    ]
+    for (shape, method), r in rows.items():
+        ref_kkt = "-" if r["ref_kkt"] is None else f"{r['ref_kkt']:.1e} ({r['ref_tol']:.0e})"
+        dflt = r["ref_default_s"] and r["tamis_s"] / r["ref_default_s"]
+        star = " (extrapolated)" if r["ref_extrapolated"] else ""
+        out.append(
+            f"| {shape} | {method} | {r['tamis_s']:.2f} | {r['ref']} | {r['ref_s']:.2f}{star} "
+            f"| {r['ratio']:.3f} | {fmt(dflt)} | {r['tamis_kkt']:.1e} | {ref_kkt} "
+            f"| {fmt(r['ratio_to_gram'], '.1f')} | {fmt(r.get('peak_mem_x_data'), '.2f')} |"
+        )
+    return "\n".join(out)
+
+
 def versions():
     import joblib
     import scipy
@@ -224,7 +247,19 @@ def versions():
     import threadpoolctl
 
     blas = threadpoolctl.threadpool_info()
+    try:
+        import subprocess
+
+        commit = subprocess.run(
+            ["git", "rev-parse", "--short", "HEAD"],
+            capture_output=True,
+            text=True,
+            cwd=os.path.dirname(os.path.abspath(__file__)),
+        ).stdout.strip()
+    except OSError:
+        commit = ""
     return {
+        "commit": commit,
         "python": platform.python_version(),
         "numpy": np.__version__,
         "scipy": scipy.__version__,
@@ -265,7 +300,11 @@ def main(argv=None):
     ap.add_argument("--memory", action="store_true", help="also measure peak traced memory")
     ap.add_argument("--seed", type=int, default=0)
     ap.add_argument("--json", help="append result rows to this JSON-lines file")
+    ap.add_argument("--render", help="print a markdown table of a --json file and stop")
     args = ap.parse_args(argv)
+    if args.render:
+        print(render(args.render))
+        return
     args.ref_tols = [float(t) for t in args.ref_tols.split(",")]
     shapes = QUICK_SHAPES if args.quick else ALL_SHAPES
     if args.shapes:

@@ -869,8 +869,8 @@ def penalty_grid(lam_max: float, n_penalties: int, ratio: float) -> np.ndarray:
     """``n_penalties`` log-spaced penalties from ``lam_max`` down to ``ratio * lam_max``."""
     if n_penalties < 1:
         raise ValueError("n_penalties must be at least 1")
-    if lam_max <= 0:
-        return np.zeros(n_penalties) if n_penalties == 1 else np.zeros(1)
+    if lam_max <= 0:  # constant response (or nothing penalized): every solution is zero
+        return np.zeros(n_penalties)
     return np.geomspace(lam_max, lam_max * ratio, n_penalties)
 
 

@@ -23,6 +23,13 @@ How the path is computed
   outnumber columns it runs on the standardized Gram matrix Z'Z (computed once, in row blocks,
   without a standardized copy of the data); otherwise it runs on residuals with only the working
   columns copied, and the KKT check uses X'r with the centring and scaling applied algebraically.
+- Before any sweep, the exact solution of the optimality conditions on the previous active
+  set (signs fixed, violating columns added up to three times) is tried; after coordinate
+  descent the same exact solve "polishes" the answer. A Cholesky factor of Z_A'Z_A is grown
+  and shrunk with the active set, so most penalties cost one triangular solve and one
+  gradient. Near saturation (active set above n/2), where coordinate descent crawls, the lasso
+  is followed exactly between grid points (LARS-lasso homotopy, Efron et al. 2004). Every
+  exact candidate is accepted only if all optimality conditions hold to 1e-10 (scale-free).
 - Columns with v_j = 0 are partialled out exactly (Frisch-Waugh-Lovell) and recovered by least
   squares after each solve.
 

@@ -35,7 +35,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     args = list(sys.argv[1:] if argv is None else argv)
     if any(a in ("-h", "--help") for a in args):
         print(
-            "usage: tamis desktop [BOOK]\n\nOpen the Tamis window, optionally on a workbook or CSV file."
+            "usage: tamis desktop [BOOK] [--show-saved]\n\nOpen the Tamis window, optionally on a workbook or CSV file;\n"
+            "--show-saved re-runs the analysis saved in a results workbook at once."
         )
         return 0
     book = next((a for a in args if not a.startswith("-")), None)
@@ -47,6 +48,7 @@ def main(argv: Sequence[str] | None = None) -> int:
     window = MainWindow(SettingsStore(default_folder()))
     window.show()
     if book:
+        window.show_saved_on_open = "--show-saved" in args
         window.open_book(book)
     code = int(app.exec())
     window.runner.shutdown()

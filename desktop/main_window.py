@@ -131,6 +131,8 @@ class MainWindow(QMainWindow):
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
+        # set by `tamis demo`: re-run a saved analysis as soon as its workbook is open
+        self.show_saved_on_open = False
         self._remember_timer = QTimer(self)
         self._remember_timer.setSingleShot(True)
         self._remember_timer.setInterval(300)
@@ -508,6 +510,9 @@ class MainWindow(QMainWindow):
                 )
             )
             self._run_when_idle = True  # once the open task's thread has ended
+        elif loaded.saved_spec is not None and self.show_saved_on_open:
+            self.show_saved_on_open = False
+            self._retry_show_saved()
         elif loaded.saved_spec is not None:
             spec = loaded.saved_spec
             self._say(
@@ -525,6 +530,11 @@ class MainWindow(QMainWindow):
             self.message.hide()
         self.pages.setCurrentIndex(PAGE_SHEET)
         self.book_loaded.emit()
+
+    def _retry_show_saved(self) -> None:
+        # the open task's thread is still ending; try again shortly until it is free
+        if not self.show_saved_analysis():
+            QTimer.singleShot(50, self._retry_show_saved)
 
     def show_saved_analysis(self) -> bool:
         """Re-run the analysis stored in the open results workbook, with its roles and settings."""

@@ -107,7 +107,7 @@ def run(args, ctx) -> int:
         print(f"\nopening the desktop window on {written[0]}", file=ctx.stderr)
         from engine.commands.desktop import open_window
 
-        return open_window([str(written[0])], ctx)
+        return open_window([str(written[0]), "--show-saved"], ctx)
     print(
         "\n(no display found: the same analysis ran headless; open the results workbooks in any "
         "spreadsheet program, or run 'tamis desktop' where a display exists)",

@@ -244,6 +244,15 @@ def test_save_in_place_then_reopen_shows_the_analysis_again(qtbot, store, book):
     )
     assert w2.ledger.model.roles()["x0"] is Role.FOCAL
 
+    # `tamis demo` opens the window with show_saved_on_open: the saved analysis re-runs by itself
+    calls3 = StandIn()
+    w3 = make_window(qtbot, store, calls3)
+    w3.show_saved_on_open = True
+    with qtbot.waitSignal(w3.study_finished, timeout=60_000):
+        w3.open_book(book)
+    wait_idle(qtbot, w3)
+    assert calls3.specs[-1].response == "response_y" and not w3.show_saved_on_open
+
 
 def test_save_as_new_workbook_leaves_the_source_alone(qtbot, store, book, tmp_path):
     original = book.read_bytes()

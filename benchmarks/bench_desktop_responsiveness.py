@@ -25,7 +25,16 @@ def main() -> int:
     ap.add_argument("--sheet", default="Roastery lots")
     ap.add_argument("--response", default="cup_score")
     ap.add_argument("--stability", type=int, default=0)
+    ap.add_argument(
+        "--default-switch",
+        action="store_true",
+        help="keep Python's default 5 ms thread hand-over instead of the app's setting",
+    )
     args = ap.parse_args()
+    if not args.default_switch:
+        from engine.context import tune_thread_switching
+
+        tune_thread_switching()  # as desktop.app.main does
 
     import numpy as np
     from PySide6.QtCore import QTimer
@@ -38,6 +47,9 @@ def main() -> int:
     app = make_app()
     w = MainWindow(SettingsStore(Path(tempfile.mkdtemp()) / "profile"))
     w.show()
+    import desktop.engine_calls as calls
+
+    calls.warm_up_in_background()  # as desktop.app.main does when the window opens
 
     def idle() -> None:
         app.processEvents()
@@ -47,6 +59,9 @@ def main() -> int:
 
     w.open_book(ROOT / "demo" / "tamis_demo.xlsx", sheet=args.sheet)
     idle()
+    while not calls._warmed:  # a user takes longer than the warm-up to choose roles
+        app.processEvents()
+        time.sleep(0.01)
     w.ledger.model.set_roles({args.response: Role.RESPONSE})
     w.settings_panel.set_values({"stability_runs": args.stability})
     ticks: list[float] = []

@@ -40,6 +40,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         )
         return 0
     book = next((a for a in args if not a.startswith("-")), None)
+    from engine.context import tune_thread_switching
+
+    tune_thread_switching()  # the event loop gets the interpreter lock often during a fit
     app = make_app()
 
     from desktop.main_window import MainWindow
@@ -47,6 +50,9 @@ def main(argv: Sequence[str] | None = None) -> int:
 
     window = MainWindow(SettingsStore(default_folder()))
     window.show()
+    from desktop.engine_calls import warm_up_in_background
+
+    warm_up_in_background()  # imports and freezes while the user looks at the window
     if book:
         window.show_saved_on_open = "--show-saved" in args
         window.open_book(book)

@@ -6,6 +6,8 @@ thread, through ``desktop.worker.TaskRunner``. Tests may pass an object with the
 
 from __future__ import annotations
 
+import threading
+
 __all__ = ["EngineCalls", "LoadedBook", "load_book"]
 
 from dataclasses import dataclass
@@ -90,7 +92,13 @@ def load_book(
     return LoadedBook(path, sheets, table, saved)
 
 
+_warm_lock = threading.Lock()
 _warmed = False
+
+
+def warm_up_in_background() -> None:
+    """Start the engine warm-up on a daemon thread while the window waits for the user."""
+    threading.Thread(target=_warm_up_engine, name="tamis-warm-up", daemon=True).start()
 
 
 def _warm_up_engine() -> None:
@@ -99,24 +107,25 @@ def _warm_up_engine() -> None:
     A full garbage collection walks every object the numerical libraries created at import; it
     holds the interpreter lock for a few hundred milliseconds, which freezes the window while a
     run is under way. After gc.freeze() those objects are no longer walked (measured here: a
-    full collection fell from about 220 ms to about 20 ms during a demo run).
+    full collection fell from about 220 ms to about 20 ms during a demo run). No collection
+    runs first: that alone would be one such pause.
     """
     global _warmed
-    if _warmed:
-        return
-    import gc
-    import importlib
+    with _warm_lock:
+        if _warmed:
+            return
+        import gc
+        import importlib
 
-    for name in (
-        "engine.fitting.coordinate",
-        "engine.fitting.ridge",
-        "engine.tuning.crossval",
-        "engine.fitting.double_selection",
-        "engine.tuning.size_crossval",
-        "engine.fitting.stability",
-        "engine.report",
-    ):
-        importlib.import_module(name)
-    gc.collect()
-    gc.freeze()
-    _warmed = True
+        for name in (
+            "engine.fitting.coordinate",
+            "engine.fitting.ridge",
+            "engine.tuning.crossval",
+            "engine.fitting.double_selection",
+            "engine.tuning.size_crossval",
+            "engine.fitting.stability",
+            "engine.report",
+        ):
+            importlib.import_module(name)
+        gc.freeze()
+        _warmed = True

@@ -18,7 +18,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
-from engine.context import Context, default_context
+from engine.context import Context, default_context, tune_thread_switching
 from engine.errors import TamisError
 
 
@@ -178,7 +178,9 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
-    ctx = ctx or default_context()
+    if ctx is None:
+        ctx = default_context()
+        tune_thread_switching()  # a real process of our own, not a test calling main
     argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     try:

@@ -304,6 +304,7 @@ class _MethodRunner:
             choose=spec.choose,
             progress=progress.part(0.15, 0.95, "cross-validation"),
             workers=spec.workers,
+            n_selected=path.n_selected,
         )
         curve.n_selected = path.n_selected.copy()
         idx = curve.chosen(spec.choose)

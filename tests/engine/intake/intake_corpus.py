@@ -116,8 +116,11 @@ def write_formula_book(path: Path) -> list[str]:
 
 def write_encrypted_container(path: Path) -> None:
     """A minimal compound file (version 3, 512-byte sectors) holding the two streams an
-    encrypted Office Open XML workbook has: EncryptionInfo and EncryptedPackage (layout from
-    the published compound file binary format, [MS-CFB]; stream names from [MS-OFFCRYPTO])."""
+    encrypted Office Open XML workbook has: EncryptionInfo and EncryptedPackage.
+
+    Source: the published compound file binary format [MS-CFB] for the layout and the sector
+    markers below; [MS-OFFCRYPTO] for the stream names (values from memory; the intake test
+    that reads this file checks that it is recognised as an encrypted workbook)."""
     endchain, free, fatsect, nostream = 0xFFFFFFFE, 0xFFFFFFFF, 0xFFFFFFFD, 0xFFFFFFFF
     header = bytearray(512)
     header[0:8] = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"

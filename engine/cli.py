@@ -20,6 +20,7 @@ from collections.abc import Sequence
 from engine import __version__
 from engine.context import Context, default_context, tune_thread_switching
 from engine.errors import TamisError
+from engine.methods import DEFAULT_METHODS, METHODS
 
 
 class _Parser(argparse.ArgumentParser):
@@ -77,8 +78,10 @@ def build_parser() -> argparse.ArgumentParser:
     )
     f.add_argument(
         "--methods",
-        help="comma-separated methods (default: %(default)s)",
-        default="lasso,ridge,elastic-net,post-lasso,forward-stepwise",
+        help="comma-separated methods from: "
+        + ", ".join(m.name for m in METHODS)
+        + " (default: %(default)s)",
+        default=",".join(DEFAULT_METHODS),
     )
     f.add_argument(
         "--folds", type=int, default=10, help="cross-validation folds (default: %(default)s)"

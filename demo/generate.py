@@ -50,6 +50,7 @@ import argparse
 import datetime as dt
 import sys
 from pathlib import Path
+from typing import TypedDict
 
 import numpy as np
 import pandas as pd
@@ -119,7 +120,18 @@ PRICE_BASE = {
     "Market Cross": 3.50,
     "Elm Park": 3.30,
 }
-PRICE_RULE = {
+
+
+class _PriceRule(TypedDict):
+    """Price slopes per unit of each column, and the price offset of each promotion."""
+
+    tourism_index: float
+    local_event: float
+    flour_cost_index: float
+    promotion: dict[str, float]
+
+
+PRICE_RULE: _PriceRule = {
     "tourism_index": 0.006,  # per index point: prices go up in the tourist season
     "local_event": 0.20,  # event weeks
     "flour_cost_index": 0.01,  # per point above 100: passed on from the miller

@@ -139,8 +139,7 @@ def _monotone(progress: Progress) -> Progress:
 
 
 def _unique(items: list[str]) -> list[str]:
-    seen: set[str] = set()
-    return [x for x in items if not (x in seen or seen.add(x))]
+    return list(dict.fromkeys(items))  # first occurrence of each, in order
 
 
 def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray, np.ndarray]]:

@@ -72,8 +72,8 @@ def copy_to_xlsx(source: str | Path, target: str | Path) -> None:
                 and str(getattr(metas[i], "visible", "")).lower().endswith("hidden")
             ):
                 ws.hide()
-            for r, row in enumerate(wb.get_sheet_by_name(name).to_python(skip_empty_area=False)):
-                for c, v in enumerate(row):
+            for r, cells in enumerate(wb.get_sheet_by_name(name).to_python(skip_empty_area=False)):
+                for c, v in enumerate(cells):
                     if v is None or v == "":
                         continue
                     if isinstance(v, bool):

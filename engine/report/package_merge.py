@@ -345,14 +345,14 @@ def _merge(
         replaced[app_part] = app_xml.encode("utf-8")
 
     # 5. Write: the user's entries in their order, then ours.
-    target = ZipTarget(out)
+    writer = ZipTarget(out)
     for entry in base.entries:
         if entry.name in removed_parts:
             continue
         if entry.name in replaced:
-            target.add(entry.name, replaced[entry.name], like=entry)
+            writer.add(entry.name, replaced[entry.name], like=entry)
         else:
-            target.copy(base, entry)
+            writer.copy(base, entry)
     part_names = {s.part: s.name for s in mine.sheets}
     for part in order:
         new = rename[part]
@@ -362,14 +362,14 @@ def _merge(
             data = (transform(text) if transform else text).encode("utf-8")
         else:
             data = ours.read(part)
-        target.add(new, data)
+        writer.add(new, data)
         rp_old = rels_part_of(part)
         if rp_old in ours:
-            target.add(
+            writer.add(
                 rels_part_of(new),
                 _retarget_rels(_decode(ours.read(rp_old)), part, new, rename).encode("utf-8"),
             )
-    target.finish()
+    writer.finish()
 
 
 def _styles_part(src: ZipSource, pkg: _Package) -> str:

@@ -138,7 +138,8 @@ def commit(
         raise WriteProblem(
             f"cannot write in the folder of '{target}': {exc.strerror}", place
         ) from exc
-    tmp: Path | None = Path(tmp_name)
+    written = Path(tmp_name)
+    tmp: Path | None = written  # None once the temporary file has become the target
     backup: Path | None = None
     replaced = False
     try:
@@ -150,7 +151,7 @@ def commit(
             fh.flush()
             os.fsync(fh.fileno())
         _checkpoint("written")
-        verify(tmp)
+        verify(written)
         _checkpoint("verified-temp")
         if target.exists():
             if expected is not None and fingerprint(target) != expected:
@@ -162,7 +163,7 @@ def commit(
                 shutil.copy2(target, backup)
             _checkpoint("backup")
         try:
-            os.replace(tmp, target)
+            os.replace(written, target)
         except PermissionError as exc:
             raise WriteProblem(
                 f"cannot replace '{target}': it is locked or read-only "

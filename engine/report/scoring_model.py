@@ -256,9 +256,11 @@ class ScoringModel:
         """
         kind = source_kind(self.encodings, enc.source)
         miss = math.nan if enc.fill is None else float(enc.fill)
-        is_num = isinstance(raw, (int, float)) and not isinstance(raw, bool)
+        # the number the cell holds (bools are ints to Python but flags to the sheet), else None
+        num = raw if isinstance(raw, (int, float)) and not isinstance(raw, bool) else None
+        is_num = num is not None
         if enc.kind == "number":
-            return float(raw) if is_num else miss
+            return float(num) if num is not None else miss
         if enc.kind == "flag":
             if is_num:
                 return 1.0 if raw != 0 else 0.0
@@ -273,11 +275,13 @@ class ScoringModel:
                 return (1.0 if (enc.level or "") == "" else 0.0) if "" in levels else math.nan
             return 1.0 if _plain(raw) == (enc.level or "") else 0.0
         if enc.kind == "trend":
-            return math.floor(raw) - date_serial(enc.origin or "1899-12-30") if is_num else miss
+            if num is None:
+                return miss
+            return math.floor(num) - date_serial(enc.origin or "1899-12-30")
         if enc.kind in ("month", "weekday"):
-            if not is_num:
+            if num is None:
                 return 0.0
-            day = EXCEL_EPOCH + _dt.timedelta(days=math.floor(raw))
+            day = EXCEL_EPOCH + _dt.timedelta(days=math.floor(num))
             part = day.month if enc.kind == "month" else day.isoweekday()
             return 1.0 if part == int(enc.level or 0) else 0.0
         if enc.kind == "missing":

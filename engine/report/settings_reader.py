@@ -11,6 +11,7 @@ __all__ = ["read_settings", "read_settings_v1", "load_scoring_model", "SettingsR
 import json
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any, cast
 
 from engine.design import Encoding
 from engine.errors import InputProblem, Place
@@ -45,16 +46,18 @@ class SettingsRecord:
                 place,
             )
         m = self.models[chosen]
+        cv_error = m.get("cv_error")
         return ScoringModel.from_parts(
             chosen,
             str(self.design.get("response", "")),
-            float(m["intercept"]),
+            # a cell Tamis wrote as a number; float() still refuses anything else
+            float(cast("float | str", m["intercept"])),
             self.encodings,
             self.coefficients[chosen],
             self.means,
             self.sds,
             self.levels,
-            m.get("cv_error") if isinstance(m.get("cv_error"), float) else None,
+            cv_error if isinstance(cv_error, float) else None,
         )
 
 
@@ -116,7 +119,7 @@ def read_settings_v1(rows: list[tuple], place: Place | None = None) -> SettingsR
         elif current is not None and first is not None:
             sections[current].append(r)
 
-    def joined(r: tuple) -> object:
+    def joined(r: tuple) -> Any:  # whatever JSON the cells spell
         parts = [c for c in r[1:] if c is not None]
         return json.loads("".join(str(c) for c in parts)) if parts else None
 

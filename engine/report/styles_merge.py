@@ -78,7 +78,7 @@ def merge_styles(
         for a in (attrs(t) for t in _children(our_styles, "", "numFmts", "numFmt")[0])
     }
     user_numfmt_tags, numfmt_span = _children(user_styles, p, "numFmts", "numFmt")
-    user_codes = {}
+    user_codes: dict[str, int] = {}
     for t in user_numfmt_tags:
         a = attrs(t)
         user_codes.setdefault(a.get("formatCode", ""), int(a["numFmtId"]))

@@ -21,7 +21,7 @@ CHART_ROWS = 22
 
 def _charted(path, names: list[str], ever: np.ndarray, chosen: int) -> list[int]:
     """Columns to draw: kept at the chosen penalty first, then by order of entry on the path."""
-    cols = list(np.flatnonzero(ever))
+    cols = [int(j) for j in np.flatnonzero(ever)]
     nz = path.std_coefs != 0
     entry = {j: int(np.argmax(nz[:, j])) for j in cols}
     cols.sort(key=lambda j: (path.std_coefs[chosen, j] == 0, entry[j], j))
@@ -33,7 +33,7 @@ def write(
 ) -> list[tuple[str, int]]:
     """Write every penalized method's path; returns (method, header row) per block."""
     d = result.design
-    blocks = []
+    blocks: list[tuple[str, int]] = []
     models = [m for m in result.models if m.path is not None and len(m.path) > 0]
     text(ws, 0, 0, "Coefficient paths", fm.title)
     if not models:
@@ -57,7 +57,7 @@ def write(
         pen = np.asarray(path.penalties, dtype=float)
         chosen = int(np.argmin(np.abs(pen - m.penalty))) if m.penalty is not None else 0
         ever = (P != 0).any(axis=0)
-        cols = list(np.flatnonzero(ever))
+        cols = [int(j) for j in np.flatnonzero(ever)]
         text(ws, r, 0, f"{m.method}: path over {L} penalties", fm.label)
         r += 1
         text(ws, r, 0, "Chosen penalty", fm.label)

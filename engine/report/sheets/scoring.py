@@ -59,7 +59,9 @@ class ScoringLayout:
     centre_cell: str
 
 
-def example_rows(result, model: ScoringModel, k: int = N_EXAMPLES) -> list[dict[str, object]]:
+def example_rows(
+    result, model: ScoringModel, k: int = N_EXAMPLES
+) -> list[dict[str, float | str | None]]:
     """Raw cell values of the first ``k`` rows used, rebuilt from the design matrix.
 
     Numbers are the values themselves; a category is the level whose indicator is 1 (the
@@ -68,9 +70,9 @@ def example_rows(result, model: ScoringModel, k: int = N_EXAMPLES) -> list[dict[
     """
     d = result.design
     idx = {n: j for j, n in enumerate(d.names)}
-    rows: list[dict[str, object]] = []
+    rows: list[dict[str, float | str | None]] = []
     for i in range(min(k, d.n_rows)):
-        row: dict[str, object] = {}
+        row: dict[str, float | str | None] = {}
         for source in model.sources:
             encs = [e for e in d.encodings if e.source == source]
             miss = [e for e in encs if e.kind == "missing"]
@@ -78,7 +80,7 @@ def example_rows(result, model: ScoringModel, k: int = N_EXAMPLES) -> list[dict[
                 row[source] = None
                 continue
             kind = source_kind(list(d.encodings), source)
-            value: object = None
+            value: float | str | None = None
             if kind == "category":
                 levels = d.category_levels.get(source, [])
                 value = levels[0] if levels else None
@@ -342,12 +344,12 @@ def write(
         # check: unseen category levels (exact comparison, as the model does)
         checks = []
         for s in cat_sources:
-            c = cell_ref(r, sources.index(s), False, True)
+            cell = cell_ref(r, sources.index(s), False, True)
             lr = level_rows[s]
             n_lv = max(len(model.category_levels.get(s, [])), 1)
             lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
             checks.append(
-                f'IF(OR(ISBLANK({c}),ISERROR({c})),"",IF(SUMPRODUCT(--EXACT({c},{lv_rng}))=0,'
+                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT({cell},{lv_rng}))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
             )
         if checks:

@@ -142,7 +142,7 @@ def write(book, ws, result, fm: Formats) -> None:
     r += 1
     text(ws, r, 0, "Cautions", fm.label)
     r += 1
-    for c in CAUTIONS:
-        text(ws, r, 0, c)
+    for caution in CAUTIONS:
+        text(ws, r, 0, caution)
         r += 1
     _ = math  # numbers above are written through `number`, which skips non-finite values

@@ -131,7 +131,7 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
                     }
                 )
             chart.set_title({"name": f"Cross-validation: {m.method}"})
-            xa = {
+            xa: dict[str, object] = {
                 "name": "penalty (log scale)" if is_pen else "number of columns",
                 "label_position": "low",
             }

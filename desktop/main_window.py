@@ -14,7 +14,7 @@ from __future__ import annotations
 __all__ = ["MainWindow", "OPENABLE", "OPEN_FILTER"]
 
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QCloseEvent, QDragEnterEvent, QDropEvent, QKeySequence
@@ -59,6 +59,7 @@ from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
+from engine.study_result import StudyResult
 from engine.study_spec import StudySpec
 
 OPENABLE = (".xlsx", ".xlsm", ".xls", ".ods", ".csv")
@@ -125,7 +126,7 @@ class MainWindow(QMainWindow):
         self.calls = calls or EngineCalls()
         self.runner = TaskRunner(self)
         self.book: LoadedBook | None = None
-        self.result = None
+        self.result: StudyResult | None = None
         self.last_message: UserMessage | None = None
         self.problems: list = []
         # a saved analysis to apply once its sheet is read, and a run to start once idle
@@ -703,8 +704,8 @@ class MainWindow(QMainWindow):
         if label == "open":
             self._apply_book(value)  # type: ignore[arg-type]
         elif label == "run":
-            self.result = value
-            self.results.show_result(value)  # type: ignore[arg-type]
+            self.result = cast(StudyResult, value)  # what the "run" task returns
+            self.results.show_result(self.result)
             self.pages.setCurrentIndex(PAGE_FINDINGS)
             secs = getattr(value, "seconds", 0.0)
             self._say(
@@ -772,12 +773,14 @@ class MainWindow(QMainWindow):
         self.save_action.setEnabled(
             self.result is not None
             and not busy
-            and has_book
+            and self.book is not None
             and self.book.path.suffix.lower() in (".xlsx", ".xlsm")
         )
         self.save_as_action.setEnabled(self.result is not None and not busy)
         self.open_action.setEnabled(not busy)
-        self.sheet_box.setEnabled(not busy and has_book and self.book.table.file_format != "csv")
+        self.sheet_box.setEnabled(
+            not busy and self.book is not None and self.book.table.file_format != "csv"
+        )
         self.header_spin.setEnabled(not busy)
 
     def _refresh_recent(self) -> None:

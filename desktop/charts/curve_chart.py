@@ -34,7 +34,7 @@ class CurveChart(QWidget):
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(self.plot)
         self.curve: ValidationCurve | None = None
-        self.x = np.zeros(0)
+        self._x = np.zeros(0)
         self.marks: dict[str, float] = {}  # "min" / "one-se" -> view x
 
     def set_curve(self, curve: ValidationCurve | None, chosen_rule: str | None = None) -> None:
@@ -47,12 +47,12 @@ class CurveChart(QWidget):
             return
         self.item.setTitle(None)
         if curve.grid_kind == "penalty":
-            self.x = log10_positive(curve.grid)
+            self._x = log10_positive(curve.grid)
             self._axis.log_labels = True
             self.item.setLabel("bottom", "Penalty (log scale; weaker to the right)")
             self.item.invertX(True)
         else:
-            self.x = np.asarray(curve.grid, dtype=float)
+            self._x = np.asarray(curve.grid, dtype=float)
             self._axis.log_labels = False
             self.item.setLabel("bottom", "Number of columns in the subset")
             self.item.invertX(False)
@@ -61,11 +61,11 @@ class CurveChart(QWidget):
         y = np.asarray(curve.mean_error, dtype=float)
         se = np.where(np.isfinite(curve.se), curve.se, 0.0)
         bars = pg.ErrorBarItem(
-            x=self.x, y=y, top=se, bottom=se, beam=self._beam(), pen=pg.mkPen(MUTED, width=1)
+            x=self._x, y=y, top=se, bottom=se, beam=self._beam(), pen=pg.mkPen(MUTED, width=1)
         )
         self.item.addItem(bars)
         line = self.item.plot(
-            self.x,
+            self._x,
             y,
             pen=pg.mkPen(ACCENT, width=2),
             symbol="o",
@@ -80,7 +80,7 @@ class CurveChart(QWidget):
             ("min", curve.index_min, _MIN_COLOUR, "lowest error"),
             ("one-se", curve.index_one_se, _ONE_SE_COLOUR, "simplest within one SE"),
         ):
-            x = float(self.x[idx])
+            x = float(self._x[idx])
             self.marks[rule] = x
             width = 2.5 if rule == chosen_rule else 1.5
             mark = pg.InfiniteLine(
@@ -110,6 +110,6 @@ class CurveChart(QWidget):
         self.item.enableAutoRange()
 
     def _beam(self) -> float:
-        if self.x.size < 2:
+        if self._x.size < 2:
             return 0.1
-        return float(np.min(np.abs(np.diff(np.sort(self.x)))) * 0.5) or 0.05
+        return float(np.min(np.abs(np.diff(np.sort(self._x)))) * 0.5) or 0.05

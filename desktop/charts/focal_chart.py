@@ -29,7 +29,9 @@ class FocalChart(QWidget):
             self.item.setTitle("No focal column in this study")
             return
         self.item.setLabel("bottom", f"Effect of one unit of {focal.column} on the response")
-        rows = [("double selection", focal.estimate, focal.ci_low, focal.ci_high, ACCENT)]
+        rows: list[tuple[str, float, float | None, float | None, str]] = [
+            ("double selection", focal.estimate, focal.ci_low, focal.ci_high, ACCENT)
+        ]
         if focal.naive_estimate is not None and np.isfinite(focal.naive_estimate):
             rows.append(("response equation only", focal.naive_estimate, None, None, SERIES[1]))
         ticks = []

@@ -49,16 +49,16 @@ class PathChart(QWidget):
         self._x = np.zeros(0)
         self._lines: dict[str, pg.PlotCurveItem] = {}
         self._colours: dict[str, str] = {}
-        self.cursor = pg.InfiniteLine(
+        self.penalty_line = pg.InfiniteLine(
             angle=90,
             movable=True,
             pen=pg.mkPen(ACCENT, width=2),
             hoverPen=pg.mkPen(ACCENT, width=4),
         )
-        self.cursor.setZValue(50)
-        self.cursor.setCursor(Qt.CursorShape.SizeHorCursor)
-        self.cursor.sigPositionChanged.connect(self._on_cursor_moved)
-        self.cursor.sigPositionChangeFinished.connect(self._snap_cursor)
+        self.penalty_line.setZValue(50)
+        self.penalty_line.setCursor(Qt.CursorShape.SizeHorCursor)
+        self.penalty_line.sigPositionChanged.connect(self._on_cursor_moved)
+        self.penalty_line.sigPositionChangeFinished.connect(self._snap_cursor)
         self._chosen_line = pg.InfiniteLine(
             angle=90,
             movable=False,
@@ -140,13 +140,13 @@ class PathChart(QWidget):
             self._chosen_line.setValue(float(self._x[self.chosen]))
             self.item.addItem(self._chosen_line, ignoreBounds=True)
         lo, hi = float(np.min(self._x)), float(np.max(self._x))
-        self.cursor.setBounds((lo, hi))
-        self.item.addItem(self.cursor, ignoreBounds=True)
+        self.penalty_line.setBounds((lo, hi))
+        self.item.addItem(self.penalty_line, ignoreBounds=True)
         self.item.addItem(self._hover_label, ignoreBounds=True)
         self._hover_label.hide()
-        self.cursor.blockSignals(True)
-        self.cursor.setValue(float(self._x[self.index]))
-        self.cursor.blockSignals(False)
+        self.penalty_line.blockSignals(True)
+        self.penalty_line.setValue(float(self._x[self.index]))
+        self.penalty_line.blockSignals(False)
         self.item.enableAutoRange()
         if self.highlighted:
             self.highlight(self.highlighted)
@@ -176,23 +176,23 @@ class PathChart(QWidget):
         if not self._x.size:
             return
         i = int(np.clip(i, 0, self._x.size - 1))
-        self.cursor.setValue(float(self._x[i]))
+        self.penalty_line.setValue(float(self._x[i]))
 
     def move_cursor_to(self, x: float) -> None:
         """Place the cursor at view x, as a drag would."""
-        self.cursor.setValue(float(x))
+        self.penalty_line.setValue(float(x))
 
     def _on_cursor_moved(self) -> None:
-        i = self.nearest_index(float(self.cursor.value()))
+        i = self.nearest_index(float(self.penalty_line.value()))
         if i != self.index:
             self.index = i
             self.index_changed.emit(i)
 
     def _snap_cursor(self) -> None:
         if self._x.size:
-            self.cursor.blockSignals(True)
-            self.cursor.setValue(float(self._x[self.index]))
-            self.cursor.blockSignals(False)
+            self.penalty_line.blockSignals(True)
+            self.penalty_line.setValue(float(self._x[self.index]))
+            self.penalty_line.blockSignals(False)
 
     # hover and highlight ----------------------------------------------------------------
     def name_near(self, x: float, y: float, px_tolerance: float = _HOVER_PX) -> str:

@@ -138,7 +138,12 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
             if is_pen:
                 xa["log_base"] = 10
             chart.set_x_axis(xa)
-            chart.set_y_axis({"name": "mean squared error"})
+            ya: dict[str, object] = {"name": "mean squared error"}
+            if lo > 0 and hi / lo > 20:
+                # errors spanning decades (the empty model's error dwarfs the interesting
+                # region near the minimum): a log scale keeps the minimum readable
+                ya.update(name="mean squared error (log scale)", log_base=10)
+            chart.set_y_axis(ya)
             chart.set_legend({"position": "bottom"})
             chart.set_size({"width": 640, "height": 20 * CHART_ROWS})
             ws.insert_chart(chart_r, 0, chart, {"x_offset": 5, "y_offset": 5})

@@ -483,31 +483,60 @@ _EXACT_ACCEPT = 1e-10
 _EXACT_TRIES = 3
 
 
-class _GrowingCholesky:
-    """Cholesky factor L L' = Z_S'Z_S of an ordered column set S, grown one column at a time."""
+# leaving columns kept in a Cholesky factor as ghosts: at most 4 or 1/_GHOST_SHARE of its columns
+_GHOST_SHARE = 16
 
-    def __init__(self, prob):
+
+class _GrowingCholesky:
+    """Cholesky factor L L' = Z_S'Z_S of an ordered column set S, grown one column at a time.
+
+    Columns that leave the active set may stay in S as "ghosts" (a few, see _GHOST_SHARE): the
+    solve then pins their coefficients to zero through the Schur complement of the ghost
+    block, which costs two triangular solves per ghost (kept while the factor stays) instead
+    of refactoring the columns after the first leaving one.
+    """
+
+    def __init__(self, prob, diag_weights: np.ndarray | None = None):
         self.prob = prob
         self.order = np.zeros(0, dtype=np.intp)
         self.L = np.zeros((0, 0))
         self.pos = np.full(prob.p, -1, dtype=np.intp)  # position in ``order``, -1 if absent
+        # elastic net: the factored matrix is Z_S'Z_S + shift * diag(diag_weights[S]); a new
+        # shift starts a new factor, columns added for the same shift only border it
+        self.diag_weights = diag_weights
+        self.shift = 0.0
+        self._ghost_key: tuple | None = None
+        self._ghost: tuple | None = None
+        self._version = 0  # changes with the factor (keys the ghost cache)
 
     def _reset(self) -> None:
+        self._version += 1
         self.pos[self.order] = -1
         self.order = np.zeros(0, dtype=np.intp)
         self.L = np.zeros((0, 0))
 
-    def fit(self, A: np.ndarray) -> bool:
+    def _block(self, A: np.ndarray) -> np.ndarray:
+        C = self.prob.gram_block(A)
+        if self.shift != 0.0:
+            C[np.diag_indices_from(C)] += self.shift * self.diag_weights[A]
+        return C
+
+    def fit(self, A: np.ndarray, shift: float = 0.0) -> bool:
+        if shift != self.shift:
+            self._reset()
+            self.shift = shift
         if A.size == self.order.size and np.all(self.pos[A] >= 0):
             return True  # same set: nothing to do
         member = np.zeros(self.prob.p, bool)
         member[A] = True
         gone = np.flatnonzero(~member[self.order])
-        if gone.size:  # keep the factor of the prefix before the first leaving column (free)
+        if gone.size > max(4, self.order.size // _GHOST_SHARE):
+            # too many ghosts: keep the factor of the prefix before the first leaving column
             cut = int(gone[0])
             suffix = self.order[cut:][member[self.order[cut:]]]
             self.pos[self.order[cut:]] = -1
             self.order, self.L = self.order[:cut], self.L[:cut, :cut].copy()
+            self._version += 1
             fresh = A[self.pos[A] < 0]
             fresh = fresh[~np.isin(fresh, suffix)]
             new_a = np.concatenate([suffix, fresh]).astype(np.intp)
@@ -515,8 +544,17 @@ class _GrowingCholesky:
             new_a = A[self.pos[A] < 0]
         if new_a.size == 0:
             return True
+        if self._border(new_a):
+            return True
+        if gone.size:  # a ghost may make the set dependent: start afresh without ghosts
+            self._reset()
+            return self._border(A)
+        return False
+
+    def _border(self, new_a: np.ndarray) -> bool:
+        """Append columns ``new_a`` to the factor (bordering); False and reset if dependent."""
         old = self.order
-        C = self.prob.gram_block(new_a)
+        C = self._block(new_a)
         diag_ref = np.diag(C).copy()
         k0, k1 = old.size, new_a.size
         L = np.zeros((k0 + k1, k0 + k1))
@@ -538,14 +576,31 @@ class _GrowingCholesky:
         self.order = np.concatenate([old, new_a])
         self.pos[self.order] = np.arange(self.order.size)
         self.L = L
+        self._version += 1
         return True
 
     def solve(self, A: np.ndarray, rhs: np.ndarray) -> np.ndarray:
         """Solve Z_A'Z_A x = rhs (rhs (|A|,) or (|A|, k)); A must be the factored set."""
         idx = self.pos[A]
-        r = np.zeros((self.order.size,) + rhs.shape[1:])
+        k = self.order.size
+        r = np.zeros((k,) + rhs.shape[1:])
         r[idx] = rhs
-        x, _ = _dpotrs(self.L.T, r, lower=0)  # L' is column-major: no copy for LAPACK
+        LT = self.L.T  # L' is column-major: no copy for LAPACK
+        x, _ = _dpotrs(LT, r, lower=0)
+        if idx.size < k:
+            # ghosts D: x = u - H_.D (H_DD)^-1 u_D with H = (Z_S'Z_S)^-1 makes x_D = 0
+            ghost = np.ones(k, bool)
+            ghost[idx] = False
+            gi = np.flatnonzero(ghost)
+            key = (self._version, gi.tobytes())
+            if key != self._ghost_key:  # H_.D and (H_DD)^-1, kept while factor and D stay
+                E = np.zeros((k, gi.size))
+                E[gi, np.arange(gi.size)] = 1.0
+                H, _ = _dpotrs(LT, E, lower=0)
+                self._ghost = (H, np.linalg.inv(H[gi]))
+                self._ghost_key = key
+            H, Hdd_inv = self._ghost
+            x = x - H @ (Hdd_inv @ x[gi])
         return x[idx]
 
 
@@ -647,31 +702,22 @@ class _ActiveSetSolver:
         self.mix = mix
         self.v = v
         self.n = prob.n
-        self._key: bytes | None = None
-        self._QA: np.ndarray | None = None
         self._chol = _GrowingCholesky(prob)
+        self._shifted = _GrowingCholesky(prob, v) if mix < 1.0 else None
 
     def _solve(self, A: np.ndarray, sA: np.ndarray, lam: float) -> np.ndarray | None:
         if A.size >= self.n:  # centred data have rank < n: no unique solution
             return None
         n, mix, v = self.n, self.mix, self.v
         rhs = self.prob.q[A] - n * lam * mix * v[A] * sA
-        if mix == 1.0:
-            # lasso: Z_A'Z_A does not change with lambda; grow its Cholesky factor column by
-            # column as the active set grows, refactor only when a column leaves
-            if not self._chol.fit(A):
-                return None
-            return self._chol.solve(A, rhs)
-        key = A.tobytes()
-        if key != self._key:
-            self._QA = self.prob.gram_block(A)
-            self._key = key
-        M = self._QA + np.diag(n * lam * (1.0 - mix) * v[A])
-        c, info = _dpotrf(M, lower=1, clean=1)
-        if info != 0:
+        # lasso: Z_A'Z_A does not change with lambda; its Cholesky factor grows column by
+        # column with the active set and is partly refactored only when a column leaves.
+        # Elastic net: Z_A'Z_A + n*lambda*(1-mix)*V_A is factored once per penalty and only
+        # bordered when the tries of that penalty add columns.
+        chol = self._chol if mix == 1.0 else self._shifted
+        if not chol.fit(A, 0.0 if mix == 1.0 else n * lam * (1.0 - mix)):
             return None
-        x, info = _dpotrs(c, rhs, lower=1)
-        return x if info == 0 else None
+        return chol.solve(A, rhs)
 
     def _candidate(self, A, sA, lam):
         bA = self._solve(A, sA, lam)
@@ -686,10 +732,17 @@ class _ActiveSetSolver:
         A = np.flatnonzero(beta_prev)
         sA = np.sign(beta_prev[A])
         for _ in range(_EXACT_TRIES):
-            cand = self._candidate(A, sA, lam)
-            if cand is None:
+            bA = self._solve(A, sA, lam)
+            if bA is None or not np.all(np.isfinite(bA)):
                 return None
-            beta, g = cand
+            flipped = np.sign(bA) != sA
+            if np.any(flipped):
+                # a coefficient crossed zero: guess that it leaves and try again
+                A, sA = A[~flipped], sA[~flipped]
+                continue
+            beta = np.zeros(self.prob.p)
+            beta[A] = bA
+            g = self.prob.gradient(beta)
             excess = np.abs(g) - l1
             excess[A] = -np.inf
             bad = np.flatnonzero(excess > accept_abs)

@@ -139,11 +139,14 @@ class _GramProblem:
         self.p = q.shape[0]
         self.r_norm2 = self.yy
 
+    # Q[A][:, B] (rows, then columns) is several times faster than Q[np.ix_(A, B)]
     def gram_block(self, A: np.ndarray) -> np.ndarray:
-        return self.Q[np.ix_(A, A)]
+        return self.Q[A][:, A]
 
     def cross_block(self, A: np.ndarray, B: np.ndarray) -> np.ndarray:
-        return self.Q[np.ix_(A, B)]
+        if B.size < A.size:  # Q is symmetric: gather the fewer rows (column-major result)
+            return self.Q[B][:, A].T
+        return self.Q[A][:, B]
 
     def ztz(self, A: np.ndarray, x: np.ndarray) -> np.ndarray:
         """Z' Z_A x for x of shape (|A|,) or (|A|, k)."""
@@ -162,7 +165,7 @@ class _GramProblem:
         if W.size == self.p and scale is None and l2_diag is None:
             Qw, qw = self.Q, self.q  # the whole problem: no copy of Q
         else:
-            Qw = self.Q[np.ix_(W, W)]
+            Qw = self.Q[W][:, W]
             qw = self.q[W]
         if scale is not None:
             Qw = Qw * np.outer(scale, scale)
@@ -238,7 +241,8 @@ class _ResidualProblem:
         return self._xt(self._zcols(A) @ x)
 
     def _gather(self, A: np.ndarray) -> np.ndarray:
-        sub = self.X[:, A] if self.rows is None else self.X[np.ix_(self.rows, A)]
+        # columns first, then rows: cheaper than X[np.ix_(rows, A)] (and than rows first)
+        sub = self.X[:, A] if self.rows is None else self.X[:, A][self.rows]
         return (sub - self.sc.means[A]) * self.inv_sd[A]
 
     def _zcols(self, A: np.ndarray) -> np.ndarray:
@@ -480,7 +484,7 @@ def _violation(g, beta, lam, mix, v, n):
 # of ||Z'yc||_inf (rounding level; anything looser is left to coordinate descent)
 _EXACT_ACCEPT = 1e-10
 # tries per penalty of the exact solution with columns added as they violate their condition
-_EXACT_TRIES = 3
+_EXACT_TRIES = 6
 
 
 # leaving columns kept in a Cholesky factor as ghosts: at most 4 or 1/_GHOST_SHARE of its columns

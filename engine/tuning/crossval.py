@@ -43,6 +43,9 @@ from engine.fitting.standardize import column_moments
 from engine.progress import Progress
 from engine.tuning.curve import ValidationCurve, choose_index
 
+# penalties whose held-out predictions are made together (one matrix product)
+_SINK_BLOCK = 20
+
 PenaltyFactors = np.ndarray | Callable[[np.ndarray, np.ndarray], np.ndarray] | None
 
 
@@ -96,14 +99,27 @@ def fold_errors(
     if mix == 0 and np.all(v == 1.0):
         resid = yt[:, None] - RidgeDecomposition(prob, sc).predict(penalties, Zt, progress)
         return np.mean(resid**2, axis=0), 0.0, notes
-    err = np.zeros(penalties.shape[0])
+    L = penalties.shape[0]
+    err = np.zeros(L)
+    # only held-out errors are kept, not the path: solutions wait in a small block and their
+    # predictions are made by one matrix product per block
+    block = np.zeros((min(_SINK_BLOCK, L), p))
+    first = [0]
 
-    def sink(k: int, beta: np.ndarray) -> None:  # only held-out errors are kept, not the path
-        nz = np.flatnonzero(beta)
-        r = yt - Zt[:, nz] @ beta[nz]
-        err[k] = float(r @ r) / r.shape[0]
+    def flush(upto: int) -> None:
+        k0 = first[0]
+        if upto > k0:
+            R = yt[:, None] - Zt @ block[: upto - k0].T
+            err[k0:upto] = np.einsum("ij,ij->j", R, R) / R.shape[0]
+            first[0] = upto
+
+    def sink(k: int, beta: np.ndarray) -> None:
+        if k - first[0] >= block.shape[0]:
+            flush(k)
+        block[k - first[0]] = beta
 
     res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, sink=sink)
+    flush(L)
     return err, float(np.max(res.kkt, initial=0.0)), res.notes
 
 

@@ -710,18 +710,23 @@ class _ActiveSetSolver:
         self._shifted = _GrowingCholesky(prob, v) if mix < 1.0 else None
 
     def _solve(self, A: np.ndarray, sA: np.ndarray, lam: float) -> np.ndarray | None:
-        if A.size >= self.n:  # centred data have rank < n: no unique solution
+        if A.size >= self.n and self.mix == 1.0:  # rank < n: no unique lasso solution
             return None
         n, mix, v = self.n, self.mix, self.v
         rhs = self.prob.q[A] - n * lam * mix * v[A] * sA
         # lasso: Z_A'Z_A does not change with lambda; its Cholesky factor grows column by
         # column with the active set and is partly refactored only when a column leaves.
         # Elastic net: Z_A'Z_A + n*lambda*(1-mix)*V_A is factored once per penalty and only
-        # bordered when the tries of that penalty add columns.
-        chol = self._chol if mix == 1.0 else self._shifted
-        if not chol.fit(A, 0.0 if mix == 1.0 else n * lam * (1.0 - mix)):
+        # bordered when the tries of that penalty add columns (it is positive definite even
+        # with more active columns than rows).
+        if mix == 1.0:
+            if not self._chol.fit(A):
+                return None
+            return self._chol.solve(A, rhs)
+        shift = n * lam * (1.0 - mix)
+        if not self._shifted.fit(A, shift):
             return None
-        return chol.solve(A, rhs)
+        return self._shifted.solve(A, rhs)
 
     def _candidate(self, A, sA, lam):
         bA = self._solve(A, sA, lam)

@@ -56,20 +56,23 @@ def column_moments(
     hi = np.full(p, -np.inf)
     lo = np.full(p, np.inf)
     ss = np.zeros(p)
-    # blocks of at most _BLOCK_ROWS rows and _BLOCK_CELLS cells, so wide data stay light too
-    width = max(1, _BLOCK_CELLS // min(n, _BLOCK_ROWS))
+    # blocks of about _BLOCK_CELLS cells, whole rows where that leaves at least 256 of them
+    # (contiguous memory reduces several times faster than column slices), so wide data
+    # stay light too
+    step = min(n, _BLOCK_ROWS, max(256, _BLOCK_CELLS // p))
+    width = min(p, max(1, _BLOCK_CELLS // step))
     for c0 in range(0, p, width):
         cols = slice(c0, min(c0 + width, p))
-        for start in range(0, n, _BLOCK_ROWS):
-            block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n), cols)
+        for start in range(0, n, step):
+            block = _rows(X, idx, rows is None, start, min(start + step, n), cols)
             total[cols] += block.sum(axis=0)
             np.maximum(hi[cols], block.max(axis=0), out=hi[cols])
             np.minimum(lo[cols], block.min(axis=0), out=lo[cols])
     means = total / n
     for c0 in range(0, p, width):
         cols = slice(c0, min(c0 + width, p))
-        for start in range(0, n, _BLOCK_ROWS):
-            block = _rows(X, idx, rows is None, start, min(start + _BLOCK_ROWS, n), cols)
+        for start in range(0, n, step):
+            block = _rows(X, idx, rows is None, start, min(start + step, n), cols)
             block = block - means[cols]
             ss[cols] += np.einsum("ij,ij->j", block, block)
     constant = hi == lo

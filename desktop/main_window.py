@@ -64,7 +64,7 @@ from engine.study_spec import StudySpec
 
 OPENABLE = (".xlsx", ".xlsm", ".xls", ".ods", ".csv")
 OPEN_FILTER = "Workbooks and text tables (*.xlsx *.xlsm *.xls *.ods *.csv);;All files (*)"
-SAVE_FILTER = "Excel workbook (*.xlsx)"
+SAVE_FILTER = "Workbook (*.xlsx)"
 
 PAGE_SHEET, PAGE_SETTINGS, PAGE_FINDINGS = range(3)
 
@@ -332,7 +332,7 @@ class MainWindow(QMainWindow):
         hello.setObjectName("headline")
         hello.setAlignment(Qt.AlignmentFlag.AlignCenter)
         kinds = QLabel(
-            "Excel (.xlsx, .xlsm, .xls), OpenDocument (.ods) or CSV. Your file is only read; "
+            "Workbooks (.xlsx, .xlsm, .xls), OpenDocument (.ods) or CSV. Your file is only read; "
             "results are written when you choose Save."
         )
         kinds.setObjectName("caption")

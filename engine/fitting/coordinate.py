@@ -317,6 +317,16 @@ class CrossProducts:
     sy: float
     yy: float
 
+    def plus(self, other: CrossProducts) -> CrossProducts:
+        return CrossProducts(
+            self.n + other.n,
+            self.G + other.G,
+            self.s + other.s,
+            self.xy + other.xy,
+            self.sy + other.sy,
+            self.yy + other.yy,
+        )
+
     def minus(self, other: CrossProducts) -> CrossProducts:
         return CrossProducts(
             self.n - other.n,
@@ -512,6 +522,7 @@ class _GrowingCholesky:
         self._ghost_key: tuple | None = None
         self._ghost: tuple | None = None
         self._version = 0  # changes with the factor (keys the ghost cache)
+        self._fitted: tuple | None = None
 
     def _reset(self) -> None:
         self._version += 1
@@ -531,6 +542,14 @@ class _GrowingCholesky:
             self.shift = shift
         if A.size == self.order.size and np.all(self.pos[A] >= 0):
             return True  # same set: nothing to do
+        key = A.tobytes()
+        if self._fitted == (self._version, key):
+            return True  # the set just fitted (with ghosts)
+        ok = self._fit(A)
+        self._fitted = (self._version, key) if ok else None
+        return ok
+
+    def _fit(self, A: np.ndarray) -> bool:
         member = np.zeros(self.prob.p, bool)
         member[A] = True
         gone = np.flatnonzero(~member[self.order])

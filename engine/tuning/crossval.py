@@ -25,6 +25,7 @@ import numpy as np
 from joblib import Parallel, delayed
 
 from engine.fitting.coordinate import (
+    CrossProducts,
     _check_penalties,
     _check_xy,
     _problem_lambda_max,
@@ -50,23 +51,54 @@ PenaltyFactors = np.ndarray | Callable[[np.ndarray, np.ndarray], np.ndarray] | N
 
 
 class _SharedSums:
-    """Centred cross products of all rows, computed once for every part (Gram route)."""
+    """Centred cross products of all rows, computed once for every part (Gram route).
 
-    def __init__(self, X: np.ndarray, y: np.ndarray):
+    When the held-out parts partition the rows (k-fold) and their cross products together
+    take no more memory than the data (parts * p <= n), those are formed first and summed
+    to the total: one pass over the rows instead of two.
+    """
+
+    def __init__(self, X: np.ndarray, y: np.ndarray, tests: Sequence[np.ndarray] = ()):
         self.m0, sds, self.constant = column_moments(X)
         self.ref_var = np.where(self.constant, 0.0, sds**2)
         self.ybar0 = float(y.mean())
-        self.total = cross_products(X, y, self.m0, self.ybar0)
+        n, p = X.shape
+        self.held: dict[bytes, CrossProducts] = {}
+        if tests and len(tests) * p <= n and _partition(tests, n):
+            for te in tests:
+                self.held[te.tobytes()] = cross_products(X, y, self.m0, self.ybar0, te)
+            held = list(self.held.values())
+            total = held[0]
+            for cp in held[1:]:
+                total = total.plus(cp)
+            self.total = total
+        else:
+            self.total = cross_products(X, y, self.m0, self.ybar0)
 
-    def problem(self, X, y, train: np.ndarray):
+    def problem(self, X, y, train: np.ndarray, test: np.ndarray | None = None):
         n = X.shape[0]
-        if 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
+        outside = None if test is None else self.held.get(test.tobytes())
+        if outside is not None and outside.n + train.shape[0] == n:
+            cp = self.total.minus(outside)
+        elif 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
             cp = cross_products(X, y, self.m0, self.ybar0, train)
         else:
             mask = np.ones(n, bool)
             mask[train] = False
             cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
         return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var)
+
+
+def _partition(tests: Sequence[np.ndarray], n: int) -> bool:
+    """True when the index sets are disjoint and together cover 0..n-1."""
+    if sum(te.shape[0] for te in tests) != n:
+        return False
+    seen = np.zeros(n, bool)
+    for te in tests:
+        if te.size and (te.min() < 0 or te.max() >= n):
+            return False
+        seen[te] = True
+    return bool(seen.all())
 
 
 def fold_errors(
@@ -89,7 +121,7 @@ def fold_errors(
     else:
         v = normalize_penalty_factors(penalty_factors, p)
     if shared is not None:
-        prob, sc = shared.problem(X, y, train)
+        prob, sc = shared.problem(X, y, train, test)
     else:
         prob, sc = _residual_problem(X, y, train)
     notes: list[str] = []
@@ -175,7 +207,7 @@ def cross_validate_path(
             lam = penalty_grid(_problem_lambda_max(prob, mix, v), 100, default_ratio(n, p))
 
     gram = (n > p) if use_gram is None else use_gram
-    shared = _SharedSums(X, y) if gram else None
+    shared = _SharedSums(X, y, [te for _, te in parts]) if gram else None
     if workers is None:
         workers = os.cpu_count() or 1
     workers = max(1, min(int(workers), len(parts)))

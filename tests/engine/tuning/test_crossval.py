@@ -126,3 +126,22 @@ def test_cancel_between_parts():
             workers=1,
             n_selected=np.zeros(20),
         )
+
+
+def test_held_out_sums_route_agrees_with_one_pass_total():
+    # two routes: the k-fold total as the sum of the held-out parts' cross products, and the
+    # total formed in one pass over all rows; each part's standardized Gram problem must agree
+    from engine.tuning.crossval import _SharedSums
+
+    X, y = _data(200, 8, seed=5)
+    parts = make_folds(200, "kfold", folds=5, seed=2)
+    summed = _SharedSums(X, y, [te for _, te in parts])
+    direct = _SharedSums(X, y)
+    assert len(summed.held) == 5 and not direct.held
+    np.testing.assert_allclose(summed.total.G, direct.total.G, rtol=1e-12, atol=1e-9)
+    for tr, te in parts:
+        a, sa = summed.problem(X, y, tr, te)
+        b, sb = direct.problem(X, y, tr)
+        np.testing.assert_allclose(a.Q, b.Q, rtol=1e-10, atol=1e-9)
+        np.testing.assert_allclose(a.q, b.q, rtol=1e-10, atol=1e-9)
+        np.testing.assert_allclose(sa.sds, sb.sds, rtol=1e-12)

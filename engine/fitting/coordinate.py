@@ -24,10 +24,13 @@ How the path is computed
   without a standardized copy of the data); otherwise it runs on residuals with only the working
   columns copied, and the KKT check uses X'r with the centring and scaling applied algebraically.
 - Before any sweep, the exact solution of the optimality conditions on the previous active
-  set (signs fixed, violating columns added up to three times) is tried; after coordinate
-  descent the same exact solve "polishes" the answer. A Cholesky factor of Z_A'Z_A is grown
-  and shrunk with the active set, so most penalties cost one triangular solve and one
-  gradient. Near saturation (active set above n/2), where coordinate descent crawls, the lasso
+  set (signs fixed) is tried, up to six times per penalty: columns that violate their
+  condition are added, a coefficient whose sign flips is dropped; after coordinate descent
+  the same exact solve "polishes" the answer. A Cholesky factor of Z_A'Z_A is grown with the
+  active set; a few leaving columns stay in it as "ghosts" pinned to zero by a Schur
+  complement instead of a refactorization, so most penalties cost one triangular solve and
+  one gradient. For the elastic net the factor of Z_A'Z_A + n*lambda*(1-mix)*V_A is made
+  once per penalty (positive definite even with more active columns than rows). Near saturation (active set above n/2), where coordinate descent crawls, the lasso
   is followed exactly between grid points (LARS-lasso homotopy, Efron et al. 2004). Every
   exact candidate is accepted only if all optimality conditions hold to 1e-10 (scale-free).
 - Columns with v_j = 0 are partialled out exactly (Frisch-Waugh-Lovell) and recovered by least
@@ -553,7 +556,11 @@ class _GrowingCholesky:
         member = np.zeros(self.prob.p, bool)
         member[A] = True
         gone = np.flatnonzero(~member[self.order])
-        if gone.size > max(4, self.order.size // _GHOST_SHARE):
+        # ghosts only well below rank n (always on the Gram route, where p < n): near
+        # saturation they make the factor ill-conditioned
+        few = gone.size <= max(4, self.order.size // _GHOST_SHARE)
+        room = isinstance(self.prob, _GramProblem) or 2 * self.order.size < self.prob.n
+        if gone.size and not (few and room):
             # too many ghosts: keep the factor of the prefix before the first leaving column
             cut = int(gone[0])
             suffix = self.order[cut:][member[self.order[cut:]]]

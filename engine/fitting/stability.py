@@ -22,7 +22,6 @@ from __future__ import annotations
 
 __all__ = ["StabilitySelection", "stability_selection", "false_selection_bound"]
 
-import os
 from dataclasses import dataclass
 
 import numpy as np
@@ -33,6 +32,7 @@ from engine.errors import InputProblem
 from engine.fitting.coordinate import elastic_net_path, penalty_grid, penalty_max
 from engine.progress import Progress, silent
 from engine.study_result import StabilityResult
+from engine.tuning.parts import worker_count
 
 
 def false_selection_bound(q: float, p: int, threshold: float) -> float:
@@ -120,9 +120,7 @@ def stability_selection(
     draws = [np.sort(np.random.default_rng(s).choice(n, half, replace=False)) for s in seeds]
     counts = np.zeros((penalties.shape[0], p))
     per_run_selected = np.zeros(penalties.shape[0])
-    if workers is None:
-        workers = os.cpu_count() or 1
-    workers = max(1, min(int(workers), runs))
+    workers = worker_count(workers, runs)
     done = 0
     progress.step(0.0, "stability selection")
     batch = max(1, 2 * workers)  # short batches so a cancel is seen between them

@@ -18,11 +18,9 @@ from __future__ import annotations
 
 __all__ = ["cross_validate_path", "fold_errors"]
 
-import os
 from collections.abc import Callable, Sequence
 
 import numpy as np
-from joblib import Parallel, delayed
 
 from engine.fitting.coordinate import (
     CrossProducts,
@@ -35,7 +33,6 @@ from engine.fitting.coordinate import (
     default_ratio,
     gram_problem,
     normalize_penalty_factors,
-    one_blas_thread,
     penalty_grid,
     solve_path,
 )
@@ -43,6 +40,7 @@ from engine.fitting.ridge import RIDGE_RATIO, RidgeDecomposition
 from engine.fitting.standardize import column_moments
 from engine.progress import Progress
 from engine.tuning.curve import ValidationCurve, choose_index
+from engine.tuning.parts import mean_and_se, run_parts, worker_count
 
 # penalties whose held-out predictions are made together (one matrix product)
 _SINK_BLOCK = 20
@@ -208,9 +206,7 @@ def cross_validate_path(
 
     gram = (n > p) if use_gram is None else use_gram
     shared = _SharedSums(X, y, [te for _, te in parts]) if gram else None
-    if workers is None:
-        workers = os.cpu_count() or 1
-    workers = max(1, min(int(workers), len(parts)))
+    workers = worker_count(workers, len(parts))
 
     child = progress.part(0.0, 1.0) if progress is not None else None
 
@@ -235,23 +231,8 @@ def cross_validate_path(
         if progress is not None:
             progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
 
-    # one BLAS thread per worker: the fold work is many small calls that contend otherwise
-    with one_blas_thread():
-        if workers == 1:
-            for k in range(len(parts)):
-                collect(run(k))
-        else:
-            gen = Parallel(n_jobs=workers, backend="threading", return_as="generator_unordered")(
-                delayed(run)(k) for k in range(len(parts))
-            )
-            for item in gen:
-                collect(item)
-
-    mean = errors.mean(axis=0)
-    if len(parts) > 1:
-        se = errors.std(axis=0, ddof=1) / np.sqrt(len(parts))
-    else:
-        se = np.full(lam.shape[0], np.nan)
+    run_parts(len(parts), run, collect, workers)
+    mean, se = mean_and_se(errors)
     if n_selected is None:
         from engine.fitting.coordinate import elastic_net_path
         from engine.fitting.ridge import ridge_path

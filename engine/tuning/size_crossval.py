@@ -25,13 +25,10 @@ __all__ = [
     "size_rows",
 ]
 
-import os
 from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from joblib import Parallel, delayed
-from threadpoolctl import threadpool_limits
 
 from engine.errors import InputProblem
 from engine.fitting.stepwise import forward_stepwise
@@ -39,6 +36,7 @@ from engine.fitting.subset_search import best_subset
 from engine.progress import Progress, silent
 from engine.study_result import SizeRow
 from engine.tuning.curve import ValidationCurve, choose_index
+from engine.tuning.parts import mean_and_se, run_parts, worker_count
 
 SEARCHES = ("best-subset", "forward-stepwise")
 
@@ -189,9 +187,7 @@ def cross_validate_sizes(
     K = top if max_size is None else min(int(max_size), top)
     if K < 1:
         raise InputProblem(f"the largest subset size must be at least 1; got {max_size}")
-    if workers is None:
-        workers = os.cpu_count() or 1
-    workers = max(1, min(int(workers), len(parts)))
+    workers = worker_count(workers, len(parts))
 
     errors = np.full((len(parts), K + 1), np.nan)
     approx = 0
@@ -211,22 +207,8 @@ def cross_validate_sizes(
         done += 1
         progress.step(done / len(parts), f"{search}: validation part {done} of {len(parts)}")
 
-    if workers == 1:
-        for i in range(len(parts)):
-            collect(run(i))
-    else:
-        with threadpool_limits(limits=1, user_api="blas"):
-            gen = Parallel(n_jobs=workers, backend="threading", return_as="generator_unordered")(
-                delayed(run)(i) for i in range(len(parts))
-            )
-            for item in gen:
-                collect(item)
-
-    mean = errors.mean(axis=0)
-    if len(parts) > 1:
-        se = errors.std(axis=0, ddof=1) / np.sqrt(len(parts))
-    else:
-        se = np.full(K + 1, np.nan)
+    run_parts(len(parts), run, collect, workers)
+    mean, se = mean_and_se(errors)
     if diagnostics is not None:
         diagnostics["approximate_parts"] = approx
     sizes = np.arange(K + 1)

@@ -6,6 +6,7 @@
 - ``size_crossval``  ``cross_validate_sizes``: validation by subset size, the search rerun per part
 - ``curve``          ``ValidationCurve`` and ``choose_index`` (minimum or one-standard-error rule)
 - ``criteria``       ``path_criteria``: AIC, BIC and extended BIC (Chen & Chen 2008) along a path
+- ``parts``          ``run_parts``, ``worker_count``, ``mean_and_se``: parts on the cores, and their summary
 """
 
 __all__: list[str] = []

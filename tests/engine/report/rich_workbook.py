@@ -9,13 +9,12 @@ bytes survive.
 
 from __future__ import annotations
 
-import datetime as dt
 import struct
 import zlib
 from pathlib import Path
 
 import xlsxwriter
-from study_fixture import HEADINGS
+from study_fixture import HEADINGS, fill_sheet
 
 
 def tiny_png() -> bytes:
@@ -52,21 +51,8 @@ def write_rich(path: Path, rows: list[dict]) -> None:
         vba.write_bytes(MACRO_BYTES)
         wb.add_vba_project(str(vba))
     ws = wb.add_worksheet("Lots")
-    datef = wb.add_format({"num_format": "yyyy-mm-dd"})
     bold = wb.add_format({"bold": True, "font_color": "#1F4E78"})
-    for c, h in enumerate(HEADINGS):
-        ws.write_string(0, c, h, bold)
-    for r, row in enumerate(rows, start=1):
-        for c, h in enumerate(HEADINGS):
-            v = row.get(h)
-            if v is None:
-                continue
-            if isinstance(v, dt.date):
-                ws.write_datetime(r, c, dt.datetime(v.year, v.month, v.day), datef)
-            elif isinstance(v, str):
-                ws.write_string(r, c, v)
-            else:
-                ws.write_number(r, c, v)
+    fill_sheet(wb, ws, rows, HEADINGS, bold)
     n = len(rows)
     ws.freeze_panes(1, 1)
     ws.write_comment(1, 0, "first lot of the season")

@@ -72,10 +72,15 @@ def simulate_rows(n: int, seed: int, gaps: bool = True) -> list[dict]:
 
 def write_rows(path: Path, rows: list[dict], sheet: str = "Lots", headings=HEADINGS) -> None:
     wb = xlsxwriter.Workbook(str(path))
-    ws = wb.add_worksheet(sheet)
+    fill_sheet(wb, wb.add_worksheet(sheet), rows, headings)
+    wb.close()
+
+
+def fill_sheet(wb, ws, rows: list[dict], headings=HEADINGS, heading_format=None) -> None:
+    """Headings in row 1, then one row per dict: dates as dates, text as text, numbers as numbers."""
     datef = wb.add_format({"num_format": "yyyy-mm-dd"})
     for c, h in enumerate(headings):
-        ws.write_string(0, c, h)
+        ws.write_string(0, c, h, heading_format)
     for r, row in enumerate(rows, start=1):
         for c, h in enumerate(headings):
             v = row.get(h)
@@ -87,7 +92,6 @@ def write_rows(path: Path, rows: list[dict], sheet: str = "Lots", headings=HEADI
                 ws.write_string(r, c, v)
             else:
                 ws.write_number(r, c, v)
-    wb.close()
 
 
 def build_design(rows: list[dict], source: str) -> Design:

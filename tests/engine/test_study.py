@@ -50,21 +50,27 @@ def _fit(argv, tmp_path):
     return code, out.getvalue(), err.getvalue()
 
 
+def _fit_json_argv(book, folds, methods, *extra):
+    """`tamis fit BOOK --response y --json --folds F --methods M` plus extra options."""
+    return [
+        "fit",
+        str(book),
+        "--response",
+        "y",
+        "--json",
+        "--folds",
+        str(folds),
+        "--methods",
+        methods,
+        *extra,
+    ]
+
+
 def test_fit_json_contract_and_truth_recovered(tmp_path):
     X, y, beta = _sparse_problem()
     book = _write_csv(tmp_path / "sim.csv", X, y)
     code, out, err = _fit(
-        [
-            "fit",
-            str(book),
-            "--response",
-            "y",
-            "--json",
-            "--folds",
-            "5",
-            "--methods",
-            "ols,ridge,lasso,elastic-net",
-        ],
+        _fit_json_argv(book, 5, "ols,ridge,lasso,elastic-net"),
         tmp_path,
     )
     assert code == 0, err
@@ -86,19 +92,7 @@ def test_fit_json_contract_and_truth_recovered(tmp_path):
 def test_same_seed_same_output_to_the_last_digit(tmp_path):
     X, y, _ = _sparse_problem(seed=3)
     book = _write_csv(tmp_path / "sim.csv", X, y)
-    argv = [
-        "fit",
-        str(book),
-        "--response",
-        "y",
-        "--json",
-        "--folds",
-        "4",
-        "--methods",
-        "lasso,elastic-net",
-        "--seed",
-        "7",
-    ]
+    argv = _fit_json_argv(book, 4, "lasso,elastic-net", "--seed", "7")
     first = _fit(argv, tmp_path)[1]
     second = _fit(argv, tmp_path)[1]
     assert first == second
@@ -112,7 +106,7 @@ def test_more_columns_than_rows_runs_and_skips_least_squares_with_a_note(tmp_pat
     y = 2 * X[:, 0] - X[:, 1] + rng.normal(scale=0.3, size=30)
     book = _write_csv(tmp_path / "wide.csv", X, y)
     code, out, err = _fit(
-        ["fit", str(book), "--response", "y", "--json", "--folds", "5", "--methods", "ols,lasso"],
+        _fit_json_argv(book, 5, "ols,lasso"),
         tmp_path,
     )
     assert code == 0, err
@@ -176,21 +170,15 @@ def test_subset_methods_focal_and_stability_reach_the_json(tmp_path):
     y = 1.0 + 2.0 * X[:, 0] - 1.5 * X[:, 3] + 0.7 * d + rng.normal(scale=0.5, size=n)
     book = _write_csv(tmp_path / "f.csv", X, y, extra={"d": d})
     code, out, err = _fit(
-        [
-            "fit",
-            str(book),
-            "--response",
-            "y",
-            "--json",
-            "--folds",
-            "5",
+        _fit_json_argv(
+            book,
+            5,
+            "adaptive-lasso,post-lasso,best-subset,forward-stepwise",
             "--focal",
             "d",
             "--stability",
             "20",
-            "--methods",
-            "adaptive-lasso,post-lasso,best-subset,forward-stepwise",
-        ],
+        ),
         tmp_path,
     )
     assert code == 0, err

@@ -129,3 +129,8 @@ def _warm_up_engine() -> None:
             importlib.import_module(name)
         gc.freeze()
         _warmed = True
+    # the worker processes that heavy validations run in: started now, while the user is
+    # still choosing columns, they are ready when a run needs them
+    from engine.tuning.parts import warm_process_pool
+
+    warm_process_pool()

@@ -61,6 +61,7 @@ def run_study(
     notes: list[str] = list(table.warnings) + list(design.warnings)
 
     parts = _validation_parts(design, spec)
+    _start_workers_if_worthwhile(design, spec, parts)
     runner = _MethodRunner(design, spec, parts, notes)
 
     extra = []
@@ -140,6 +141,27 @@ def _monotone(progress: Progress) -> Progress:
 
 def _unique(items: list[str]) -> list[str]:
     return list(dict.fromkeys(items))  # first occurrence of each, in order
+
+
+# penalized methods whose validation parts can run in worker processes, with their mix
+_PROCESS_METHODS = {"lasso": 1.0, "elastic-net": 0.5, "post-lasso": 1.0}
+# estimated seconds of such validation above which the workers are started right away, so
+# they are ready (their start-up overlaps the fit on all rows) when the validation begins
+_START_WORKERS_AT = 4.0
+
+
+def _start_workers_if_worthwhile(design: Design, spec: StudySpec, parts: list) -> None:
+    from engine.tuning.crossval import estimated_seconds
+    from engine.tuning.parts import warm_process_pool, worker_count
+
+    n, p = design.X.shape
+    work = sum(
+        estimated_seconds(n, p, len(parts), spec.n_penalties, mix)
+        for name, mix in _PROCESS_METHODS.items()
+        if name in spec.methods
+    )
+    if work >= _START_WORKERS_AT and worker_count(spec.workers, len(parts)) > 1:
+        warm_process_pool(spec.workers)
 
 
 def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray, np.ndarray]]:

@@ -177,6 +177,8 @@ def pyinstaller_args(out: Path, work: Path) -> list[str]:
         # subcommands and windows are imported by name at run time, so list them explicitly
         "--collect-submodules", "engine",
         "--collect-submodules", "desktop",
+        # validation workers start the bundle with "-m" on these (see tamis_entry.py)
+        "--collect-submodules", "joblib.externals.loky",
         "--add-data", f"{REPO / 'demo' / 'tamis_demo.xlsx'}{sep}demo",
     ]  # fmt: skip
     for module in UNUSED_QT:

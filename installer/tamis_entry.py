@@ -3,6 +3,8 @@
 - no arguments                -> the desktop window (``desktop.app.main([])``)
 - one existing workbook path  -> the desktop window on that workbook (a file dropped on the program)
 - anything else               -> the command line (``engine.cli.main(args)``), e.g. ``tamis fit ...``
+- ``-m joblib.externals.loky...`` / ``-c from joblib.externals.loky...`` -> a validation worker
+  process started by the program itself (Linux and macOS)
 
 ``TAMIS_SMOKE_QUIT_MS=N`` (for build checks): N milliseconds after the event loop starts, report
 on stderr whether a window is showing, then close it as a user would (exit 0); exit 4 if none was shown, 5 if the loop
@@ -74,8 +76,35 @@ def _arm_smoke_quit(milliseconds: int) -> None:
     QTimer.singleShot(milliseconds, check_and_quit)
 
 
+# joblib's process workers (loky) start the program again as if it were a Python interpreter:
+# "-m <module> ..." for a worker, "-c <code>" for its resource tracker. Only these modules
+# are run, so the bundle does not become a general interpreter.
+_WORKER_MODULE_PREFIX = "joblib.externals.loky."
+
+
+def _run_as_worker(args: list[str]) -> bool:
+    """Run a loky worker or resource tracker when started as one; False for ordinary use."""
+    if sys.platform == "win32":
+        return False  # Windows bundles keep validation parts on threads (see engine.tuning.parts)
+    if len(args) >= 2 and args[0] == "-m" and args[1].startswith(_WORKER_MODULE_PREFIX):
+        import runpy
+
+        sys.argv = [args[1], *args[2:]]
+        runpy.run_module(args[1], run_name="__main__", alter_sys=True)
+        return True
+    if len(args) >= 2 and args[0] == "-c" and args[1].startswith(f"from {_WORKER_MODULE_PREFIX}"):
+        sys.argv = ["-c", *args[2:]]
+        exec(compile(args[1], "<tamis worker>", "exec"), {"__name__": "__main__"})
+        return True
+    return False
+
+
 def main(argv: list[str] | None = None) -> int:
     args = list(sys.argv[1:] if argv is None else argv)
+    if _run_as_worker(args):
+        return 0
+    if sys.platform != "win32":
+        sys._tamis_runs_worker_processes = True  # type: ignore[attr-defined]
     if not args or (len(args) == 1 and _is_workbook(args[0])):
         _release_own_console()
         smoke = os.environ.get("TAMIS_SMOKE_QUIT_MS")

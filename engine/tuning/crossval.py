@@ -16,9 +16,10 @@ coordinate descent releases the GIL) with one BLAS thread per worker.
 
 from __future__ import annotations
 
-__all__ = ["cross_validate_path", "fold_errors"]
+__all__ = ["cross_validate_path", "fold_errors", "estimated_seconds"]
 
 from collections.abc import Callable, Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -26,8 +27,10 @@ from engine.fitting.coordinate import (
     CrossProducts,
     _check_penalties,
     _check_xy,
+    _GramProblem,
     _problem_lambda_max,
     _residual_problem,
+    _Scaling,
     build_problem,
     cross_products,
     default_ratio,
@@ -40,7 +43,16 @@ from engine.fitting.ridge import RIDGE_RATIO, RidgeDecomposition
 from engine.fitting.standardize import column_moments
 from engine.progress import Progress
 from engine.tuning.curve import ValidationCurve, choose_index
-from engine.tuning.parts import mean_and_se, run_parts, worker_count
+from engine.tuning.parts import (
+    BoardProgress,
+    SharedArrays,
+    board_folder,
+    mean_and_se,
+    process_pool_worthwhile,
+    run_parts,
+    run_parts_in_processes,
+    worker_count,
+)
 
 # penalties whose held-out predictions are made together (one matrix product)
 _SINK_BLOCK = 20
@@ -99,36 +111,53 @@ def _partition(tests: Sequence[np.ndarray], n: int) -> bool:
     return bool(seen.all())
 
 
-def fold_errors(
-    X: np.ndarray,
-    y: np.ndarray,
-    train: np.ndarray,
-    test: np.ndarray,
-    mix: float,
-    penalties: np.ndarray,
-    penalty_factors: PenaltyFactors = None,
-    shared: _SharedSums | None = None,
-    tol: float = 1e-7,
-    max_sweeps: int = 10000,
-    progress: Progress | None = None,
-) -> tuple[np.ndarray, float, list[str]]:
-    """Held-out mean squared error at each penalty for one part; also its KKT violation and notes."""
+@dataclass
+class _PartJob:
+    """One validation part: its rows and, on the Gram route, its standardized problem."""
+
+    train: np.ndarray
+    test: np.ndarray
+    v: np.ndarray  # normalized penalty factors of this part
+    prob: _GramProblem | None = None  # None: residual route, built from the rows where it runs
+    sc: _Scaling | None = None
+
+
+def _part_job(X, y, train, test, penalty_factors, shared: _SharedSums | None) -> _PartJob:
     p = X.shape[1]
     if callable(penalty_factors):
         v = normalize_penalty_factors(penalty_factors(X[train], y[train]), p)
     else:
         v = normalize_penalty_factors(penalty_factors, p)
-    if shared is not None:
-        prob, sc = shared.problem(X, y, train, test)
+    if shared is None:
+        return _PartJob(train, test, v)
+    prob, sc = shared.problem(X, y, train, test)
+    return _PartJob(train, test, v, prob, sc)
+
+
+def _part_errors(
+    data: SharedArrays,
+    job: _PartJob,
+    mix: float,
+    penalties: np.ndarray,
+    tol: float,
+    max_sweeps: int,
+    progress: Progress | None,
+) -> tuple[np.ndarray, float, list[str]]:
+    """Held-out mean squared errors of one part (runs in a thread or a worker process)."""
+    X, y = data.get("X"), data.get("y")
+    if job.prob is None:
+        prob, sc = _residual_problem(X, y, job.train)
     else:
-        prob, sc = _residual_problem(X, y, train)
-    notes: list[str] = []
+        prob, sc = job.prob, job.sc
+    assert sc is not None
+    p = X.shape[1]
+    v = job.v
     # held-out rows centred and scaled with the TRAINING part's means and sds
-    Zt = (X[test] - sc.means) * sc.inv_sd
-    yt = y[test] - sc.y_mean
+    Zt = (X[job.test] - sc.means) * sc.inv_sd
+    yt = y[job.test] - sc.y_mean
     if mix == 0 and np.all(v == 1.0):
         resid = yt[:, None] - RidgeDecomposition(prob, sc).predict(penalties, Zt, progress)
-        return np.mean(resid**2, axis=0), 0.0, notes
+        return np.mean(resid**2, axis=0), 0.0, []
     L = penalties.shape[0]
     err = np.zeros(L)
     # only held-out errors are kept, not the path: solutions wait in a small block and their
@@ -148,9 +177,44 @@ def fold_errors(
             flush(k)
         block[k - first[0]] = beta
 
-    res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, sink=sink)
+    # a worker process reports its progress through the board; threads only check for cancel
+    steps = isinstance(progress, BoardProgress)
+    res = solve_path(
+        prob, penalties, mix, v, tol, max_sweeps, progress, sink=sink, report_steps=steps
+    )
     flush(L)
     return err, float(np.max(res.kkt, initial=0.0)), res.notes
+
+
+def fold_errors(
+    X: np.ndarray,
+    y: np.ndarray,
+    train: np.ndarray,
+    test: np.ndarray,
+    mix: float,
+    penalties: np.ndarray,
+    penalty_factors: PenaltyFactors = None,
+    shared: _SharedSums | None = None,
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    progress: Progress | None = None,
+) -> tuple[np.ndarray, float, list[str]]:
+    """Held-out mean squared error at each penalty for one part; also its KKT violation and notes."""
+    job = _part_job(X, y, train, test, penalty_factors, shared)
+    return _part_errors(SharedArrays(X=X, y=y), job, mix, penalties, tol, max_sweeps, progress)
+
+
+def estimated_seconds(n: int, p: int, parts: int, penalties: int, mix: float) -> float:
+    """Rough single-core seconds of the parts' penalized paths (fitted to this machine's
+    measurements: 1000x500 lasso about 0.2 s per part, 200x2000 about 0.1 s; elastic net
+    about twice), to decide whether worker processes pay."""
+    gram = n > p
+    per_penalty = 1e-8 * p * p if gram else 3e-9 * n * p
+    return parts * penalties * per_penalty * (1.0 if mix == 1.0 else 2.0)
+
+
+def _indexed_part_errors(k, data, job, mix, lam, tol, max_sweeps, progress):
+    return k, _part_errors(data, job, mix, lam, tol, max_sweeps, progress)
 
 
 def cross_validate_path(
@@ -169,6 +233,7 @@ def cross_validate_path(
     max_sweeps: int = 10000,
     use_gram: bool | None = None,
     diagnostics: dict | None = None,
+    parallel: str = "auto",
 ) -> ValidationCurve:
     """Validation curve of the penalized fit (mix: 1 lasso, 0 ridge) over ``parts``.
 
@@ -178,13 +243,17 @@ def cross_validate_path(
     lasso). n_selected: count of nonzero coefficients of the full-data path at each penalty
     (computed here with one extra full-data path when not given). workers: parallel parts
     (default: number of cores). diagnostics: optional dict filled with "max_kkt_violation"
-    (over parts) and "notes".
+    (over parts) and "notes". parallel: "threads", "processes" (worker processes, for heavy
+    parts; callable penalty factors always use threads) or "auto" (processes when the
+    estimated work repays starting them, see ``engine.tuning.parts``).
     """
     X, y = _check_xy(X, y)
     if choose not in ("min", "one-se"):
         raise ValueError(f"choose must be 'min' or 'one-se', got {choose!r}")
     if not 0.0 <= mix <= 1.0:
         raise ValueError(f"mix must lie in [0, 1], got {mix}")
+    if parallel not in ("auto", "threads", "processes"):
+        raise ValueError(f"parallel must be 'auto', 'threads' or 'processes', got {parallel!r}")
     n, p = X.shape
     parts = [(np.asarray(tr, dtype=np.intp), np.asarray(te, dtype=np.intp)) for tr, te in parts]
     if not parts:
@@ -208,14 +277,6 @@ def cross_validate_path(
     shared = _SharedSums(X, y, [te for _, te in parts]) if gram else None
     workers = worker_count(workers, len(parts))
 
-    child = progress.part(0.0, 1.0) if progress is not None else None
-
-    def run(k: int):
-        tr, te = parts[k]
-        return k, fold_errors(
-            X, y, tr, te, mix, lam, penalty_factors, shared, tol, max_sweeps, child
-        )
-
     errors = np.zeros((len(parts), lam.shape[0]))
     kkt_max = 0.0
     notes: set[str] = set()
@@ -228,10 +289,38 @@ def cross_validate_path(
         kkt_max = max(kkt_max, kkt)
         notes.update(nts)
         done += 1
-        if progress is not None:
+        if progress is not None and parallel == "threads":  # processes report through the board
             progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
 
-    run_parts(len(parts), run, collect, workers)
+    estimate = estimated_seconds(n, p, len(parts), lam.shape[0], mix)
+    if parallel == "auto":
+        parallel = (
+            "processes"
+            if not callable(penalty_factors) and process_pool_worthwhile(estimate, workers)
+            else "threads"
+        )
+    if callable(penalty_factors) or workers < 2:
+        parallel = "threads"
+    if parallel == "processes":
+        with board_folder() as folder:
+            data = SharedArrays(folder, X=X, y=y)
+
+            def tasks():
+                for k, (tr, te) in enumerate(parts):
+                    job = _part_job(X, y, tr, te, penalty_factors, shared)
+                    yield _indexed_part_errors, (k, data, job, mix, lam, tol, max_sweeps)
+
+            run_parts_in_processes(tasks(), len(parts), collect, workers, progress, folder)
+    else:
+        child = progress.part(0.0, 1.0) if progress is not None else None
+        data = SharedArrays(X=X, y=y)
+
+        def run(k: int):
+            tr, te = parts[k]
+            job = _part_job(X, y, tr, te, penalty_factors, shared)
+            return _indexed_part_errors(k, data, job, mix, lam, tol, max_sweeps, child)
+
+        run_parts(len(parts), run, collect, workers)
     mean, se = mean_and_se(errors)
     if n_selected is None:
         from engine.fitting.coordinate import elastic_net_path

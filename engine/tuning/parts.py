@@ -1,25 +1,64 @@
 """Running work over validation parts (or resamples) on the machine's cores, and summarizing it.
 
-Parts run on threads (joblib's threading backend, one BLAS thread each: the work is many small
-compiled calls that would otherwise contend for the cores), so every part sees the same cancel
-token and a cancel stops them all within a second. Results are handed back, in the caller's
-thread, in the order they finish.
+Two runners, one contract (``run(k)`` results handed to ``collect`` in the caller's thread, in the
+order they finish):
+
+- threads (``run_parts``): joblib's threading backend with one BLAS thread each. Every part
+  sees the same cancel token. Cheap to start, but the per-penalty Python bookkeeping between
+  compiled calls holds the interpreter lock, so on the penalized paths two threads measured
+  no faster than one.
+- processes (``run_parts_in_processes``): joblib's process backend (loky), for the penalized
+  cross-validation, whose parts are independent and heavy. The data go to the workers through
+  a folder of ``.npy`` files they map read-only (one copy on disk, none per part), and a small
+  shared "board" file carries each part's progress out and the cancel flag in, so a cancel
+  stops every worker at its next penalty and the progress bar moves within parts. Starting
+  the workers costs a few seconds once per session (they import numpy/scipy/scikit-learn);
+  they then stay for joblib's idle timeout, so ``process_pool_worthwhile`` only picks this
+  runner when the work repays the start-up, and ``warm_process_pool`` starts them early.
 """
 
 from __future__ import annotations
 
-__all__ = ["worker_count", "run_parts", "mean_and_se"]
+__all__ = [
+    "worker_count",
+    "run_parts",
+    "run_parts_in_processes",
+    "process_pool_worthwhile",
+    "warm_process_pool",
+    "SharedArrays",
+    "BoardProgress",
+    "mean_and_se",
+]
 
 import os
-from collections.abc import Callable
-from typing import TypeVar
+import sys
+import tempfile
+import threading
+import time
+from collections.abc import Callable, Iterable
+from typing import Any, TypeVar
 
 import numpy as np
 from joblib import Parallel, delayed
 
+from engine.errors import Cancelled
 from engine.fitting.coordinate import one_blas_thread
+from engine.progress import Progress
 
 T = TypeVar("T")
+
+# seconds between two looks at the board (progress out, cancel in)
+_BOARD_POLL = 0.1
+# estimated seconds of part work above which starting worker processes pays (measured here:
+# starting two workers that import the engine takes about 3 s on this 2-core machine; once
+# they run, handing a part over costs a few milliseconds)
+_COLD_START_WORTH = 8.0
+_WARM_WORTH = 0.3
+# joblib keeps idle workers this long (its default); after that they must start again
+_IDLE_SECONDS = 300.0
+
+_pool_lock = threading.Lock()
+_pool_last_used: float | None = None  # monotonic time the worker processes last finished work
 
 
 def worker_count(workers: int | None, tasks: int) -> int:
@@ -32,7 +71,7 @@ def worker_count(workers: int | None, tasks: int) -> int:
 def run_parts(
     tasks: int, run: Callable[[int], T], collect: Callable[[T], None], workers: int
 ) -> None:
-    """Call ``run(k)`` for k in 0..tasks-1 and pass each result to ``collect`` as it finishes."""
+    """Call ``run(k)`` for k in 0..tasks-1 on threads and pass each result to ``collect``."""
     with one_blas_thread():
         if workers == 1:
             for k in range(tasks):
@@ -41,6 +80,232 @@ def run_parts(
         pool = Parallel(n_jobs=workers, backend="threading", return_as="generator_unordered")
         for item in pool(delayed(run)(k) for k in range(tasks)):
             collect(item)
+
+
+# --------------------------------------------------------------------------------------------
+# Worker processes
+
+
+def processes_supported() -> bool:
+    """Worker processes can start here (not in a frozen bundle whose entry cannot run them)."""
+    if getattr(sys, "frozen", False):
+        return bool(getattr(sys, "_tamis_runs_worker_processes", False))
+    return True
+
+
+def _pool_is_warm() -> bool:
+    with _pool_lock:
+        last = _pool_last_used
+    return last is not None and time.monotonic() - last < _IDLE_SECONDS
+
+
+def process_pool_worthwhile(estimated_seconds: float, workers: int) -> bool:
+    """Whether parts estimated to take ``estimated_seconds`` in all should go to processes.
+
+    The environment variable TAMIS_PARALLEL=processes or =threads overrides the estimate (for
+    checks and benchmarks); one worker, or a bundle that cannot start workers, means threads.
+    """
+    if workers < 2 or not processes_supported():
+        return False
+    forced = os.environ.get("TAMIS_PARALLEL", "").strip().lower()
+    if forced in ("processes", "threads"):
+        return forced == "processes"
+    limit = _WARM_WORTH if _pool_is_warm() else _COLD_START_WORTH
+    return estimated_seconds >= limit
+
+
+def _mark_pool_used() -> None:
+    global _pool_last_used
+    with _pool_lock:
+        _pool_last_used = time.monotonic()
+
+
+def _import_engine() -> int:
+    import engine.tuning.crossval  # noqa: F401  (the heavy imports a part needs)
+
+    return os.getpid()
+
+
+def warm_process_pool(workers: int | None = None, wait: bool = False) -> threading.Thread | None:
+    """Start the worker processes (and their imports) now, in the background unless ``wait``."""
+    n = worker_count(workers, os.cpu_count() or 1)
+    if n < 2 or not processes_supported():
+        return None
+
+    def start() -> None:
+        list(_process_pool(n)(delayed(_import_engine)() for _ in range(n)))
+        _mark_pool_used()
+
+    _mark_pool_used()  # from now on the workers count as available (a run waits for them)
+
+    if wait:
+        start()
+        return None
+    thread = threading.Thread(target=start, name="tamis-warm-workers", daemon=True)
+    thread.start()
+    return thread
+
+
+def _process_pool(workers: int) -> Parallel:
+    # the same settings every time, so joblib reuses the running workers (other settings would
+    # start new ones); arrays go through SharedArrays, not joblib's own memory mapping
+    return Parallel(
+        n_jobs=workers, backend="loky", return_as="generator_unordered", max_nbytes=None
+    )
+
+
+class SharedArrays:
+    """Arrays handed to worker processes as read-only mapped ``.npy`` files (no pickled copies).
+
+    In the parent ``get`` returns the original array; a pickled copy (in a worker) maps the file
+    once per process and keeps it for the following parts.
+    """
+
+    _mapped: dict[str, np.ndarray] = {}  # per process: file path -> mapped array
+
+    def __init__(self, folder: str | None = None, **arrays: np.ndarray):
+        self._arrays: dict[str, np.ndarray] | None = dict(arrays)
+        self._paths: dict[str, str] = {}
+        if folder is not None:
+            for name, a in arrays.items():
+                path = os.path.join(folder, f"{name}.npy")
+                np.save(path, np.ascontiguousarray(a))
+                self._paths[name] = path
+
+    def __getstate__(self) -> dict[str, Any]:
+        if not self._paths:
+            raise TypeError("SharedArrays made without a folder cannot go to another process")
+        return {"_arrays": None, "_paths": self._paths}
+
+    def get(self, name: str) -> np.ndarray:
+        if self._arrays is not None:
+            return self._arrays[name]
+        path = self._paths[name]
+        a = SharedArrays._mapped.get(path)
+        if a is None:
+            a = np.asarray(np.load(path, mmap_mode="r"))
+            SharedArrays._mapped = {path: a, **_recent(SharedArrays._mapped)}
+        return a
+
+
+def _recent(mapped: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    # a worker keeps the maps of the last few runs only (their folders are gone afterwards)
+    return dict(list(mapped.items())[:3])
+
+
+class BoardProgress(Progress):
+    """A worker's Progress: writes its fraction done to its slot of the board file and raises
+    ``Cancelled`` when the parent has set the board's cancel flag."""
+
+    def __init__(self, board_path: str, slot: int):
+        super().__init__()
+        self.board_path = board_path
+        self.slot = slot
+        self._board: np.ndarray | None = None
+
+    def __getstate__(self) -> dict[str, Any]:
+        return {"board_path": self.board_path, "slot": self.slot}
+
+    def __setstate__(self, state: dict[str, Any]) -> None:
+        self.__init__(state["board_path"], state["slot"])  # type: ignore[misc]
+
+    def _view(self) -> np.ndarray:
+        if self._board is None:
+            self._board = np.memmap(self.board_path, dtype=np.float64, mode="r+")
+        return self._board
+
+    def check(self) -> None:
+        if self._view()[-1] != 0.0:
+            raise Cancelled()
+
+    def step(self, fraction: float, words: str = "") -> None:
+        board = self._view()
+        if board[-1] != 0.0:
+            raise Cancelled()
+        board[self.slot] = min(max(fraction, 0.0), 1.0)
+
+    def part(self, lo: float, hi: float, words: str = "") -> Progress:
+        return self  # a worker reports its part as a whole
+
+
+class _Stopped:
+    """What a part stopped by the cancel flag returns."""
+
+
+def _stoppable(fn: Callable[..., T], args: tuple, progress: BoardProgress) -> T | _Stopped:
+    # a cancelled part returns quietly: an exception would make joblib kill the workers, and
+    # the next run would pay their start-up again
+    try:
+        progress.check()
+        return fn(*args, progress)
+    except Cancelled:
+        return _Stopped()
+
+
+def run_parts_in_processes(
+    tasks: Iterable[tuple[Callable[..., T], tuple]],
+    count: int,
+    collect: Callable[[T], None],
+    workers: int,
+    progress: Progress | None,
+    board_folder: str,
+    words: str = "validation",
+) -> None:
+    """Run ``fn(*args, board_progress)`` for each of the ``count`` tasks in worker processes.
+
+    ``tasks`` may be a generator: joblib draws from it only as workers free up, so at most a
+    few parts' inputs exist at once.
+
+    Each result goes to ``collect`` in the calling thread as it finishes. While they run, a
+    watcher thread relays the parts' progress to ``progress`` and the cancel token to the
+    workers (they stop at their next penalty); a cancel then raises ``Cancelled`` here.
+    """
+    board_path = os.path.join(board_folder, "board.f64")
+    board = np.memmap(board_path, dtype=np.float64, mode="w+", shape=(count + 1,))
+    board[:] = 0.0
+    board.flush()
+    finished = threading.Event()
+    done = [0]
+
+    def watch() -> None:
+        while not finished.wait(_BOARD_POLL):
+            if progress is None:
+                continue
+            if progress.cancel.cancelled:
+                board[-1] = 1.0
+                continue
+            fraction = float(np.mean(board[:-1]))
+            if progress.callback is not None:
+                progress.callback(
+                    progress.start + (progress.end - progress.start) * fraction,
+                    f"{progress.prefix}{words}: {done[0]} of {count} parts done",
+                )
+
+    watcher = threading.Thread(target=watch, name="tamis-parts-watch", daemon=True)
+    watcher.start()
+    results = _process_pool(workers)(
+        delayed(_stoppable)(fn, args, BoardProgress(board_path, k))
+        for k, (fn, args) in enumerate(tasks)
+    )
+    try:
+        for item in results:
+            if isinstance(item, _Stopped):
+                continue
+            done[0] += 1
+            collect(item)
+        _mark_pool_used()
+    finally:
+        finished.set()
+        watcher.join()
+        results.close()  # after an error or cancel: stop what still runs
+
+    if progress is not None:
+        progress.check()
+
+
+def board_folder() -> tempfile.TemporaryDirectory:
+    """A private temporary folder for one run's shared files (removed afterwards)."""
+    return tempfile.TemporaryDirectory(prefix="tamis-parts-", ignore_cleanup_errors=True)
 
 
 def mean_and_se(errors: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -104,6 +104,27 @@ def test_bundle_command_line_runs_the_demo(bundle, env, tmp_path):
     assert {"farm_altitude_m", "fermentation_hours", "defects_per_300g"} <= set(lasso["selected"])
 
 
+def test_bundle_runs_validation_parts_in_worker_processes(bundle, env, tmp_path):
+    # the bundle starts joblib's workers by running itself (tamis_entry._run_as_worker); with
+    # parts forced into processes the numbers must equal those of parts kept on threads
+    if sys.platform == "win32":
+        pytest.skip("Windows bundles keep validation parts on threads")
+    fit_args = [
+        "fit", str(DEMO), "--sheet", "Roastery lots", "--response", "cup_score",
+        "--methods", "lasso,elastic-net", "--json",
+    ]  # fmt: skip
+    runs = {}
+    for mode in ("processes", "threads"):
+        out = tmp_path / f"{mode}.xlsx"
+        done = _run(bundle, {**env, "TAMIS_PARALLEL": mode}, *fit_args, "--out", str(out))
+        assert done.returncode == 0, done.stderr[-4000:]
+        runs[mode] = {
+            m["method"]: (m["coefficients"], m["cv_error"], m["penalty"])
+            for m in json.loads(done.stdout)["models"]
+        }
+    assert runs["processes"] == runs["threads"]
+
+
 def test_bundle_window_shows_and_quits(bundle, env):
     done = _run(bundle, {**env, "TAMIS_SMOKE_QUIT_MS": "4000"}, timeout=300)
     assert done.returncode == 0, done.stderr[-4000:]

@@ -1,0 +1,105 @@
+"""Validation parts in worker processes: the same numbers as in-process, progress, cancel."""
+
+import pickle
+import threading
+import time
+
+import numpy as np
+import pytest
+
+from engine.errors import Cancelled
+from engine.fitting.coordinate import elastic_net_path
+from engine.progress import CancelToken, Progress
+from engine.tuning.crossval import cross_validate_path
+from engine.tuning.folds import make_folds
+from engine.tuning.parts import SharedArrays, board_folder, process_pool_worthwhile
+
+
+def _data(n, p, seed=0):
+    """Simulated data with a known sparse truth (stated as such)."""
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p)) * rng.uniform(0.2, 5, p) + rng.normal(size=p) * 4
+    b = np.zeros(p)
+    b[:4] = [2.0, -1.5, 1.0, 0.5]
+    y = X @ b + 2.0 * rng.normal(size=n)
+    return X, y
+
+
+@pytest.mark.parametrize("n,p,mix", [(150, 20, 1.0), (60, 90, 1.0), (150, 20, 0.5), (80, 30, 0.0)])
+def test_processes_give_the_same_errors_to_the_last_digit(n, p, mix):
+    # the same arithmetic runs in a worker as in the caller, so the parts' errors must be
+    # bit-identical (reruns of a study must not depend on where its parts ran)
+    X, y = _data(n, p, seed=1)
+    parts = make_folds(n, "kfold", folds=5, seed=3)
+    lam = elastic_net_path(X, y, mix=max(mix, 0.5)).penalties[::4]
+    kw = dict(n_selected=np.zeros(lam.size))
+    here = cross_validate_path(X, y, parts, mix, lam, workers=1, parallel="threads", **kw)
+    away = cross_validate_path(X, y, parts, mix, lam, workers=2, parallel="processes", **kw)
+    assert np.array_equal(here.part_errors, away.part_errors)
+    assert here.index_min == away.index_min
+
+
+def test_progress_moves_within_parts_and_cancel_stops_the_workers():
+    X, y = _data(400, 300, seed=2)
+    parts = make_folds(400, "kfold", folds=4, seed=0)
+    lam = elastic_net_path(X, y).penalties
+    lam = np.geomspace(lam[0], lam[0] * 1e-4, 400)  # long enough to cancel in the middle
+    token = CancelToken()
+    seen: list[float] = []
+
+    def callback(fraction, words):
+        seen.append(fraction)
+
+    def cancel_soon():
+        while not seen:
+            time.sleep(0.02)
+        token.cancel()
+
+    threading.Thread(target=cancel_soon, daemon=True).start()
+    started = time.monotonic()
+    with pytest.raises(Cancelled):
+        cross_validate_path(
+            X,
+            y,
+            parts,
+            1.0,
+            lam,
+            progress=Progress(callback, token),
+            workers=2,
+            parallel="processes",
+            n_selected=np.zeros(lam.size),
+        )
+    waited = time.monotonic() - started
+    assert seen and 0.0 <= min(seen) and max(seen) < 1.0
+    assert waited < 60  # a generous bound: the point is that it returns, not how fast
+    # the workers are usable again afterwards
+    small_X, small_y = _data(90, 10, seed=3)
+    curve = cross_validate_path(
+        small_X,
+        small_y,
+        make_folds(90, "kfold", folds=3, seed=0),
+        1.0,
+        np.geomspace(1.0, 0.01, 10),
+        workers=2,
+        parallel="processes",
+        n_selected=np.zeros(10),
+    )
+    assert np.all(np.isfinite(curve.mean_error))
+
+
+def test_shared_arrays_travel_as_files_not_copies():
+    X = np.arange(12.0).reshape(4, 3)
+    with board_folder() as folder:
+        shared = SharedArrays(folder, X=X)
+        assert shared.get("X") is X  # the caller keeps its own array
+        copy = pickle.loads(pickle.dumps(shared))
+        mapped = copy.get("X")
+        assert np.array_equal(mapped, X) and not mapped.flags.writeable
+        assert len(pickle.dumps(shared)) < 500  # the path only, not the numbers
+    with pytest.raises(TypeError, match="without a folder"):
+        pickle.dumps(SharedArrays(X=X))
+
+
+def test_small_work_stays_in_process():
+    assert not process_pool_worthwhile(0.01, workers=2)
+    assert not process_pool_worthwhile(100.0, workers=1)

@@ -82,7 +82,7 @@ def make_result(source: Path):
     pen = np.logspace(0, -3, L)
     B = rng.normal(size=(L, p)) * (rng.random((L, p)) < np.linspace(0.01, 1, L)[:, None])
     B[:, :40] = rng.normal(size=(L, 40))  # at least 40 columns nonzero everywhere
-    path = PenaltyPath(pen, B, B.copy(), np.zeros(L), 1.0)
+    path = PenaltyPath(pen, B, np.ones(B.shape[1]), np.zeros(L), 1.0)
     mean = 1 + (np.log(pen) + 3) ** 2
     se = np.full(L, 0.1)
     curve = ValidationCurve(

@@ -40,7 +40,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
 
 from engine.fitting.coordinate import elastic_net_path, kkt_violation  # noqa: E402
 from engine.fitting.ridge import ridge_path  # noqa: E402
-from engine.tuning.crossval import cross_validate_path  # noqa: E402
+from engine.tuning.crossval import cross_validate_path, shared_cross_products  # noqa: E402
 from engine.tuning.folds import make_folds  # noqa: E402
 from engine.tuning.parts import warm_process_pool  # noqa: E402
 
@@ -73,11 +73,13 @@ def timed(fn, *fargs, repeat: int = 1):
 
 
 def tamis_run(X, y, parts, mix, lam, workers, parallel="auto"):
+    """What a study does: cross products once (n > p), the path on all rows, the validation."""
     diag: dict = {}
+    shared = shared_cross_products(X, y, parts)
     if mix == 0:
         path = ridge_path(X, y, penalties=lam)
     else:
-        path = elastic_net_path(X, y, mix=mix, penalties=lam)
+        path = elastic_net_path(X, y, mix=mix, penalties=lam, shared=shared)
     cross_validate_path(
         X,
         y,
@@ -88,6 +90,7 @@ def tamis_run(X, y, parts, mix, lam, workers, parallel="auto"):
         workers=workers,
         diagnostics=diag,
         parallel=parallel,
+        shared=shared,
     )
     return max(path.max_kkt_violation or 0.0, diag.get("max_kkt_violation", 0.0))
 

@@ -47,7 +47,7 @@ from engine.study_result import ModelResult, StudyResult
 def cursor_rows(path: PenaltyPath, names: list[str], i: int) -> list[list[object]]:
     """Coefficient rows at path point ``i``: nonzero columns, largest standardized effect first."""
     std = path.std_coefs[i]
-    orig = path.coefs[i]
+    orig = path.coefs_at(i)
     nz = np.flatnonzero(std != 0)
     nz = nz[np.argsort(-np.abs(std[nz]), kind="stable")]
     return [[names[j], float(orig[j]), float(std[j])] for j in nz]

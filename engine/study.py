@@ -202,6 +202,17 @@ class _MethodRunner:
         self.parts = parts
         self.notes = notes
         self._lasso: ModelResult | None = None
+        self._cross_products = None  # formed once, shared by every penalized path (n > p)
+        self._cross_products_made = False
+
+    def _shared_cross_products(self):
+        """The design's cross products for the path on all rows and every validation part."""
+        from engine.tuning.crossval import shared_cross_products
+
+        if not self._cross_products_made:
+            self._cross_products = shared_cross_products(self.d.X, self.d.y, self.parts)
+            self._cross_products_made = True
+        return self._cross_products
 
     # -- shared pieces -------------------------------------------------------------------
     def _ratio(self) -> float:
@@ -255,7 +266,7 @@ class _MethodRunner:
         d = self.d
         out = np.empty(len(path))
         for i in range(len(path)):  # one column at a time keeps memory at O(n)
-            r = d.y - path.intercepts[i] - d.X @ path.coefs[i]
+            r = d.y - path.intercepts[i] - d.X @ path.coefs_at(i)
             out[i] = float(r @ r)
         return out
 
@@ -314,6 +325,7 @@ class _MethodRunner:
                 ratio=self._ratio(),
                 penalty_factors=penalty_factors,
                 progress=progress.part(0.0, 0.15),
+                shared=self._shared_cross_products(),
             )
         curve = cross_validate_path(
             d.X,
@@ -326,6 +338,7 @@ class _MethodRunner:
             progress=progress.part(0.15, 0.95, "cross-validation"),
             workers=spec.workers,
             n_selected=path.n_selected,
+            shared=self._shared_cross_products(),
         )
         curve.n_selected = path.n_selected.copy()
         idx = curve.chosen(spec.choose)
@@ -342,7 +355,7 @@ class _MethodRunner:
             )
         return self._model(
             method,
-            path.coefs[idx],
+            path.coefs_at(idx),
             path.intercepts[idx],
             penalty=float(path.penalties[idx]),
             mix=mix,

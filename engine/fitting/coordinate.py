@@ -47,6 +47,7 @@ from __future__ import annotations
 
 __all__ = [
     "elastic_net_path",
+    "SharedCrossProducts",
     "penalty_max",
     "penalty_grid",
     "kkt_violation",
@@ -54,6 +55,8 @@ __all__ = [
     "default_ratio",
 ]
 
+import warnings
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -61,6 +64,7 @@ from scipy.linalg.blas import dtrsv as _dtrsv
 from scipy.linalg.lapack import dpotrf as _dpotrf
 from scipy.linalg.lapack import dpotrs as _dpotrs
 from scipy.linalg.lapack import dtrtrs as _dtrtrs
+from sklearn.exceptions import ConvergenceWarning
 from sklearn.linear_model._cd_fast import (
     enet_coordinate_descent,
     enet_coordinate_descent_gram,
@@ -70,6 +74,10 @@ from threadpoolctl import ThreadpoolController
 from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
 from engine.progress import Progress
+
+# the compiled descent warns when it stops at its sweep limit; this module records that as a
+# note on the path (and tries the exact route), so the warning is silenced for its calls only
+warnings.filterwarnings("ignore", category=ConvergenceWarning, module=__name__)
 
 # mix below this is treated like this when sizing the grid (common practice for ridge-like mixes)
 _MIN_MIX_FOR_GRID = 1e-3
@@ -398,6 +406,65 @@ def gram_problem(
     q = cxy * inv
     sc = _Scaling(n, m0 + d, sds, const, ybar0 + e)
     return _GramProblem(Q, q, yy, n), sc
+
+
+class SharedCrossProducts:
+    """Centred cross products of all rows, computed once for the fit on all rows and every
+    validation part (Gram route, rows outnumber columns).
+
+    When the held-out parts partition the rows (k-fold) and their cross products together
+    take no more memory than the data (parts * p <= n), those are formed first and summed
+    to the total: one pass over the rows instead of two.
+    """
+
+    def __init__(self, X: np.ndarray, y: np.ndarray, tests: Sequence[np.ndarray] = ()):
+        self.m0, sds, self.constant = column_moments(X)
+        self.sds = sds
+        self.ref_var = np.where(self.constant, 0.0, sds**2)
+        self.ybar0 = float(y.mean())
+        n, p = X.shape
+        self.held: dict[bytes, CrossProducts] = {}
+        if tests and len(tests) * p <= n and _partition(tests, n):
+            for te in tests:
+                self.held[te.tobytes()] = cross_products(X, y, self.m0, self.ybar0, te)
+            held = list(self.held.values())
+            total = held[0]
+            for cp in held[1:]:
+                total = total.plus(cp)
+            self.total = total
+        else:
+            self.total = cross_products(X, y, self.m0, self.ybar0)
+
+    def full_problem(self) -> tuple[_GramProblem, _Scaling]:
+        """The standardized problem of all rows (what ``build_problem`` makes, without a pass)."""
+        prob, sc = gram_problem(self.total, self.m0, self.ybar0, self.constant)
+        sc.sds = np.where(self.constant, 1.0, self.sds)  # the two-pass sds, as build_problem
+        return prob, sc
+
+    def problem(self, X, y, train: np.ndarray, test: np.ndarray | None = None):
+        n = X.shape[0]
+        outside = None if test is None else self.held.get(test.tobytes())
+        if outside is not None and outside.n + train.shape[0] == n:
+            cp = self.total.minus(outside)
+        elif 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
+            cp = cross_products(X, y, self.m0, self.ybar0, train)
+        else:
+            mask = np.ones(n, bool)
+            mask[train] = False
+            cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
+        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var)
+
+
+def _partition(tests: Sequence[np.ndarray], n: int) -> bool:
+    """True when the index sets are disjoint and together cover 0..n-1."""
+    if sum(te.shape[0] for te in tests) != n:
+        return False
+    seen = np.zeros(n, bool)
+    for te in tests:
+        if te.size and (te.min() < 0 or te.max() >= n):
+            return False
+        seen[te] = True
+    return bool(seen.all())
 
 
 def _residual_problem(X, y, rows, sc: _Scaling | None = None):
@@ -1025,13 +1092,12 @@ def _path_from(
     res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, report_steps=True)
     if progress is not None:
         progress.step(1.0, "path done")
-    coefs = res.std_coefs / sc.sds
-    coefs[:, sc.constant] = 0.0
-    intercepts = sc.y_mean - coefs @ sc.means
+    scale = sc.inv_sd  # 0 for constant columns
+    intercepts = sc.y_mean - res.std_coefs @ (scale * sc.means)
     path = PenaltyPath(
         penalties=penalties,
         std_coefs=res.std_coefs,
-        coefs=coefs,
+        column_scale=scale,
         intercepts=intercepts,
         mix=float(mix),
         n_iter=res.n_iter,
@@ -1063,6 +1129,7 @@ def elastic_net_path(
     max_sweeps: int = 10000,
     progress: Progress | None = None,
     use_gram: bool | None = None,
+    shared: SharedCrossProducts | None = None,
 ) -> PenaltyPath:
     """Lasso (mix = 1) / elastic-net (0 < mix < 1) solutions along a decreasing penalty grid.
 
@@ -1071,7 +1138,8 @@ def elastic_net_path(
     ``penalty_max`` down by ``ratio`` (default 1e-4 when n > p, else 1e-2, common practice).
     penalty_factors: (p,) non-negative weights v_j (0 = unpenalized), rescaled to sum to p.
     tol: duality-gap tolerance of each inner solve, relative to ||yc||^2. use_gram: force the
-    Gram (True) or residual (False) route; default Gram when n > p.
+    Gram (True) or residual (False) route; default Gram when n > p. shared: cross products of
+    X, y already formed for a cross-validation (the Gram problem is then taken from them).
     Returns a PenaltyPath (coefficients in both unit systems, sweeps per penalty,
     ``max_kkt_violation`` as defined in the module docstring). mix = 0 without penalty factors
     is handed to ``ridge_path`` (one SVD gives the whole path).
@@ -1087,7 +1155,10 @@ def elastic_net_path(
             X, y, penalties=lam, n_penalties=n_penalties, ratio=ratio, progress=progress
         )
     v = normalize_penalty_factors(penalty_factors, X.shape[1])
-    prob, sc = build_problem(X, y, use_gram=use_gram)
+    if shared is not None and use_gram is not False:
+        prob, sc = shared.full_problem()
+    else:
+        prob, sc = build_problem(X, y, use_gram=use_gram)
     # the path itself is many small linear-algebra calls: one BLAS thread avoids contention
     with one_blas_thread():
         return _path_from(prob, sc, mix, lam, n_penalties, ratio, v, tol, max_sweeps, progress)

@@ -172,13 +172,13 @@ def ridge_path(
         progress.step(0.5, "ridge path")
     B = dec.std_coefs(lam, progress)
     B[:, sc.constant] = 0.0
-    coefs = B / sc.sds
-    intercepts = sc.y_mean - coefs @ sc.means
+    scale = sc.inv_sd
+    intercepts = sc.y_mean - B @ (scale * sc.means)
     kkt = _ridge_kkt(prob, B, lam) if check_kkt else None
     path = PenaltyPath(
         penalties=lam,
         std_coefs=B,
-        coefs=coefs,
+        column_scale=scale,
         intercepts=intercepts,
         mix=0.0,
         max_kkt_violation=None if kkt is None else float(kkt.max(initial=0.0)),

@@ -16,7 +16,7 @@ coordinate descent releases the GIL) with one BLAS thread per worker.
 
 from __future__ import annotations
 
-__all__ = ["cross_validate_path", "fold_errors", "estimated_seconds"]
+__all__ = ["cross_validate_path", "fold_errors", "estimated_seconds", "shared_cross_products"]
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from engine.fitting.coordinate import (
-    CrossProducts,
+    SharedCrossProducts,
     _check_penalties,
     _check_xy,
     _GramProblem,
@@ -32,15 +32,12 @@ from engine.fitting.coordinate import (
     _residual_problem,
     _Scaling,
     build_problem,
-    cross_products,
     default_ratio,
-    gram_problem,
     normalize_penalty_factors,
     penalty_grid,
     solve_path,
 )
 from engine.fitting.ridge import RIDGE_RATIO, RidgeDecomposition
-from engine.fitting.standardize import column_moments
 from engine.progress import Progress
 from engine.tuning.curve import ValidationCurve, choose_index
 from engine.tuning.parts import (
@@ -60,57 +57,6 @@ _SINK_BLOCK = 20
 PenaltyFactors = np.ndarray | Callable[[np.ndarray, np.ndarray], np.ndarray] | None
 
 
-class _SharedSums:
-    """Centred cross products of all rows, computed once for every part (Gram route).
-
-    When the held-out parts partition the rows (k-fold) and their cross products together
-    take no more memory than the data (parts * p <= n), those are formed first and summed
-    to the total: one pass over the rows instead of two.
-    """
-
-    def __init__(self, X: np.ndarray, y: np.ndarray, tests: Sequence[np.ndarray] = ()):
-        self.m0, sds, self.constant = column_moments(X)
-        self.ref_var = np.where(self.constant, 0.0, sds**2)
-        self.ybar0 = float(y.mean())
-        n, p = X.shape
-        self.held: dict[bytes, CrossProducts] = {}
-        if tests and len(tests) * p <= n and _partition(tests, n):
-            for te in tests:
-                self.held[te.tobytes()] = cross_products(X, y, self.m0, self.ybar0, te)
-            held = list(self.held.values())
-            total = held[0]
-            for cp in held[1:]:
-                total = total.plus(cp)
-            self.total = total
-        else:
-            self.total = cross_products(X, y, self.m0, self.ybar0)
-
-    def problem(self, X, y, train: np.ndarray, test: np.ndarray | None = None):
-        n = X.shape[0]
-        outside = None if test is None else self.held.get(test.tobytes())
-        if outside is not None and outside.n + train.shape[0] == n:
-            cp = self.total.minus(outside)
-        elif 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
-            cp = cross_products(X, y, self.m0, self.ybar0, train)
-        else:
-            mask = np.ones(n, bool)
-            mask[train] = False
-            cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
-        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var)
-
-
-def _partition(tests: Sequence[np.ndarray], n: int) -> bool:
-    """True when the index sets are disjoint and together cover 0..n-1."""
-    if sum(te.shape[0] for te in tests) != n:
-        return False
-    seen = np.zeros(n, bool)
-    for te in tests:
-        if te.size and (te.min() < 0 or te.max() >= n):
-            return False
-        seen[te] = True
-    return bool(seen.all())
-
-
 @dataclass
 class _PartJob:
     """One validation part: its rows and, on the Gram route, its standardized problem."""
@@ -122,7 +68,7 @@ class _PartJob:
     sc: _Scaling | None = None
 
 
-def _part_job(X, y, train, test, penalty_factors, shared: _SharedSums | None) -> _PartJob:
+def _part_job(X, y, train, test, penalty_factors, shared: SharedCrossProducts | None) -> _PartJob:
     p = X.shape[1]
     if callable(penalty_factors):
         v = normalize_penalty_factors(penalty_factors(X[train], y[train]), p)
@@ -194,7 +140,7 @@ def fold_errors(
     mix: float,
     penalties: np.ndarray,
     penalty_factors: PenaltyFactors = None,
-    shared: _SharedSums | None = None,
+    shared: SharedCrossProducts | None = None,
     tol: float = 1e-7,
     max_sweeps: int = 10000,
     progress: Progress | None = None,
@@ -217,6 +163,14 @@ def _indexed_part_errors(k, data, job, mix, lam, tol, max_sweeps, progress):
     return k, _part_errors(data, job, mix, lam, tol, max_sweeps, progress)
 
 
+def shared_cross_products(X, y, parts) -> SharedCrossProducts | None:
+    """Cross products for a path on all rows and its validation parts (None when n <= p)."""
+    X, y = _check_xy(X, y)
+    if X.shape[0] <= X.shape[1]:
+        return None
+    return SharedCrossProducts(X, y, [np.asarray(te, dtype=np.intp) for _, te in parts])
+
+
 def cross_validate_path(
     X: np.ndarray,
     y: np.ndarray,
@@ -234,6 +188,7 @@ def cross_validate_path(
     use_gram: bool | None = None,
     diagnostics: dict | None = None,
     parallel: str = "auto",
+    shared: SharedCrossProducts | None = None,
 ) -> ValidationCurve:
     """Validation curve of the penalized fit (mix: 1 lasso, 0 ridge) over ``parts``.
 
@@ -245,7 +200,9 @@ def cross_validate_path(
     (default: number of cores). diagnostics: optional dict filled with "max_kkt_violation"
     (over parts) and "notes". parallel: "threads", "processes" (worker processes, for heavy
     parts; callable penalty factors always use threads) or "auto" (processes when the
-    estimated work repays starting them, see ``engine.tuning.parts``).
+    estimated work repays starting them, see ``engine.tuning.parts``). shared: the cross
+    products of X, y made for these parts by ``shared_cross_products`` (and used for the fit
+    on all rows too); formed here when not given.
     """
     X, y = _check_xy(X, y)
     if choose not in ("min", "one-se"):
@@ -274,7 +231,10 @@ def cross_validate_path(
             lam = penalty_grid(_problem_lambda_max(prob, mix, v), 100, default_ratio(n, p))
 
     gram = (n > p) if use_gram is None else use_gram
-    shared = _SharedSums(X, y, [te for _, te in parts]) if gram else None
+    if not gram:
+        shared = None
+    elif shared is None:
+        shared = SharedCrossProducts(X, y, [te for _, te in parts])
     workers = worker_count(workers, len(parts))
 
     errors = np.zeros((len(parts), lam.shape[0]))

@@ -239,7 +239,7 @@ def result_for(table, spec, progress=None, slow_steps: int = 0):
     path = PenaltyPath(
         penalties=alphas,
         std_coefs=std,
-        coefs=std / d.sds,
+        column_scale=1.0 / d.sds,
         intercepts=d.y.mean() - (std / d.sds) @ d.means,
         mix=1.0,
     )

@@ -187,7 +187,7 @@ def _penalized(design, method, mix, folds, choose="min"):
     curve = ValidationCurve(
         pen, "penalty", mean, se, (B != 0).sum(axis=1), E, i_min, i_1se, "kfold", len(folds)
     )
-    path = PenaltyPath(pen, B, b, icpt, mix)
+    path = PenaltyPath(pen, B, 1.0 / _std(X)[2], icpt, mix)
     names = design.names
     fitted = icpt[k] + X @ b[k]
     r2 = 1 - ((y - fitted) ** 2).sum() / ((y - y.mean()) ** 2).sum()

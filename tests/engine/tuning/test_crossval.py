@@ -131,7 +131,7 @@ def test_cancel_between_parts():
 def test_held_out_sums_route_agrees_with_one_pass_total():
     # two routes: the k-fold total as the sum of the held-out parts' cross products, and the
     # total formed in one pass over all rows; each part's standardized Gram problem must agree
-    from engine.tuning.crossval import _SharedSums
+    from engine.fitting.coordinate import SharedCrossProducts as _SharedSums
 
     X, y = _data(200, 8, seed=5)
     parts = make_folds(200, "kfold", folds=5, seed=2)

@@ -564,6 +564,11 @@ def _violation(g, beta, lam, mix, v, n):
 # an exact active-set solution is accepted when no condition is off by more than this share
 # of ||Z'yc||_inf (rounding level; anything looser is left to coordinate descent)
 _EXACT_ACCEPT = 1e-10
+# after coordinate descent and polish, a penalty whose optimality conditions are still off
+# by more than this share of ||Z'yc||_inf gets one more descent with the tolerance multiplied
+# by _RETRY_TOL_FACTOR (rare: seen with as many active columns as the rank of the rows)
+_RETRY_VIOLATION = 1e-9
+_RETRY_TOL_FACTOR = 1e-4
 # tries per penalty of the exact solution with columns added as they violate their condition
 _EXACT_TRIES = 6
 
@@ -934,6 +939,51 @@ def solve_path(
     use_homotopy = use_homotopy and _USE_HOMOTOPY
     homotopy = _LassoHomotopy(prob, v, direct._chol) if mix == 1.0 and use_homotopy else None
 
+    def descend(beta, strong, lam, tol_now):
+        """Coordinate descent on the strong set, grown by the columns that violate their
+        condition outside it; returns beta, gradient, sweeps, whether it hit the limit."""
+        strong = strong.copy()
+        sweeps = 0
+        unconverged_any = False
+        while True:
+            W = np.flatnonzero(strong)
+            if gram_route and 2 * W.size > p:  # most columns: solve the whole problem
+                strong[:] = True
+                W = np.arange(p)
+            beta_new = np.zeros(p)
+            if W.size:
+                vw = v[W]
+                scale = None if uniform and v[0] == 1.0 else 1.0 / vw
+                alpha = n * lam * mix
+                l2 = n * lam * (1.0 - mix)
+                l2_diag = None
+                beta_l2 = l2
+                if uniform:
+                    beta_l2 = l2 / v[0]
+                elif l2 > 0:
+                    l2_diag, beta_l2 = l2 / vw, 0.0
+                gamma0 = beta[W] * vw
+                gam, it, unconverged = prob.solve(
+                    W, gamma0, alpha, beta_l2, scale, l2_diag, tol_now, max_sweeps, rng
+                )
+                sweeps += it
+                unconverged_any = unconverged_any or unconverged
+                if unconverged:
+                    notes.append(
+                        f"coordinate descent stopped at {max_sweeps} sweeps before "
+                        f"converging at penalty {lam:.4g}"
+                    )
+                beta_new[W] = gam / vw
+            beta = beta_new
+            g = prob.gradient(beta)
+            if mix == 0:
+                break
+            outside = ~strong & (np.abs(g) > l1w * lam)
+            if not outside.any():
+                break
+            strong |= outside
+        return beta, g, sweeps, unconverged_any
+
     beta = np.zeros(p)
     g = prob.q.copy()
     ever = np.zeros(p, bool)
@@ -961,49 +1011,12 @@ def solve_path(
         if exact is not None:
             beta, g = exact
         else:
-            unconverged_here = False
             if mix > 0:
                 strong = ever | (np.abs(g) >= l1w * (2.0 * lam - prev))
             else:
                 strong = np.ones(p, bool)
-            while True:
-                W = np.flatnonzero(strong)
-                if gram_route and 2 * W.size > p:  # most columns: solve the whole problem
-                    strong[:] = True
-                    W = np.arange(p)
-                if W.size:
-                    vw = v[W]
-                    scale = None if uniform and v[0] == 1.0 else 1.0 / vw
-                    alpha = n * lam * mix
-                    l2 = n * lam * (1.0 - mix)
-                    l2_diag = None
-                    beta_l2 = l2
-                    if uniform:
-                        beta_l2 = l2 / v[0]
-                    elif l2 > 0:
-                        l2_diag, beta_l2 = l2 / vw, 0.0
-                    gamma0 = beta[W] * vw
-                    gam, it, unconverged = prob.solve(
-                        W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng
-                    )
-                    total_it += it
-                    unconverged_here = unconverged_here or unconverged
-                    if unconverged:
-                        notes.append(
-                            f"coordinate descent stopped at {max_sweeps} sweeps before "
-                            f"converging at penalty {lam:.4g}"
-                        )
-                    beta = np.zeros(p)
-                    beta[W] = gam / vw
-                else:
-                    beta = np.zeros(p)
-                g = prob.gradient(beta)
-                if mix == 0:
-                    break
-                outside = ~strong & (np.abs(g) > l1w * lam)
-                if not outside.any():
-                    break
-                strong |= outside
+            beta, g, it, unconverged_here = descend(beta, strong, lam, tol)
+            total_it += it
             # 2. polish: the exact solution on the active set coordinate descent found
             if direct is not None and np.any(beta):
                 polished = direct.polish(beta, g, lam)
@@ -1015,6 +1028,17 @@ def solve_path(
                 if alt is not None:
                     beta, g = alt
                     notes.pop()
+                    unconverged_here = False
+            # 4. still short of the optimality conditions (the polish failed, e.g. with as
+            #    many active columns as the rank of the rows): descend once more, tighter
+            if (
+                mix > 0
+                and not unconverged_here
+                and np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)
+                > _RETRY_VIOLATION * scale_den
+            ):
+                beta, g, it, _ = descend(beta, beta != 0, lam, tol * _RETRY_TOL_FACTOR)
+                total_it += it
         ever |= beta != 0
         if sink is None:
             out[k] = beta

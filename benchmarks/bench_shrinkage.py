@@ -206,8 +206,10 @@ def run_shape(shape, methods, args):
             )
         row["ratio"] = row["tamis_s"] / row["ref_s"]
         if args.memory:
+            # traced in this process: with the parts on threads every array is seen (worker
+            # processes would hide theirs; each holds one part's problem at a time)
             row["peak_mem_x_data"] = peak_memory_ratio(
-                X, y, parts, mix, lam, args.workers, args.parallel
+                X, y, parts, mix, lam, args.workers, "threads"
             )
         rows.append(row)
         print_row(row)

@@ -173,6 +173,10 @@ class _GramProblem:
             return self.q - self.Q @ beta
         return self.q - beta[nz] @ self.Q[nz]
 
+    def gradients(self, B: np.ndarray) -> np.ndarray:
+        """z_j' r_k for every row beta_k of B (L, p): one product for a whole path."""
+        return self.q[None, :] - B @ self.Q
+
     def solve(self, W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng):
         if W.size == self.p and scale is None and l2_diag is None:
             Qw, qw = self.Q, self.q  # the whole problem: no copy of Q
@@ -283,6 +287,15 @@ class _ResidualProblem:
             self.r = self.yc - self._zcols(nz) @ beta[nz]
         self.r_norm2 = float(self.r @ self.r)
         return self._xt(self.r)
+
+    def gradients(self, B: np.ndarray) -> np.ndarray:
+        """z_j' r_k for every row beta_k of B (L, p), by products with X (no standardized copy)."""
+        Bs = B * self.inv_sd  # (L, p) coefficients of the original columns
+        fitted = self.X @ Bs.T  # (all rows, L)
+        if self.rows is not None:
+            fitted = fitted[self.rows]
+        R = self.yc[:, None] - (fitted - Bs @ self.sc.means)
+        return self._xt(R).T
 
     def solve(self, W, gamma0, alpha, beta_l2, scale, l2_diag, tol, max_sweeps, rng):
         Zw = self.columns(W)

@@ -140,10 +140,15 @@ def _ridge_kkt(prob, B: np.ndarray, penalties: np.ndarray) -> np.ndarray:
     """Scale-free gradient size of the ridge objective at each row of B (see coordinate.py)."""
     scale = float(np.max(np.abs(prob.q), initial=0.0)) or 1.0
     out = np.zeros(B.shape[0])
-    for k in range(B.shape[0]):
-        g = prob.gradient(B[k]) - prob.n * penalties[k] * B[k]
-        out[k] = float(np.max(np.abs(g), initial=0.0)) / scale
+    for a in range(0, B.shape[0], _KKT_BLOCK):  # a block of penalties per product
+        b = min(a + _KKT_BLOCK, B.shape[0])
+        g = prob.gradients(B[a:b]) - prob.n * penalties[a:b, None] * B[a:b]
+        out[a:b] = np.max(np.abs(g), axis=1, initial=0.0) / scale
     return out
+
+
+# penalties whose ridge optimality conditions are checked with one product (memory: 25 x p)
+_KKT_BLOCK = 25
 
 
 def ridge_path(

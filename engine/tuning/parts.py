@@ -39,7 +39,7 @@ from collections.abc import Callable, Iterable
 from typing import Any, TypeVar
 
 import numpy as np
-from joblib import Parallel, delayed
+from joblib import Parallel, delayed, parallel_config
 
 from engine.errors import Cancelled
 from engine.fitting.coordinate import one_blas_thread
@@ -54,8 +54,9 @@ _BOARD_POLL = 0.1
 # they run, handing a part over costs a few milliseconds)
 _COLD_START_WORTH = 8.0
 _WARM_WORTH = 0.3
-# joblib keeps idle workers this long (its default); after that they must start again
-_IDLE_SECONDS = 300.0
+# idle workers are kept this long (joblib's default is 5 minutes; a desktop session pauses
+# longer between runs); after that they must start again
+_IDLE_SECONDS = 1800.0
 
 _pool_lock = threading.Lock()
 _pool_last_used: float | None = None  # monotonic time the worker processes last finished work
@@ -149,9 +150,8 @@ def warm_process_pool(workers: int | None = None, wait: bool = False) -> threadi
 def _process_pool(workers: int) -> Parallel:
     # the same settings every time, so joblib reuses the running workers (other settings would
     # start new ones); arrays go through SharedArrays, not joblib's own memory mapping
-    return Parallel(
-        n_jobs=workers, backend="loky", return_as="generator_unordered", max_nbytes=None
-    )
+    with parallel_config(backend="loky", idle_worker_timeout=_IDLE_SECONDS):
+        return Parallel(n_jobs=workers, return_as="generator_unordered", max_nbytes=None)
 
 
 class SharedArrays:

@@ -153,3 +153,66 @@ def test_lasso_recovers_sparse_truth_with_more_columns_than_rows(seed):
     sel = set(np.flatnonzero(path.coefs[0]).tolist())
     assert {0, 1, 2, 3} <= sel
     assert len(sel - {0, 1, 2, 3}) <= 4
+
+
+def test_elastic_net_descent_only_steps_meet_the_optimality_conditions(monkeypatch):
+    # force the route large active sets take (descent to a 1e-10 gap instead of the exact
+    # step): the answer must still satisfy the optimality conditions well below the 1e-8 a
+    # reference solver reaches at tol 1e-8, and agree with the exact route
+    import engine.fitting.coordinate as co
+
+    X, y, _ = _data(300, 40, seed=11)
+    exact = elastic_net_path(X, y, mix=0.5)
+    monkeypatch.setattr(co, "_FACTOR_VS_SWEEP", 0)
+    descent = elastic_net_path(X, y, mix=0.5, penalties=exact.penalties)
+    assert descent.max_kkt_violation < 1e-9
+    assert exact.max_kkt_violation < 1e-13
+    np.testing.assert_allclose(descent.coefs, exact.coefs, atol=1e-6 * np.abs(exact.coefs).max())
+
+
+def test_tighter_retry_keeps_the_answer(monkeypatch):
+    # force the extra, tighter descent after every descent-plus-polish step: it must not move
+    # an answer that already satisfies the optimality conditions
+    import engine.fitting.coordinate as co
+
+    X, y, _ = _data(40, 120, seed=12)
+    plain = elastic_net_path(X, y, mix=1.0, tol=1e-9)
+    monkeypatch.setattr(co, "_RETRY_VIOLATION", -1.0)
+    retried = elastic_net_path(X, y, mix=1.0, tol=1e-9, penalties=plain.penalties)
+    assert retried.max_kkt_violation <= max(plain.max_kkt_violation, 1e-12) * 10
+    np.testing.assert_allclose(retried.coefs, plain.coefs, atol=1e-7 * np.abs(plain.coefs).max())
+
+
+@pytest.mark.parametrize("mix", [1.0, 0.5])
+def test_shared_cross_products_give_the_same_path(mix):
+    # the path on all rows from cross products formed for a validation equals the path from
+    # its own pass over the data (same algebra, rounding only)
+    from engine.tuning.crossval import shared_cross_products
+    from engine.tuning.folds import make_folds
+
+    X, y, _ = _data(200, 15, seed=13)
+    parts = make_folds(200, "kfold", folds=5, seed=0)
+    shared = shared_cross_products(X, y, parts)
+    assert shared is not None and shared.held
+    own = elastic_net_path(X, y, mix=mix)
+    reused = elastic_net_path(X, y, mix=mix, penalties=own.penalties, shared=shared)
+    np.testing.assert_allclose(reused.coefs, own.coefs, rtol=1e-9, atol=1e-12)
+    np.testing.assert_allclose(reused.intercepts, own.intercepts, rtol=1e-12)
+    # with no more rows than columns there is no Gram route, hence nothing to share
+    assert shared_cross_products(X[:12], y[:12], make_folds(12, "kfold", folds=3)) is None
+
+
+@pytest.mark.parametrize("n,p", [(80, 12), (30, 60)])
+def test_batched_gradients_equal_one_at_a_time(n, p):
+    # the ridge optimality check uses one product for a block of penalties; it must equal the
+    # gradient computed for each coefficient vector alone (Gram and residual routes, and the
+    # residual route on a subset of rows as in a validation part)
+    from engine.fitting.coordinate import build_problem
+
+    X, y, _ = _data(n, p, seed=14)
+    B = np.random.default_rng(0).normal(size=(7, p))
+    rows = np.arange(0, n, 2)
+    for prob, _sc in (build_problem(X, y), build_problem(X, y, rows=rows, use_gram=False)):
+        batched = prob.gradients(B)
+        single = np.array([prob.gradient(b) for b in B])
+        np.testing.assert_allclose(batched, single, rtol=1e-10, atol=1e-9 * np.abs(single).max())

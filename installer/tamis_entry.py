@@ -86,6 +86,11 @@ def _run_as_worker(args: list[str]) -> bool:
     """Run a loky worker or resource tracker when started as one; False for ordinary use."""
     if sys.platform == "win32":
         return False  # Windows bundles keep validation parts on threads (see engine.tuning.parts)
+    # interpreter flags come first, one token each ("-B", "-Wignore", "-Xdev")
+    while args and args[0].startswith("-") and args[0] not in ("-m", "-c") and len(args[0]) > 1:
+        if args[0][1] not in "BEIOSWXdsuv":
+            return False
+        args = args[1:]
     if len(args) >= 2 and args[0] == "-m" and args[1].startswith(_WORKER_MODULE_PREFIX):
         import runpy
 

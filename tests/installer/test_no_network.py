@@ -118,10 +118,11 @@ def test_guard_refuses_a_connection(guarded_env):
 
 
 def test_full_demo_run_opens_no_network_connection(guarded_env, tmp_path):
+    # validation parts forced into worker processes, so their start-up and traffic are covered
     out = tmp_path / "demo.xlsx"
     done = subprocess.run(
         [sys.executable, "-m", "engine", "demo", "--out", str(out), "--json"],
-        env=guarded_env,
+        env={**guarded_env, "TAMIS_PARALLEL": "processes"},
         cwd=tmp_path,
         capture_output=True,
         text=True,

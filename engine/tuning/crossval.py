@@ -24,6 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from engine.fitting.coordinate import (
+    CrossProducts,
     SharedCrossProducts,
     _check_penalties,
     _check_xy,
@@ -66,6 +67,16 @@ class _PartJob:
     v: np.ndarray  # normalized penalty factors of this part
     prob: _GramProblem | None = None  # None: residual route, built from the rows where it runs
     sc: _Scaling | None = None
+    # the held-out rows' cross products (centred at the shared reference), when the parts
+    # partition the rows; with many held-out rows per column their errors come from these
+    held: CrossProducts | None = None
+    m0: np.ndarray | None = None  # the shared reference the held-out sums are centred at
+    ybar0: float = 0.0
+
+
+# held-out errors from cross products when held-out rows number at least this many per column
+# (then the p x p products per block of penalties cost less than predicting every row)
+_HELD_ROWS_PER_COLUMN = 4
 
 
 def _part_job(X, y, train, test, penalty_factors, shared: SharedCrossProducts | None) -> _PartJob:
@@ -77,7 +88,36 @@ def _part_job(X, y, train, test, penalty_factors, shared: SharedCrossProducts | 
     if shared is None:
         return _PartJob(train, test, v)
     prob, sc = shared.problem(X, y, train, test)
-    return _PartJob(train, test, v, prob, sc)
+    held = shared.held.get(test.tobytes())
+    if held is not None and held.n < _HELD_ROWS_PER_COLUMN * p:
+        held = None
+    return _PartJob(train, test, v, prob, sc, held, shared.m0, shared.ybar0)
+
+
+class _HeldOutMoments:
+    """Zt'Zt, Zt'yt and yt'yt of the held-out rows standardized with the training part's
+    means and sds, from their cross products about the shared reference (m0, ybar0):
+    with d = training means - m0 and e = training mean of y - ybar0,
+    Zt'Zt = D (G - s d' - d s' + m d d') D, Zt'yt = D (xy - e s - sy d + m e d),
+    yt'yt = yy - 2 e sy + m e^2 (D = 1/sd, m held-out rows). The squared error of beta is then
+    yt'yt - 2 beta'Zt'yt + beta'Zt'Zt beta; the reference sits near every part's means, so
+    the subtraction loses only the digits the fit explains (the curve needs a few)."""
+
+    def __init__(self, held: CrossProducts, m0: np.ndarray, ybar0: float, sc: _Scaling):
+        m = held.n
+        d = sc.means - m0
+        e = sc.y_mean - ybar0
+        inv = sc.inv_sd
+        C = held.G - np.outer(held.s, d) - np.outer(d, held.s) + m * np.outer(d, d)
+        self.M = C * np.outer(inv, inv)
+        self.c = (held.xy - e * held.s - held.sy * d + m * e * d) * inv
+        self.yy = held.yy - 2.0 * e * held.sy + m * e * e
+        self.m = m
+
+    def errors(self, B: np.ndarray) -> np.ndarray:
+        """Mean squared held-out error of each row of B (k, p)."""
+        quad = np.einsum("ij,ij->i", B @ self.M, B)
+        return np.maximum(self.yy - 2.0 * (B @ self.c) + quad, 0.0) / self.m
 
 
 def _part_errors(
@@ -98,9 +138,13 @@ def _part_errors(
     assert sc is not None
     p = X.shape[1]
     v = job.v
-    # held-out rows centred and scaled with the TRAINING part's means and sds
-    Zt = (X[job.test] - sc.means) * sc.inv_sd
-    yt = y[job.test] - sc.y_mean
+    moments = None
+    if job.held is not None and mix > 0 and job.m0 is not None:
+        moments = _HeldOutMoments(job.held, job.m0, job.ybar0, sc)
+    else:
+        # held-out rows centred and scaled with the TRAINING part's means and sds
+        Zt = (X[job.test] - sc.means) * sc.inv_sd
+        yt = y[job.test] - sc.y_mean
     if mix == 0 and np.all(v == 1.0):
         resid = yt[:, None] - RidgeDecomposition(prob, sc).predict(penalties, Zt, progress)
         return np.mean(resid**2, axis=0), 0.0, []
@@ -114,8 +158,11 @@ def _part_errors(
     def flush(upto: int) -> None:
         k0 = first[0]
         if upto > k0:
-            R = yt[:, None] - Zt @ block[: upto - k0].T
-            err[k0:upto] = np.einsum("ij,ij->j", R, R) / R.shape[0]
+            if moments is not None:
+                err[k0:upto] = moments.errors(block[: upto - k0])
+            else:
+                R = yt[:, None] - Zt @ block[: upto - k0].T
+                err[k0:upto] = np.einsum("ij,ij->j", R, R) / R.shape[0]
             first[0] = upto
 
     def sink(k: int, beta: np.ndarray) -> None:

@@ -50,7 +50,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
     window = MainWindow(SettingsStore(default_folder()))
     window.show()
-    from desktop.engine_calls import warm_up_in_background
+    from desktop.engine_calls import stop_background_work, warm_up_in_background
 
     warm_up_in_background()  # imports and freezes while the user looks at the window
     if book:
@@ -58,6 +58,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         window.open_book(book)
     code = int(app.exec())
     window.runner.shutdown()
+    stop_background_work()  # the launchers leave with os._exit, which would orphan workers
     return code
 
 

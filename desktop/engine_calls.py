@@ -101,6 +101,13 @@ def warm_up_in_background() -> None:
     threading.Thread(target=_warm_up_engine, name="tamis-warm-up", daemon=True).start()
 
 
+def stop_background_work() -> None:
+    """End the engine's worker processes before the program leaves."""
+    from engine.tuning.parts import stop_worker_processes
+
+    stop_worker_processes()
+
+
 def _warm_up_engine() -> None:
     """Import the fitting modules once, then move every object alive into the permanent generation.
 

@@ -25,6 +25,7 @@ __all__ = [
     "run_parts_in_processes",
     "process_pool_worthwhile",
     "warm_process_pool",
+    "stop_worker_processes",
     "SharedArrays",
     "BoardProgress",
     "mean_and_se",
@@ -144,13 +145,20 @@ def _import_engine() -> int:
     return os.getpid()
 
 
+_stopping = threading.Event()  # set by stop_worker_processes: start no more workers
+_warming: threading.Thread | None = None
+
+
 def warm_process_pool(workers: int | None = None, wait: bool = False) -> threading.Thread | None:
     """Start the worker processes (and their imports) now, in the background unless ``wait``."""
+    global _warming
     n = worker_count(workers, os.cpu_count() or 1)
-    if n < 2 or not processes_supported():
+    if n < 2 or not processes_supported() or _stopping.is_set():
         return None
 
     def start() -> None:
+        if _stopping.is_set():
+            return
         list(_process_pool(n)(delayed(_import_engine)() for _ in range(n)))
         _mark_pool_used()
 
@@ -161,7 +169,28 @@ def warm_process_pool(workers: int | None = None, wait: bool = False) -> threadi
         return None
     thread = threading.Thread(target=start, name="tamis-warm-workers", daemon=True)
     thread.start()
+    _warming = thread
     return thread
+
+
+def stop_worker_processes(wait_for_start: float = 5.0) -> None:
+    """End the worker processes now (a program leaving without the interpreter's clean-up,
+    like the desktop, must call this: the workers would otherwise outlive it)."""
+    global _pool_last_used
+    _stopping.set()
+    if _warming is not None and _warming.is_alive():
+        _warming.join(wait_for_start)  # let a start under way finish, then stop what it made
+    from joblib.externals.loky import reusable_executor
+
+    executor = getattr(reusable_executor, "_executor", None)
+    if executor is not None:
+        # joblib's executor also removes its temporary folder when it terminates
+        stop = getattr(executor, "terminate", None) or executor.shutdown
+        stop(kill_workers=True)
+    with _pool_lock:
+        _pool_last_used = None
+    if _warming is None or not _warming.is_alive():
+        _stopping.clear()  # nothing left that could start workers behind our back
 
 
 def _process_pool(workers: int) -> Parallel:

@@ -103,3 +103,40 @@ def test_shared_arrays_travel_as_files_not_copies():
 def test_small_work_stays_in_process():
     assert not process_pool_worthwhile(0.01, workers=2)
     assert not process_pool_worthwhile(100.0, workers=1)
+
+
+def test_stop_ends_the_worker_processes():
+    # the desktop leaves with os._exit; it stops the workers first or they would outlive it
+    import os
+
+    from joblib import delayed
+
+    from engine.tuning.parts import _process_pool, stop_worker_processes, warm_process_pool
+
+    warm_process_pool(2, wait=True)
+    pids = set(_process_pool(2)(delayed(os.getpid)() for _ in range(4)))
+    assert pids and os.getpid() not in pids
+    stop_worker_processes()
+    deadline = time.monotonic() + 30
+    alive = set(pids)
+    while alive and time.monotonic() < deadline:
+        for pid in list(alive):
+            try:
+                os.kill(pid, 0)
+                done, _ = os.waitpid(pid, os.WNOHANG) if _is_child(pid) else (0, 0)
+                if done:
+                    alive.discard(pid)
+            except (ProcessLookupError, ChildProcessError):
+                alive.discard(pid)
+        time.sleep(0.1)
+    assert not alive, f"workers still running: {alive}"
+
+
+def _is_child(pid: int) -> bool:
+    import os
+
+    try:
+        with open(f"/proc/{pid}/stat") as fh:
+            return int(fh.read().split(")")[1].split()[1]) == os.getpid()
+    except OSError:
+        return False

@@ -236,13 +236,16 @@ class SharedArrays:
         a = SharedArrays._mapped.get(path)
         if a is None:
             a = np.asarray(np.load(path, mmap_mode="r"))
-            SharedArrays._mapped = {path: a, **_recent(SharedArrays._mapped)}
+            if sys.platform != "win32":
+                # keep the maps of this run only: a map of a removed file still holds its
+                # disk space. (Windows cannot remove a mapped file, so there every part maps
+                # afresh and lets go when it returns.)
+                folder = os.path.dirname(path)
+                kept = {
+                    p: m for p, m in SharedArrays._mapped.items() if os.path.dirname(p) == folder
+                }
+                SharedArrays._mapped = {**kept, path: a}
         return a
-
-
-def _recent(mapped: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
-    # a worker keeps the maps of the last few runs only (their folders are gone afterwards)
-    return dict(list(mapped.items())[:3])
 
 
 class BoardProgress(Progress):

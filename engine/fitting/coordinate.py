@@ -395,16 +395,21 @@ def gram_problem(
     ybar0: float,
     constant: np.ndarray | None = None,
     reference_var: np.ndarray | None = None,
+    overwrite: bool = False,
 ) -> tuple[_GramProblem, _Scaling]:
     """Standardized Gram problem of the rows summarized in ``cp``.
 
     constant: columns known to be constant (exact test); reference_var: full-data variances, to
     spot columns that are constant on these rows only (variance share below 1e-10).
+    overwrite: ``cp.G`` may become the problem's Z'Z (saves two p x p temporaries per part).
     """
     n = cp.n
     d = cp.s / n  # mean of these rows minus m0
     e = cp.sy / n
-    C = cp.G - n * np.outer(d, d)
+    C = cp.G if overwrite else cp.G.copy()
+    shift = np.multiply.outer(d, d)  # symmetric to the last bit (so is every step below)
+    shift *= n
+    C -= shift
     cxy = cp.xy - n * d * e
     yy = cp.yy - n * e * e
     var = np.diag(C).copy() / n
@@ -414,7 +419,8 @@ def gram_problem(
     const |= var <= 0
     sds = np.sqrt(np.where(const, 1.0, var))
     inv = np.where(const, 0.0, 1.0 / sds)
-    Q = C * np.outer(inv, inv)
+    Q = C
+    Q *= np.multiply.outer(inv, inv)
     np.fill_diagonal(Q, np.where(const, 0.0, n))  # exact n on the diagonal of Z'Z
     q = cxy * inv
     sc = _Scaling(n, m0 + d, sds, const, ybar0 + e)
@@ -465,7 +471,8 @@ class SharedCrossProducts:
             mask = np.ones(n, bool)
             mask[train] = False
             cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
-        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var)
+        # cp is this call's own (a difference or a fresh sum): its G becomes the problem's
+        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var, overwrite=True)
 
 
 def _partition(tests: Sequence[np.ndarray], n: int) -> bool:
@@ -501,7 +508,7 @@ def build_problem(X, y, rows=None, use_gram: bool | None = None):
     ysub = y if rows is None else y[rows]
     ybar = float(ysub.mean())
     cp = cross_products(X, y, means, ybar, rows)
-    prob, sc = gram_problem(cp, means, ybar, constant=constant)
+    prob, sc = gram_problem(cp, means, ybar, constant=constant, overwrite=True)
     sc.sds = np.where(constant, 1.0, sds)  # the two-pass sds (identical up to rounding)
     return prob, sc
 

@@ -53,11 +53,14 @@ def pairwise_correlation(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         both = present.T.astype(np.float64) @ mask
         n[:, gaps] = both
         n[gaps, :] = both.T
-    with np.errstate(invalid="ignore", divide="ignore"):
+    # huge values (1e200) overflow the squares: those pairs come out NaN, i.e. never flagged
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         cov = sxy - s * s.T / n
         var_i = ss - s * s / n
         var_j = var_i.T
-        r = cov / np.sqrt(var_i * var_j)
+        r = cov / (
+            np.sqrt(var_i) * np.sqrt(var_j)
+        )  # square roots first: no overflow of the product
     # a variance that is rounding noise next to the sum of squares: constant on those rows
     tiny = (var_i <= 1e-12 * np.maximum(ss, 1e-300)) | (var_j <= 1e-12 * np.maximum(ss.T, 1e-300))
     r[tiny | (n < _MIN_COMMON_ROWS)] = np.nan

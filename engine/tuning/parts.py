@@ -50,6 +50,8 @@ T = TypeVar("T")
 
 # seconds between two looks at the board (progress out, cancel in)
 _BOARD_POLL = 0.1
+# seconds between a worker's checks that the program that started it still runs
+_PARENT_POLL = 2.0
 # estimated seconds of part work above which starting worker processes pays (measured here:
 # starting two workers that import the engine takes about 3 s on this 2-core machine; once
 # they run, handing a part over costs a few milliseconds)
@@ -137,7 +139,24 @@ def _prepare_worker() -> None:
         import engine.tuning.crossval  # noqa: F401
 
         gc.freeze()
+        _leave_with_parent()
         _worker_ready = True
+
+
+def _leave_with_parent() -> None:
+    """End this worker when the program that started it is gone (killed or crashed: a normal
+    exit stops the workers itself); otherwise it would idle until its timeout."""
+    parent = os.getppid()
+    if sys.platform == "win32" or parent <= 1:
+        return  # Windows keeps the parent's id after it ends; nothing to watch there
+
+    def watch() -> None:
+        while True:
+            time.sleep(_PARENT_POLL)
+            if os.getppid() != parent:  # adopted by another process: the parent has ended
+                os._exit(0)
+
+    threading.Thread(target=watch, name="tamis-parent-watch", daemon=True).start()
 
 
 def _import_engine() -> int:

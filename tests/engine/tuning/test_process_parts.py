@@ -140,3 +140,34 @@ def _is_child(pid: int) -> bool:
             return int(fh.read().split(")")[1].split()[1]) == os.getpid()
     except OSError:
         return False
+
+
+@pytest.mark.skipif(not hasattr(__import__("signal"), "SIGKILL"), reason="POSIX signals")
+def test_workers_leave_when_their_program_is_killed():
+    # a crash (here: SIGKILL, no clean-up at all) must not leave the workers idling for their
+    # 30-minute timeout: each watches its parent and ends with it
+    import os
+    import subprocess
+    import sys
+
+    code = (
+        "import os\n"
+        "from joblib import delayed\n"
+        "from engine.tuning.parts import warm_process_pool, _process_pool\n"
+        "warm_process_pool(2, wait=True)\n"
+        "print(' '.join(map(str, sorted(set(_process_pool(2)(delayed(os.getpid)() for _ in range(6)))))), flush=True)\n"
+        "os.kill(os.getpid(), 9)\n"
+    )
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    pids = [int(v) for v in done.stdout.split()]
+    assert pids, done.stderr[-2000:]
+    deadline = time.monotonic() + 20
+    alive = set(pids)
+    while alive and time.monotonic() < deadline:
+        for pid in list(alive):
+            try:
+                os.kill(pid, 0)
+            except ProcessLookupError:
+                alive.discard(pid)
+        time.sleep(0.2)
+    assert not alive, f"workers outlived their killed program: {alive}"

@@ -57,6 +57,10 @@ class Progress:
     def step(self, fraction: float, words: str = "") -> None:
         """Report `fraction` (0..1 of this range) done; raise Cancelled if the user asked."""
         self.cancel.raise_if_cancelled()
+        self.report(fraction, words)
+
+    def report(self, fraction: float, words: str = "") -> None:
+        """Only report (for a watcher thread that must not raise on the user's cancel)."""
         if self.callback is not None:
             f = min(max(fraction, 0.0), 1.0)
             text = f"{self.prefix}{words}" if words else self.prefix.rstrip(": ")

@@ -9,6 +9,8 @@ separate step, ``engine.report.write_results``).
 
 from __future__ import annotations
 
+import functools
+
 __all__ = ["run_study", "load_table"]
 
 import datetime as _dt
@@ -143,10 +145,8 @@ def _unique(items: list[str]) -> list[str]:
     return list(dict.fromkeys(items))  # first occurrence of each, in order
 
 
-# penalized methods whose validation parts can run in worker processes, with their mix
-_PROCESS_METHODS = {"lasso": 1.0, "elastic-net": 0.5, "post-lasso": 1.0}
-# estimated seconds of such validation above which the workers are started right away, so
-# they are ready (their start-up overlaps the fit on all rows) when the validation begins
+# estimated seconds of penalized validation above which the worker processes are started
+# right away, so they are ready (their start-up overlaps the fit on all rows) when it begins
 _START_WORKERS_AT = 4.0
 
 
@@ -154,12 +154,13 @@ def _start_workers_if_worthwhile(design: Design, spec: StudySpec, parts: list) -
     from engine.tuning.crossval import estimated_seconds
     from engine.tuning.parts import warm_process_pool, worker_count
 
+    mixes = set()
+    if {"lasso", "post-lasso"} & set(spec.methods):  # post-lasso selects with the lasso
+        mixes.add(1.0)
+    if "elastic-net" in spec.methods:
+        mixes.add(spec.mix)
     n, p = design.X.shape
-    work = sum(
-        estimated_seconds(n, p, len(parts), spec.n_penalties, mix)
-        for name, mix in _PROCESS_METHODS.items()
-        if name in spec.methods
-    )
+    work = sum(estimated_seconds(n, p, len(parts), spec.n_penalties, mix) for mix in mixes)
     if work >= _START_WORKERS_AT and worker_count(spec.workers, len(parts)) > 1:
         warm_process_pool(spec.workers)
 
@@ -202,17 +203,14 @@ class _MethodRunner:
         self.parts = parts
         self.notes = notes
         self._lasso: ModelResult | None = None
-        self._cross_products = None  # formed once, shared by every penalized path (n > p)
-        self._cross_products_made = False
 
-    def _shared_cross_products(self):
-        """The design's cross products for the path on all rows and every validation part."""
+    @functools.cached_property
+    def _cross_products(self):
+        """The design's cross products, formed once for the path on all rows and every
+        validation part of every penalized method (None when rows do not outnumber columns)."""
         from engine.tuning.crossval import shared_cross_products
 
-        if not self._cross_products_made:
-            self._cross_products = shared_cross_products(self.d.X, self.d.y, self.parts)
-            self._cross_products_made = True
-        return self._cross_products
+        return shared_cross_products(self.d.X, self.d.y, self.parts)
 
     # -- shared pieces -------------------------------------------------------------------
     def _ratio(self) -> float:
@@ -325,7 +323,7 @@ class _MethodRunner:
                 ratio=self._ratio(),
                 penalty_factors=penalty_factors,
                 progress=progress.part(0.0, 0.15),
-                shared=self._shared_cross_products(),
+                shared=self._cross_products,
             )
         curve = cross_validate_path(
             d.X,
@@ -338,7 +336,7 @@ class _MethodRunner:
             progress=progress.part(0.15, 0.95, "cross-validation"),
             workers=spec.workers,
             n_selected=path.n_selected,
-            shared=self._shared_cross_products(),
+            shared=self._cross_products,
         )
         curve.n_selected = path.n_selected.copy()
         idx = curve.chosen(spec.choose)

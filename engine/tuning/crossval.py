@@ -206,6 +206,22 @@ def estimated_seconds(n: int, p: int, parts: int, penalties: int, mix: float) ->
     return parts * penalties * per_penalty * (1.0 if mix == 1.0 else 2.0)
 
 
+def _placement(
+    parallel: str, workers: int, mix: float, factors_per_part: bool, estimate: float
+) -> tuple[str, int]:
+    """Where the parts run, "processes" or "threads", and how many at once."""
+    if factors_per_part or workers < 2:
+        parallel = "threads"  # a per-part callable may hold anything: it stays in this process
+    elif parallel == "auto":
+        parallel = "processes" if process_pool_worthwhile(estimate, workers) else "threads"
+    if parallel == "threads" and mix > 0 and not factors_per_part:
+        # the penalized paths' per-penalty Python work holds the interpreter lock: a second
+        # thread only adds contention (measured here 15-35% slower than one on 100x200 to
+        # 1000x500), so these parts run one after another unless they go to processes
+        workers = 1
+    return parallel, workers
+
+
 def _indexed_part_errors(k, data, job, mix, lam, tol, max_sweeps, progress):
     return k, _part_errors(data, job, mix, lam, tol, max_sweeps, progress)
 
@@ -300,19 +316,7 @@ def cross_validate_path(
             progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
 
     estimate = estimated_seconds(n, p, len(parts), lam.shape[0], mix)
-    if parallel == "auto":
-        parallel = (
-            "processes"
-            if not callable(penalty_factors) and process_pool_worthwhile(estimate, workers)
-            else "threads"
-        )
-    if callable(penalty_factors) or workers < 2:
-        parallel = "threads"
-    if parallel == "threads" and mix > 0 and not callable(penalty_factors):
-        # the penalized paths' per-penalty Python work holds the interpreter lock: a second
-        # thread only adds contention (measured here 15-35% slower than one on 100x200 to
-        # 1000x500), so these parts run one after another unless they go to processes
-        workers = 1
+    parallel, workers = _placement(parallel, workers, mix, callable(penalty_factors), estimate)
     if parallel == "processes":
         with board_folder() as folder:
             data = SharedArrays(folder, X=X, y=y)

@@ -292,11 +292,8 @@ class BoardProgress(Progress):
         if self._view()[-1] != 0.0:
             raise Cancelled()
 
-    def step(self, fraction: float, words: str = "") -> None:
-        board = self._view()
-        if board[-1] != 0.0:
-            raise Cancelled()
-        board[self.slot] = min(max(fraction, 0.0), 1.0)
+    def report(self, fraction: float, words: str = "") -> None:
+        self._view()[self.slot] = min(max(fraction, 0.0), 1.0)
 
     def part(self, lo: float, hi: float, words: str = "") -> Progress:
         return self  # a worker reports its part as a whole
@@ -349,12 +346,7 @@ def run_parts_in_processes(
             if progress.cancel.cancelled:
                 board[-1] = 1.0
                 continue
-            fraction = float(np.mean(board[:-1]))
-            if progress.callback is not None:
-                progress.callback(
-                    progress.start + (progress.end - progress.start) * fraction,
-                    f"{progress.prefix}{words}: {done[0]} of {count} parts done",
-                )
+            progress.report(float(np.mean(board[:-1])), f"{words}: {done[0]} of {count} parts done")
 
     watcher = threading.Thread(target=watch, name="tamis-parts-watch", daemon=True)
     watcher.start()

@@ -3,6 +3,7 @@
 import numpy as np
 import pytest
 from sklearn.linear_model import ElasticNet, Ridge
+from sparse_truth import sparse_truth_data
 
 from engine.errors import Cancelled
 from engine.fitting.coordinate import elastic_net_path
@@ -10,16 +11,6 @@ from engine.fitting.ridge import ridge_path
 from engine.progress import CancelToken, Progress
 from engine.tuning.crossval import cross_validate_path
 from engine.tuning.folds import make_folds
-
-
-def _data(n, p, seed=0):
-    """Simulated data with a known sparse truth (stated as such)."""
-    rng = np.random.default_rng(seed)
-    X = rng.normal(size=(n, p)) * rng.uniform(0.2, 5, p) + rng.normal(size=p) * 4
-    b = np.zeros(p)
-    b[:4] = [2.0, -1.5, 1.0, 0.5]
-    y = X @ b + 2.0 * rng.normal(size=n)
-    return X, y
 
 
 def _manual_errors(X, y, parts, lam, mix, leaky=False):
@@ -54,7 +45,7 @@ def _manual_errors(X, y, parts, lam, mix, leaky=False):
 def test_matches_manual_fold_loop_and_differs_from_leaky_version(n, p, mix):
     # common practice: scaling is learned on the training part only; a leaky loop that
     # standardizes with all rows must give different errors (this test would catch leakage)
-    X, y = _data(n, p)
+    X, y = sparse_truth_data(n, p)
     parts = make_folds(n, "kfold", folds=5, seed=4)
     full = ridge_path(X, y) if mix == 0 else elastic_net_path(X, y, mix=mix)
     lam = full.penalties[::9]
@@ -71,7 +62,7 @@ def test_matches_manual_fold_loop_and_differs_from_leaky_version(n, p, mix):
 
 
 def test_gram_and_residual_routes_and_worker_counts_agree():
-    X, y = _data(120, 30, seed=2)
+    X, y = sparse_truth_data(120, 30, seed=2)
     parts = make_folds(120, "kfold", folds=6, seed=1)
     lam = elastic_net_path(X, y).penalties
     kw = dict(n_selected=np.zeros(100), tol=1e-10)
@@ -82,7 +73,7 @@ def test_gram_and_residual_routes_and_worker_counts_agree():
 
 def test_time_parts_with_training_rows_not_the_complement():
     # "time" parts train on the past only, so training is not "all rows but the test rows"
-    X, y = _data(100, 8, seed=3)
+    X, y = sparse_truth_data(100, 8, seed=3)
     parts = make_folds(100, "time", folds=5)
     lam = elastic_net_path(X, y).penalties[::10]
     curve = cross_validate_path(X, y, parts, 1.0, lam, n_selected=np.zeros(10), tol=1e-12)
@@ -91,7 +82,7 @@ def test_time_parts_with_training_rows_not_the_complement():
 
 
 def test_callable_penalty_factors_are_recomputed_per_part():
-    X, y = _data(80, 10, seed=5)
+    X, y = sparse_truth_data(80, 10, seed=5)
     parts = make_folds(80, "kfold", folds=4, seed=0)
     seen = []
 
@@ -106,7 +97,7 @@ def test_callable_penalty_factors_are_recomputed_per_part():
 
 
 def test_cancel_between_parts():
-    X, y = _data(80, 10)
+    X, y = sparse_truth_data(80, 10)
     token = CancelToken()
     calls = []
 
@@ -133,7 +124,7 @@ def test_held_out_sums_route_agrees_with_one_pass_total():
     # total formed in one pass over all rows; each part's standardized Gram problem must agree
     from engine.fitting.coordinate import SharedCrossProducts as _SharedSums
 
-    X, y = _data(200, 8, seed=5)
+    X, y = sparse_truth_data(200, 8, seed=5)
     parts = make_folds(200, "kfold", folds=5, seed=2)
     summed = _SharedSums(X, y, [te for _, te in parts])
     direct = _SharedSums(X, y)

@@ -6,6 +6,7 @@ import time
 
 import numpy as np
 import pytest
+from sparse_truth import sparse_truth_data
 
 from engine.errors import Cancelled
 from engine.fitting.coordinate import elastic_net_path
@@ -15,21 +16,11 @@ from engine.tuning.folds import make_folds
 from engine.tuning.parts import SharedArrays, board_folder, process_pool_worthwhile
 
 
-def _data(n, p, seed=0):
-    """Simulated data with a known sparse truth (stated as such)."""
-    rng = np.random.default_rng(seed)
-    X = rng.normal(size=(n, p)) * rng.uniform(0.2, 5, p) + rng.normal(size=p) * 4
-    b = np.zeros(p)
-    b[:4] = [2.0, -1.5, 1.0, 0.5]
-    y = X @ b + 2.0 * rng.normal(size=n)
-    return X, y
-
-
 @pytest.mark.parametrize("n,p,mix", [(150, 20, 1.0), (60, 90, 1.0), (150, 20, 0.5), (80, 30, 0.0)])
 def test_processes_give_the_same_errors_to_the_last_digit(n, p, mix):
     # the same arithmetic runs in a worker as in the caller, so the parts' errors must be
     # bit-identical (reruns of a study must not depend on where its parts ran)
-    X, y = _data(n, p, seed=1)
+    X, y = sparse_truth_data(n, p, seed=1)
     parts = make_folds(n, "kfold", folds=5, seed=3)
     lam = elastic_net_path(X, y, mix=max(mix, 0.5)).penalties[::4]
     kw = dict(n_selected=np.zeros(lam.size))
@@ -40,7 +31,7 @@ def test_processes_give_the_same_errors_to_the_last_digit(n, p, mix):
 
 
 def test_progress_moves_within_parts_and_cancel_stops_the_workers():
-    X, y = _data(400, 300, seed=2)
+    X, y = sparse_truth_data(400, 300, seed=2)
     parts = make_folds(400, "kfold", folds=4, seed=0)
     lam = elastic_net_path(X, y).penalties
     lam = np.geomspace(lam[0], lam[0] * 1e-4, 400)  # long enough to cancel in the middle
@@ -73,7 +64,7 @@ def test_progress_moves_within_parts_and_cancel_stops_the_workers():
     assert seen and 0.0 <= min(seen) and max(seen) < 1.0
     assert waited < 60  # a generous bound: the point is that it returns, not how fast
     # the workers are usable again afterwards
-    small_X, small_y = _data(90, 10, seed=3)
+    small_X, small_y = sparse_truth_data(90, 10, seed=3)
     curve = cross_validate_path(
         small_X,
         small_y,
@@ -117,36 +108,37 @@ def test_stop_ends_the_worker_processes():
     pids = set(_process_pool(2)(delayed(os.getpid)() for _ in range(4)))
     assert pids and os.getpid() not in pids
     stop_worker_processes()
-    deadline = time.monotonic() + 30
-    alive = set(pids)
-    while alive and time.monotonic() < deadline:
-        for pid in list(alive):
-            try:
-                os.kill(pid, 0)
-                done, _ = os.waitpid(pid, os.WNOHANG) if _is_child(pid) else (0, 0)
-                if done:
-                    alive.discard(pid)
-            except (ProcessLookupError, ChildProcessError):
-                alive.discard(pid)
-        time.sleep(0.1)
+    alive = _still_running(pids, within=30)
     assert not alive, f"workers still running: {alive}"
 
 
-def _is_child(pid: int) -> bool:
+def _still_running(pids, within: float) -> set[int]:
+    """The processes of ``pids`` still running after up to ``within`` seconds (an ended child
+    of this process is reaped, so it does not linger as a zombie)."""
     import os
 
-    try:
-        with open(f"/proc/{pid}/stat") as fh:
-            return int(fh.read().split(")")[1].split()[1]) == os.getpid()
-    except OSError:
-        return False
+    alive = set(pids)
+    deadline = time.monotonic() + within
+    while alive and time.monotonic() < deadline:
+        for pid in list(alive):
+            try:
+                if os.waitpid(pid, os.WNOHANG)[0] == pid:
+                    alive.discard(pid)
+                    continue
+            except ChildProcessError:  # not a child of this process
+                pass
+            try:
+                os.kill(pid, 0)
+            except ProcessLookupError:
+                alive.discard(pid)
+        time.sleep(0.1)
+    return alive
 
 
 @pytest.mark.skipif(not hasattr(__import__("signal"), "SIGKILL"), reason="POSIX signals")
 def test_workers_leave_when_their_program_is_killed():
     # a crash (here: SIGKILL, no clean-up at all) must not leave the workers idling for their
     # 30-minute timeout: each watches its parent and ends with it
-    import os
     import subprocess
     import sys
 
@@ -161,13 +153,5 @@ def test_workers_leave_when_their_program_is_killed():
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
     pids = [int(v) for v in done.stdout.split()]
     assert pids, done.stderr[-2000:]
-    deadline = time.monotonic() + 20
-    alive = set(pids)
-    while alive and time.monotonic() < deadline:
-        for pid in list(alive):
-            try:
-                os.kill(pid, 0)
-            except ProcessLookupError:
-                alive.discard(pid)
-        time.sleep(0.2)
+    alive = _still_running(pids, within=20)
     assert not alive, f"workers outlived their killed program: {alive}"

@@ -71,6 +71,7 @@ from sklearn.linear_model._cd_fast import (
 )
 from threadpoolctl import ThreadpoolController
 
+from engine.fitting import gram_kernel
 from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
 from engine.progress import Progress
@@ -86,6 +87,11 @@ _MIN_MIX_FOR_GRID = 1e-3
 _CONSTANT_VARIANCE_SHARE = 1e-10
 # the residual route keeps at least this many gathered standardized columns (or p/4)
 _CACHE_MIN_COLUMNS = 256
+
+
+def compiled_route(n: int, p: int, mix: float) -> bool:
+    """Whether a path on n rows and p columns runs compiled (gram_kernel): Gram route, mix > 0."""
+    return n > p and mix > 0 and gram_kernel.AVAILABLE
 
 
 def default_ratio(n: int, p: int) -> float:
@@ -955,11 +961,19 @@ def solve_path(
 
     n = prob.n
     L = penalties.shape[0]
+    scale_den = kkt_scale if kkt_scale is not None else _g_scale(prob)
+    if isinstance(prob, _GramProblem) and mix > 0 and gram_kernel.AVAILABLE:
+        compiled = _compiled_path(
+            prob, penalties, mix, v, tol, max_sweeps, progress, scale_den, sink, report_steps
+        )
+        if compiled is not None:
+            return compiled
+        # a penalty the compiled loop could not settle: the interpreted route (with its
+        # path-following fallback) does the whole path again
     out = np.zeros((L, p)) if sink is None else None
     iters = np.zeros(L, dtype=int)
     kkt = np.zeros(L)
     notes: list[str] = []
-    scale_den = kkt_scale if kkt_scale is not None else _g_scale(prob)
     accept_abs = _EXACT_ACCEPT * scale_den
     rng = np.random.RandomState(0)  # only seeds the unused random-order option
     direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
@@ -1089,6 +1103,49 @@ def solve_path(
         kkt[k] = float(np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)) / scale_den
         prev = lam
     return _PathOut(out, iters, kkt, notes)
+
+
+_LAST_COUNTERS = None  # counters of the last compiled path (for benchmarks and checks)
+
+
+def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den, sink, steps):
+    """``solve_path`` on a Gram problem by the compiled loop (gram_kernel); None if it gave up."""
+    p, n, L = prob.p, prob.n, penalties.shape[0]
+    q = np.ascontiguousarray(prob.q, dtype=float)
+    Q = np.ascontiguousarray(prob.Q)
+    v = np.ascontiguousarray(v, dtype=float)
+    lams = np.ascontiguousarray(penalties, dtype=float)
+    B = np.zeros((L, p))
+    iters = np.zeros(L, dtype=np.int64)
+    kkt = np.zeros(L)
+    beta, g, ever = np.zeros(p), q.copy(), np.zeros(p, bool)
+    order, pos = np.zeros(p, dtype=np.int64), np.full(p, -1, dtype=np.int64)
+    R, sgn, sizes = np.zeros((p, p)), np.zeros(p), np.zeros(6, dtype=np.int64)
+    # [shift of the factor, previous penalty]
+    shifts = np.array([0.0, max(_lambda_max_of(q, n, mix, v), float(lams[0]) if L else 0.0)])
+    # progress and cancel are looked at between chunks of about a twentieth of the path
+    chunk = L if progress is None else max(1, -(-L // 20))
+    for k0 in range(0, L, chunk):
+        k1 = min(L, k0 + chunk)
+        if progress is not None:
+            if steps:
+                progress.step(k0 / L, f"penalty {k0 + 1} of {L}")
+            else:
+                progress.check()
+        status, _ = gram_kernel.gram_path_chunk(
+            Q, q, float(n), lams, k0, k1, float(mix), v, _EXACT_ACCEPT * scale_den,
+            tol * scale_den, _RETRY_VIOLATION * scale_den, _RETRY_TOL_FACTOR, int(max_sweeps),
+            beta, g, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt,
+        )  # fmt: skip
+        if status != gram_kernel.OK:
+            return None
+    global _LAST_COUNTERS
+    _LAST_COUNTERS = sizes.copy()
+    if sink is not None:
+        for k in range(L):
+            sink(k, B[k])
+        B = None
+    return _PathOut(B, iters.astype(int), kkt / scale_den, [])
 
 
 def _checked(res, lam, mix, v, n, accept_abs):

@@ -33,6 +33,7 @@ from engine.fitting.coordinate import (
     _residual_problem,
     _Scaling,
     build_problem,
+    compiled_route,
     default_ratio,
     normalize_penalty_factors,
     penalty_grid,
@@ -198,24 +199,32 @@ def fold_errors(
 
 
 def estimated_seconds(n: int, p: int, parts: int, penalties: int, mix: float) -> float:
-    """Rough single-core seconds of the parts' penalized paths (fitted to this machine's
-    measurements: 1000x500 lasso about 0.2 s per part, 200x2000 about 0.1 s; elastic net
-    about twice), to decide whether worker processes pay."""
+    """Rough single-core seconds of the parts' penalized paths, to decide whether worker
+    processes pay. Fitted to this machine's measurements: compiled Gram route (rows outnumber
+    columns) 1000x500 lasso about 0.03 s per part, elastic net about 0.1 s; interpreted
+    routes 1000x500 lasso about 0.2 s per part, 200x2000 about 0.1 s, elastic net about twice.
+    """
+    if compiled_route(n, p, mix):
+        per_penalty = (1e-9 if mix == 1.0 else 4e-9) * p * p
+        return parts * penalties * per_penalty
     gram = n > p
     per_penalty = 1e-8 * p * p if gram else 3e-9 * n * p
     return parts * penalties * per_penalty * (1.0 if mix == 1.0 else 2.0)
 
 
 def _placement(
-    parallel: str, workers: int, mix: float, factors_per_part: bool, estimate: float
+    parallel: str, workers: int, mix: float, factors_per_part: bool, estimate: float, compiled: bool
 ) -> tuple[str, int]:
     """Where the parts run, "processes" or "threads", and how many at once."""
     if factors_per_part or workers < 2:
         parallel = "threads"  # a per-part callable may hold anything: it stays in this process
     elif parallel == "auto":
-        parallel = "processes" if process_pool_worthwhile(estimate, workers) else "threads"
-    if parallel == "threads" and mix > 0 and not factors_per_part:
-        # the penalized paths' per-penalty Python work holds the interpreter lock: a second
+        if compiled:
+            parallel = "threads"  # the compiled path releases the interpreter lock
+        else:
+            parallel = "processes" if process_pool_worthwhile(estimate, workers) else "threads"
+    if parallel == "threads" and mix > 0 and not factors_per_part and not compiled:
+        # the interpreted paths' per-penalty Python work holds the interpreter lock: a second
         # thread only adds contention (measured here 15-35% slower than one on 100x200 to
         # 1000x500), so these parts run one after another unless they go to processes
         workers = 1
@@ -316,7 +325,10 @@ def cross_validate_path(
             progress.step(done / len(parts), f"validation part {done} of {len(parts)}")
 
     estimate = estimated_seconds(n, p, len(parts), lam.shape[0], mix)
-    parallel, workers = _placement(parallel, workers, mix, callable(penalty_factors), estimate)
+    compiled = gram and compiled_route(n, p, mix)
+    parallel, workers = _placement(
+        parallel, workers, mix, callable(penalty_factors), estimate, compiled
+    )
     if parallel == "processes":
         with board_folder() as folder:
             data = SharedArrays(folder, X=X, y=y)

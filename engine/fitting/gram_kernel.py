@@ -1,0 +1,610 @@
+"""Compiled lasso / elastic-net path on a standardized Gram matrix (rows outnumber columns).
+
+The same method as ``coordinate.solve_path`` on its Gram route, with the whole per-penalty
+loop compiled (numba), so that a penalty costs its arithmetic and not the 30-50 small library
+calls of the interpreted loop. Per penalty lambda, with l1 = n*lambda*mix*v_j and
+l2 = n*lambda*(1-mix)*v_j:
+
+1. Exact step: on the previous active set A with signs s, solve
+   (Z_A'Z_A + diag(l2_A)) b_A = Z_A'yc - l1_A * s; drop a coefficient whose sign flips, add the
+   columns that violate their condition, up to six tries. The Cholesky factor R'R = Z_A'Z_A is
+   kept across penalties and changed one column at a time (bordering to add; Givens rotations
+   to remove). The lasso solves with it directly; the elastic net by conjugate gradients
+   preconditioned with it (the ridge shift is small against Z_A'Z_A along most of the path,
+   so a few iterations reach rounding level).
+2. Otherwise cyclic coordinate descent with covariance updates on the strong set
+   (Tibshirani et al. 2012), grown by the columns violating their condition outside it, then
+   the exact step on the set descent found ("polish") if it improves the conditions.
+
+A solution is accepted when every optimality condition holds to ``accept_abs``. When a penalty
+ends above ``retry_abs`` after a tighter descent, the kernel stops and reports it; the caller
+then runs the interpreted route, which has more fallbacks (exact path following near
+saturation). Every column must be penalized (v_j > 0): unpenalized ones are partialled out
+before the call. Columns with Z'Z_jj = 0 (constant on these rows) never enter.
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from collections import namedtuple
+
+import numpy as np
+
+try:  # numba is a dependency; without it (or with TAMIS_COMPILED=0) the interpreted route runs
+    import llvmlite.binding as _llvm
+    from numba import njit, types
+    from numba.extending import get_cython_function_address
+
+    AVAILABLE = os.environ.get("TAMIS_COMPILED", "1") != "0"
+except ImportError:  # pragma: no cover - exercised only where numba cannot be installed
+    AVAILABLE = False
+
+    def njit(*args, **kwargs):
+        return (lambda f: f) if not args or not callable(args[0]) else args[0]
+
+
+def _blas(name: str, n_args: int, library: str):
+    """A routine of scipy's BLAS or LAPACK as an external symbol of compiled code (arguments: pointers).
+
+    Bound by name, not address, so that the compiled code can be cached on disk: the symbol is
+    registered again at every import, before any cached code is loaded.
+    """
+    if not AVAILABLE:
+        return None
+    symbol = f"tamis_{name}"
+    _llvm.add_symbol(symbol, get_cython_function_address(f"scipy.linalg.cython_{library}", name))
+    return types.ExternalFunction(symbol, types.void(*([types.voidptr] * n_args)))
+
+
+# triangular solves with a leading dimension (the factor lives in a p x p buffer), which the
+# library's Python wrappers do not offer; measured 3x faster here than the same loops compiled
+_dtrsv = _blas("dtrsv", 8, "blas")
+# Cholesky factorization (refactoring the elastic net's preconditioner at a new shift)
+_dpotrf = _blas("dpotrf", 5, "lapack")
+
+# compiled code is cached on disk next to this file (or in the user's cache folder when that is
+# read-only); a frozen bundle has no source file to key the cache on, so it compiles per session
+_CACHE = not getattr(sys, "frozen", False)
+
+# status codes of gram_path_chunk
+OK = 0
+FAILED = 1
+
+_EXACT_TRIES = 6
+_PCG_MAX_ITER = 60
+# the exact step for columns added to a factor: a column whose remaining variance after the
+# factored ones is below this share of its own is taken as dependent
+_DEPENDENT_SHARE = 1e-10
+_OUTER_ROUNDS = 100
+# elastic net: the factor is made afresh at the current shift when the last conjugate-gradient
+# solve needed more iterations than this (each costs about 3 k^2 + p k, a refactoring k^3 / 3)
+_REFACTOR_AFTER = 6
+# conjugate gradients stop when the active conditions hold to this share of the acceptance
+# level (about 1e-12 scale-free, against 1e-15 for the direct lasso solve)
+_CG_TOL_SHARE = 1e-2
+
+# scratch arrays of one chunk (a named tuple: compiled code with it can be cached)
+_Scratch = namedtuple(
+    "_Scratch", "tmp x rhs shift_v work full cand gcand strong work_set members start"
+)
+
+
+@njit(cache=_CACHE)
+def _make_scratch(cap, p):
+    return _Scratch(
+        np.empty(cap), np.empty(cap), np.empty(cap), np.empty(cap), np.empty((4, cap)),
+        np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
+        np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
+    )  # fmt: skip
+
+
+@njit(cache=_CACHE, fastmath={"reassoc", "contract"})
+def _dot(a, b, k):
+    s = 0.0
+    for i in range(k):
+        s += a[i] * b[i]
+    return s
+
+
+@njit(cache=_CACHE)
+def _sign(x):
+    return 1.0 if x > 0 else (-1.0 if x < 0 else 0.0)
+
+
+@njit(cache=_CACHE)
+def _gradient(Q, q, beta, g):
+    """g = q - Q beta (Q symmetric: one row per nonzero coefficient)."""
+    p = q.shape[0]
+    for i in range(p):
+        g[i] = q[i]
+    for j in range(p):
+        b = beta[j]
+        if b != 0.0:
+            row = Q[j]
+            for i in range(p):
+                g[i] -= b * row[i]
+
+
+@njit(cache=_CACHE)
+def _violation(g, beta, j, l1, l2):
+    b = beta[j]
+    if b == 0.0:
+        return max(abs(g[j]) - l1, 0.0)
+    return abs(g[j] - l2 * b - l1 * _sign(b))
+
+
+@njit(cache=_CACHE)
+def _max_violation(g, beta, lam, n, mix, v):
+    worst = 0.0
+    for j in range(g.shape[0]):
+        x = _violation(g, beta, j, n * lam * mix * v[j], n * lam * (1.0 - mix) * v[j])
+        if x > worst:
+            worst = x
+    return worst
+
+
+# ---- the Cholesky factor R'R = Z_A'Z_A of the ordered set order[:k] (R upper, row-major) ----
+
+
+@njit(cache=_CACHE)
+def _triangular(R, k, x, transposed):
+    """x <- R'^-1 x (transposed False) or R^-1 x (True) for the leading k x k block of R."""
+    if k == 0:
+        return
+    # R (row-major, upper) is, to Fortran, the lower triangle of a column-major matrix
+    chars = np.empty(3, np.uint8)
+    chars[0] = 76  # "L"
+    chars[1] = 78  # "N"
+    chars[2] = 84 if transposed else 78  # "T" / "N"
+    ints = np.empty(3, np.int32)
+    ints[0] = k
+    ints[1] = R.shape[1]
+    ints[2] = 1
+    _dtrsv(
+        chars[0:].ctypes, chars[2:].ctypes, chars[1:].ctypes, ints[0:].ctypes, R.ctypes,
+        ints[1:].ctypes, x.ctypes, ints[2:].ctypes,
+    )  # fmt: skip
+
+
+@njit(cache=_CACHE)
+def _factor_append(Q, R, order, pos, st, fs, v, j, tmp):
+    """Border the factor with column j; False (factor unchanged) if j is dependent."""
+    k = st[0]
+    shift = fs[0] * v[j]
+    for i in range(k):
+        tmp[i] = Q[j, order[i]]
+    _triangular(R, k, tmp, False)  # R' r = (Q + shift)[A, j]
+    own = Q[j, j] + shift
+    d = own - _dot(tmp, tmp, k)
+    if not d > _DEPENDENT_SHARE * own:
+        return False
+    for i in range(k):
+        R[i, k] = tmp[i]
+    R[k, k] = np.sqrt(d)
+    order[k] = j
+    pos[j] = k
+    st[0] = k + 1
+    return True
+
+
+@njit(cache=_CACHE)
+def _refactor(Q, R, order, st, fs, v, shift):
+    """Factor the current set afresh at a new shift (LAPACK dpotrf); False if it fails."""
+    k = st[0]
+    fs[0] = shift
+    if k == 0:
+        return True
+    for i in range(k):  # the upper triangle, row-major: to Fortran, the lower one
+        row = Q[order[i]]
+        Ri = R[i]
+        for c in range(i, k):
+            Ri[c] = row[order[c]]
+        Ri[i] += shift * v[order[i]]
+    chars = np.empty(1, np.uint8)
+    chars[0] = 76  # "L"
+    ints = np.empty(3, np.int32)
+    ints[0] = k
+    ints[1] = R.shape[1]
+    ints[2] = 0
+    _dpotrf(chars.ctypes, ints[0:].ctypes, R.ctypes, ints[1:].ctypes, ints[2:].ctypes)
+    return ints[2] == 0
+
+
+@njit(cache=_CACHE)
+def _factor_delete(R, order, pos, st, m):
+    """Remove position m from the factor (Givens rotations restore the triangle)."""
+    k = st[0]
+    st[0] = k - 1
+    pos[order[m]] = -1
+    for i in range(k):
+        start = m if i <= m else i - 1
+        row = R[i]
+        for c in range(start, k - 1):
+            row[c] = row[c + 1]
+    for c in range(m, k - 1):
+        order[c] = order[c + 1]
+        pos[order[c]] = c
+    for jj in range(m, k - 1):
+        a = R[jj, jj]
+        b = R[jj + 1, jj]
+        r = np.hypot(a, b)
+        c = a / r
+        s = b / r
+        R[jj, jj] = r
+        R[jj + 1, jj] = 0.0
+        top = R[jj]
+        bottom = R[jj + 1]
+        for col in range(jj + 1, k - 1):
+            x = top[col]
+            y = bottom[col]
+            top[col] = c * x + s * y
+            bottom[col] = c * y - s * x
+
+
+@njit(cache=_CACHE)
+def _factor_solve(R, k, b, x):
+    """x = (R'R)^-1 b for the first k entries."""
+    for i in range(k):
+        x[i] = b[i]
+    _triangular(R, k, x, False)
+    _triangular(R, k, x, True)
+
+
+@njit(cache=_CACHE)
+def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, tmp):
+    """Make the factored set equal ``members`` (bool mask); False if a column is dependent.
+
+    An empty factor starts at the given shift (elastic net: n*lambda*(1-mix); lasso: 0).
+    """
+    for m in range(st[0] - 1, -1, -1):  # removals from the end first: cheapest rotations
+        if not members[order[m]]:
+            _factor_delete(R, order, pos, st, m)
+    if st[0] == 0:
+        fs[0] = shift
+    for j in range(members.shape[0]):
+        if members[j] and pos[j] < 0:
+            if not _factor_append(Q, R, order, pos, st, fs, v, j, tmp):
+                return False
+    return True
+
+
+# ---- the exact step on the factored set ----
+
+
+@njit(cache=_CACHE)
+def _shifted_matvec(Q, order, k, shift_v, x, out, full):
+    """out = (Z_A'Z_A + diag(shift_v)) x on the factored set (full: p-length scratch)."""
+    p = full.shape[0]
+    for i in range(p):
+        full[i] = 0.0
+    for i in range(k):
+        xi = x[i]
+        if xi != 0.0:
+            row = Q[order[i]]
+            for c in range(p):
+                full[c] += xi * row[c]
+    for i in range(k):
+        out[i] = full[order[i]] + shift_v[i] * x[i]
+
+
+@njit(cache=_CACHE)
+def _conjugate_gradients(Q, R, order, k, rhs, shift_v, x, tol_abs, enough_abs, work, full):
+    """Solve (Z_A'Z_A + diag(shift_v)) x = rhs from x, preconditioned by the factor.
+
+    Aims at residuals below tol_abs and settles for enough_abs once they stop falling
+    (rounding level). Returns (solved, iterations).
+    """
+    res = work[0]
+    z = work[1]
+    d = work[2]
+    ad = work[3]
+    _shifted_matvec(Q, order, k, shift_v, x, ad, full)
+    worst = 0.0
+    for i in range(k):
+        res[i] = rhs[i] - ad[i]
+        worst = max(worst, abs(res[i]))
+    if worst <= tol_abs:
+        return True, 0
+    _factor_solve(R, k, res, z)
+    for i in range(k):
+        d[i] = z[i]
+    rz = _dot(res, z, k)
+    best = worst
+    stalled = 0
+    it = 0
+    while it < _PCG_MAX_ITER:
+        it += 1
+        _shifted_matvec(Q, order, k, shift_v, d, ad, full)
+        dad = _dot(d, ad, k)
+        if not dad > 0.0:
+            break
+        alpha = rz / dad
+        worst = 0.0
+        for i in range(k):
+            x[i] += alpha * d[i]
+            res[i] -= alpha * ad[i]
+            worst = max(worst, abs(res[i]))
+        if worst <= tol_abs:
+            break
+        if worst < 0.5 * best:
+            best = worst
+            stalled = 0
+        else:
+            stalled += 1
+            if stalled >= 3:
+                break
+        _factor_solve(R, k, res, z)
+        rz_new = _dot(res, z, k)
+        beta_cg = rz_new / rz
+        rz = rz_new
+        for i in range(k):
+            d[i] = z[i] + beta_cg * d[i]
+    # the recursion's residual drifts from the true one: judge by a fresh product
+    _shifted_matvec(Q, order, k, shift_v, x, ad, full)
+    worst = 0.0
+    for i in range(k):
+        worst = max(worst, abs(rhs[i] - ad[i]))
+    return worst <= enough_abs, it
+
+
+@njit(cache=_CACHE)
+def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
+    """Exact solution on the factored set with signs sgn into x; False if unsolvable.
+
+    Lasso: two triangular solves with the factor of Z_A'Z_A. Elastic net: the factor is of
+    Z_A'Z_A + shift0*V_A for an earlier shift0; conjugate gradients close the gap to the
+    current shift, and when they needed more than _REFACTOR_AFTER iterations last time the
+    factor is first made afresh at the current shift.
+    """
+    k = st[0]
+    rhs = scratch.rhs
+    shift_v = scratch.shift_v
+    shift = n * lam * (1.0 - mix)
+    for i in range(k):
+        j = order[i]
+        rhs[i] = q[j] - n * lam * mix * v[j] * sgn[j]
+        shift_v[i] = shift * v[j]
+        x[i] = start[j]  # where conjugate gradients start (elastic net)
+    if shift == fs[0]:
+        _factor_solve(R, k, rhs, x)
+        ok = True
+    else:
+        if st[1] > _REFACTOR_AFTER:
+            st[3] += 1
+            if not _refactor(Q, R, order, st, fs, v, shift):
+                return False
+        ok, it = _conjugate_gradients(
+            Q, R, order, k, rhs, shift_v, x, _CG_TOL_SHARE * accept_abs, 0.1 * accept_abs,
+            scratch.work, scratch.full,
+        )  # fmt: skip
+        st[1] = it
+        st[2] += it
+    if not ok:
+        return False
+    for i in range(k):
+        if not np.isfinite(x[i]):
+            return False
+    return True
+
+
+@njit(cache=_CACHE)
+def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch):
+    """Exact solution from the current factored set (= active set of beta), up to six tries."""
+    p = q.shape[0]
+    x = scratch.x
+    cand = scratch.cand
+    gcand = scratch.gcand
+    start = scratch.start  # filled by the caller; later tries start from the last one
+    for _ in range(_EXACT_TRIES):
+        st[4] += 1
+        if not _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
+            return False
+        k = st[0]
+        for i in range(k):
+            start[order[i]] = x[i]
+        flipped = False
+        for i in range(k):
+            if _sign(x[i]) != sgn[order[i]]:
+                flipped = True
+        if flipped:  # a coefficient crossed zero: guess that it leaves, try again
+            for i in range(k - 1, -1, -1):
+                if _sign(x[i]) != sgn[order[i]]:
+                    _factor_delete(R, order, pos, st, i)
+            continue
+        for j in range(p):
+            cand[j] = 0.0
+        for i in range(k):
+            cand[order[i]] = x[i]
+        _gradient(Q, q, cand, gcand)
+        added = False
+        for j in range(p):
+            if pos[j] < 0 and abs(gcand[j]) - n * lam * mix * v[j] > accept_abs:
+                if not _factor_append(Q, R, order, pos, st, fs, v, j, scratch.tmp):
+                    return False
+                sgn[j] = _sign(gcand[j])
+                added = True
+        if not added:
+            for j in range(p):
+                beta[j] = cand[j]
+                g[j] = gcand[j]
+            return True
+    return False
+
+
+# ---- coordinate descent ----
+
+
+@njit(cache=_CACHE)
+def _descend(Q, g, beta, work_set, m, lam, n, mix, v, tol_abs, max_sweeps):
+    """Cyclic descent over work_set[:m] until its conditions hold to tol_abs; (sweeps, done)."""
+    p = g.shape[0]
+    for sweep in range(max_sweeps):
+        for t in range(m):
+            j = work_set[t]
+            qjj = Q[j, j]
+            if qjj <= 0.0:
+                continue
+            bj = beta[j]
+            z = g[j] + qjj * bj
+            thr = n * lam * mix * v[j]
+            den = qjj + n * lam * (1.0 - mix) * v[j]
+            if z > thr:
+                nb = (z - thr) / den
+            elif z < -thr:
+                nb = (z + thr) / den
+            else:
+                nb = 0.0
+            delta = nb - bj
+            if delta != 0.0:
+                beta[j] = nb
+                row = Q[j]
+                for i in range(p):
+                    g[i] -= delta * row[i]
+        worst = 0.0
+        for t in range(m):
+            j = work_set[t]
+            x = _violation(g, beta, j, n * lam * mix * v[j], n * lam * (1.0 - mix) * v[j])
+            if x > worst:
+                worst = x
+        if worst <= tol_abs:
+            return sweep + 1, True
+    return max_sweeps, False
+
+
+@njit(cache=_CACHE)
+def _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch):
+    """Replace a descent solution by the exact one on its active set if that is no worse."""
+    p = q.shape[0]
+    members = scratch.members
+    for j in range(p):
+        members[j] = beta[j] != 0.0
+        sgn[j] = _sign(beta[j])
+    shift = n * lam * (1.0 - mix)
+    if not _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp) or st[0] == 0:
+        return
+    x = scratch.x
+    if not _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch):
+        return
+    k = st[0]
+    for i in range(k):
+        if _sign(x[i]) != sgn[order[i]]:
+            return
+    cand = scratch.cand
+    gcand = scratch.gcand
+    for j in range(p):
+        cand[j] = 0.0
+    for i in range(k):
+        cand[order[i]] = x[i]
+    _gradient(Q, q, cand, gcand)
+    if _max_violation(gcand, cand, lam, n, mix, v) <= _max_violation(g, beta, lam, n, mix, v):
+        for j in range(p):
+            beta[j] = cand[j]
+            g[j] = gcand[j]
+
+
+@njit(cache=_CACHE)
+def _descent_round(
+    Q, q, R, order, pos, st, fs, sgn, lam, prev, n, mix, v, beta, g, ever, accept_abs,
+    cd_tol_abs, max_sweeps, scratch,
+):  # fmt: skip
+    """Descent on the strong set grown by violators, then the polish; (sweeps, converged)."""
+    p = q.shape[0]
+    strong = scratch.strong
+    work_set = scratch.work_set
+    for j in range(p):
+        strong[j] = ever[j] or abs(g[j]) >= n * mix * v[j] * (2.0 * lam - prev)
+    sweeps = 0
+    for _ in range(_OUTER_ROUNDS):
+        m = 0
+        for j in range(p):
+            if strong[j]:
+                work_set[m] = j
+                m += 1
+        it, done = _descend(Q, g, beta, work_set, m, lam, n, mix, v, cd_tol_abs, max_sweeps)
+        sweeps += it
+        if not done:
+            return sweeps, False
+        _gradient(Q, q, beta, g)  # fresh: the running updates drift by rounding
+        _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch)
+        grown = False
+        for j in range(p):
+            if not strong[j] and abs(g[j]) > n * lam * mix * v[j] + accept_abs:
+                strong[j] = True
+                grown = True
+        if not grown:
+            return sweeps, True
+    return sweeps, False
+
+
+@njit(cache=_CACHE, nogil=True)  # parts run in threads side by side
+def gram_path_chunk(
+    Q, q, n, lams, k0, k1, mix, v, accept_abs, cd_tol_abs, retry_abs, tight_factor,
+    max_sweeps, beta, g, ever, order, pos, R, sgn, st, fs, B_out, iters_out, kkt_out,
+):  # fmt: skip
+    """Penalties lams[k0:k1] from the state left by the previous chunk.
+
+    State: beta, g = Z'(yc - Z beta), ever (columns ever active), sgn (signs of the factored
+    set), the factor (order, pos, R; fs = [its shift, the previous penalty]) and counters
+    st = [factor size, conjugate-gradient iterations of the last solve, all of them,
+    refactorings, exact tries, descents]. Writes rows k0..k1-1 of B_out, iters_out,
+    kkt_out (kkt in absolute units). Returns (OK, k1) or (FAILED, k) with k the penalty that
+    could not be solved.
+    """
+    p = q.shape[0]
+    scratch = _make_scratch(R.shape[0], p)
+    members = scratch.members
+    for k in range(k0, k1):
+        lam = lams[k]
+        shift = n * lam * (1.0 - mix)
+        sweeps = 0
+        exact = False
+        any_active = False
+        for j in range(p):
+            members[j] = beta[j] != 0.0
+            if members[j]:
+                any_active = True
+                sgn[j] = _sign(beta[j])
+        if any_active and _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp):
+            # conjugate gradients (elastic net) start from the solution extrapolated along
+            # the (log-spaced) path from the last two penalties
+            start = scratch.start
+            for j in range(p):
+                start[j] = beta[j]
+                if k >= 2 and mix < 1.0 and beta[j] != 0.0:
+                    start[j] += beta[j] - B_out[k - 2, j]
+            exact = _try_exact(
+                Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch
+            )
+        if not exact:
+            st[5] += 1
+            it, done = _descent_round(
+                Q, q, R, order, pos, st, fs, sgn, lam, fs[1], n, mix, v, beta, g, ever,
+                accept_abs, cd_tol_abs, max_sweeps, scratch,
+            )  # fmt: skip
+            sweeps += it
+            if not done:
+                return FAILED, k
+            if _max_violation(g, beta, lam, n, mix, v) > retry_abs:
+                work_set = scratch.work_set
+                m = 0
+                for j in range(p):
+                    if beta[j] != 0.0:
+                        work_set[m] = j
+                        m += 1
+                it, done = _descend(
+                    Q, g, beta, work_set, m, lam, n, mix, v, cd_tol_abs * tight_factor,
+                    max_sweeps,
+                )  # fmt: skip
+                sweeps += it
+                _gradient(Q, q, beta, g)
+                if not done or _max_violation(g, beta, lam, n, mix, v) > retry_abs:
+                    return FAILED, k
+        for j in range(p):
+            if beta[j] != 0.0:
+                ever[j] = True
+            B_out[k, j] = beta[j]
+        iters_out[k] = sweeps
+        kkt_out[k] = _max_violation(g, beta, lam, n, mix, v)
+        fs[1] = lam
+    return OK, k1

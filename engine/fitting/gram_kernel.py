@@ -40,7 +40,7 @@ try:  # numba is a dependency; without it (or with TAMIS_COMPILED=0) the interpr
 except ImportError:  # pragma: no cover - exercised only where numba cannot be installed
     AVAILABLE = False
 
-    def njit(*args, **kwargs):
+    def njit(*args, **kwargs):  # type: ignore[no-redef]
         return (lambda f: f) if not args or not callable(args[0]) else args[0]
 
 
@@ -398,7 +398,9 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
     start = scratch.start  # filled by the caller; later tries start from the last one
     for _ in range(_EXACT_TRIES):
         st[4] += 1
-        if not _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
+        if not _candidate(
+            Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch
+        ):
             return False
         k = st[0]
         for i in range(k):

@@ -136,3 +136,21 @@ def test_held_out_sums_route_agrees_with_one_pass_total():
         np.testing.assert_allclose(a.Q, b.Q, rtol=1e-10, atol=1e-9)
         np.testing.assert_allclose(a.q, b.q, rtol=1e-10, atol=1e-9)
         np.testing.assert_allclose(sa.sds, sb.sds, rtol=1e-12)
+
+
+@pytest.mark.parametrize("mix", [1.0, 0.5])
+def test_compiled_parts_on_two_threads_equal_one_after_another(mix):
+    # the compiled Gram-route loop releases the interpreter lock, so its parts run on two
+    # threads; the numbers must not depend on that (each part has its own state)
+    from engine.tuning.crossval import _placement
+
+    X, y = sparse_truth_data(200, 30, seed=4)
+    parts = make_folds(200, "kfold", folds=5, seed=2)
+    lam = elastic_net_path(X, y, mix=mix).penalties
+    kw = dict(n_selected=np.zeros(lam.size), parallel="threads")
+    one = cross_validate_path(X, y, parts, mix, lam, workers=1, **kw)
+    two = cross_validate_path(X, y, parts, mix, lam, workers=2, **kw)
+    assert np.array_equal(one.part_errors, two.part_errors)
+    # placement: compiled parts stay on threads, two at once; interpreted ones one at a time
+    assert _placement("auto", 2, mix, False, 100.0, compiled=True) == ("threads", 2)
+    assert _placement("threads", 2, mix, False, 0.1, compiled=False) == ("threads", 1)

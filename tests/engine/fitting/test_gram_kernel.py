@@ -1,0 +1,177 @@
+"""The compiled Gram-route path (engine.fitting.gram_kernel) against the interpreted route and
+against outside references.
+
+Two routes that must agree: the compiled loop and the interpreted one solve the same
+objective on the same Gram matrix, so their solutions agree to the optimality level each
+reaches. Known answers: scikit-learn's ElasticNet (general-purpose reference library) at the
+same penalty on identically standardized data; numpy's Cholesky factorization for the
+factor updates. Invariant: the optimality (KKT) conditions of the stated objective.
+"""
+
+import numpy as np
+import pytest
+
+import engine.fitting.coordinate as co
+from engine.errors import Cancelled
+from engine.fitting import gram_kernel
+from engine.fitting.coordinate import elastic_net_path, kkt_violation
+from engine.progress import CancelToken, Progress
+
+pytestmark = pytest.mark.skipif(not gram_kernel.AVAILABLE, reason="compiled route switched off")
+
+
+def _data(n, p, k=6, seed=0, rho=0.6):
+    """Simulated data with a stated sparse truth (k nonzero coefficients), correlated columns."""
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p))
+    X[:, 1:] = rho * X[:, :-1] + np.sqrt(1 - rho**2) * X[:, 1:]
+    X = X * rng.uniform(0.5, 4, size=p) + rng.normal(size=p) * 3
+    b = np.zeros(p)
+    b[:k] = rng.choice([-1, 1], size=k) * rng.uniform(0.5, 2, size=k)
+    y = X @ b + rng.normal(size=n) * 2.0 + 1.0
+    return X, y
+
+
+def _interpreted(monkeypatch, *args, **kwargs):
+    with monkeypatch.context() as m:
+        m.setattr(gram_kernel, "AVAILABLE", False)
+        return elastic_net_path(*args, **kwargs)
+
+
+def _compiled(*args, **kwargs):
+    co._LAST_COUNTERS = None
+    path = elastic_net_path(*args, **kwargs)
+    assert co._LAST_COUNTERS is not None, "the compiled route did not run"
+    return path
+
+
+@pytest.mark.parametrize("mix", [1.0, 0.5, 0.05])
+@pytest.mark.parametrize("n,p", [(300, 40), (130, 100)])
+def test_compiled_and_interpreted_routes_agree(monkeypatch, n, p, mix):
+    X, y = _data(n, p, seed=n + p)
+    fast = _compiled(X, y, mix=mix)
+    slow = _interpreted(monkeypatch, X, y, mix=mix, penalties=fast.penalties)
+    # both meet the optimality conditions far below a reference solver at tol 1e-8 (~5e-9)
+    assert fast.max_kkt_violation < 1e-11 and slow.max_kkt_violation < 1e-9
+    independent = kkt_violation(X, y, fast.std_coefs, fast.penalties, mix)
+    np.testing.assert_allclose(independent, fast.kkt_violations, atol=1e-11)
+    scale = np.abs(slow.std_coefs).max()
+    np.testing.assert_allclose(fast.std_coefs, slow.std_coefs, atol=1e-7 * scale)
+    # lasso: exactly the same zeros (the exact steps decide them, not a tolerance)
+    if mix == 1.0:
+        assert np.array_equal(fast.std_coefs != 0, slow.std_coefs != 0)
+
+
+def test_penalty_factors_and_unpenalized_columns(monkeypatch):
+    # per-column weights (adaptive lasso) and weight 0 (forced-in columns, partialled out
+    # before the compiled loop) give the interpreted route's answer
+    X, y = _data(200, 30, seed=3)
+    w = np.random.default_rng(1).uniform(0.2, 3.0, 30)
+    w[[2, 7]] = 0.0
+    for mix in (1.0, 0.5):
+        fast = _compiled(X, y, mix=mix, penalty_factors=w)
+        slow = _interpreted(monkeypatch, X, y, mix=mix, penalty_factors=w)
+        assert fast.max_kkt_violation < 1e-11
+        assert np.all(fast.coefs[:, [2, 7]] != 0)  # unpenalized: in at every penalty
+        scale = np.abs(slow.std_coefs).max()
+        np.testing.assert_allclose(fast.std_coefs, slow.std_coefs, atol=1e-7 * scale)
+
+
+@pytest.mark.parametrize("mix", [1.0, 0.5])
+def test_against_scikit_learn_at_the_same_penalty(mix):
+    # Source: scikit-learn ElasticNet (general-purpose reference library), objective
+    # (1/2n)||y - Zb||^2 + alpha*l1_ratio*|b|_1 + alpha*(1-l1_ratio)/2*||b||^2, on the same
+    # standardized data: alpha = lambda, l1_ratio = mix
+    from sklearn.linear_model import ElasticNet
+
+    X, y = _data(250, 35, seed=5)
+    Z = (X - X.mean(0)) / X.std(0)
+    path = _compiled(X, y, mix=mix, n_penalties=30)
+    for k in (5, 15, 29):
+        ref = ElasticNet(alpha=path.penalties[k], l1_ratio=mix, tol=1e-12, max_iter=100000)
+        ref.fit(Z, y - y.mean())
+        np.testing.assert_allclose(path.std_coefs[k], ref.coef_, atol=1e-7)
+
+
+def test_nearly_dependent_columns_and_a_constant_column(monkeypatch):
+    # a column that is almost a combination of others (the factor refuses it) and one that
+    # is constant: the answer still meets the optimality conditions and matches the
+    # interpreted route
+    X, y = _data(150, 20, seed=8)
+    X[:, 5] = X[:, 3] - 2 * X[:, 4] + 1e-9 * np.random.default_rng(2).normal(size=150)
+    X[:, 9] = 7.0
+    fast = elastic_net_path(X, y, mix=1.0)
+    slow = _interpreted(monkeypatch, X, y, mix=1.0, penalties=fast.penalties)
+    assert fast.max_kkt_violation < 1e-9
+    assert np.all(fast.coefs[:, 9] == 0)
+    fitted_fast = X @ fast.coefs.T + fast.intercepts
+    fitted_slow = X @ slow.coefs.T + slow.intercepts
+    np.testing.assert_allclose(fitted_fast, fitted_slow, atol=1e-6 * np.abs(y).max())
+
+
+def test_a_penalty_the_loop_cannot_settle_goes_to_the_interpreted_route(monkeypatch):
+    # the compiled loop reports a penalty it could not settle half-way along the path: the
+    # whole path then comes from the interpreted route, nothing of the partial one is kept
+    X, y = _data(200, 25, seed=9)
+    real = gram_kernel.gram_path_chunk
+    calls = []
+
+    def fails_at_40(*args):
+        calls.append(args[4])
+        status, k = real(*args[:5], min(args[5], 40), *args[6:])
+        return (gram_kernel.FAILED, k) if k == 40 else (status, k)
+
+    monkeypatch.setattr(gram_kernel, "gram_path_chunk", fails_at_40)
+    co._LAST_COUNTERS = None
+    fallen_back = elastic_net_path(X, y, mix=0.5)
+    assert calls and co._LAST_COUNTERS is None  # the compiled loop ran and gave up
+    slow = _interpreted(monkeypatch, X, y, mix=0.5, penalties=fallen_back.penalties)
+    np.testing.assert_array_equal(fallen_back.std_coefs, slow.std_coefs)
+    assert fallen_back.max_kkt_violation < 1e-9
+
+
+def test_cancel_stops_the_compiled_path():
+    X, y = _data(300, 40, seed=10)
+    token = CancelToken()
+    token.cancel()
+    with pytest.raises(Cancelled):
+        elastic_net_path(X, y, progress=Progress(cancel=token))
+
+
+def test_factor_updates_match_a_fresh_cholesky_factorization():
+    # Source: numpy.linalg.cholesky (LAPACK) of the same submatrix; the factor is grown by
+    # bordering, shrunk by Givens rotations and refactored at a shift in a random sequence
+    rng = np.random.default_rng(4)
+    p = 30
+    A = rng.normal(size=(80, p))
+    Q = np.ascontiguousarray(A.T @ A)
+    v = rng.uniform(0.5, 2.0, p)
+    R = np.zeros((p, p))
+    order = np.zeros(p, dtype=np.int64)
+    pos = np.full(p, -1, dtype=np.int64)
+    st = np.zeros(6, dtype=np.int64)
+    fs = np.array([0.0, 0.0])
+    tmp = np.empty(p)
+    for step in range(200):
+        k = int(st[0])
+        if k and (rng.random() < 0.35 or k == p):
+            gram_kernel._factor_delete(R, order, pos, st, int(rng.integers(k)))
+        elif step % 50 == 49:
+            assert gram_kernel._refactor(Q, R, order, st, fs, v, float(rng.uniform(0, 5)))
+        else:
+            j = int(rng.choice(np.flatnonzero(pos < 0)))
+            assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, j, tmp)
+        k = int(st[0])
+        S = order[:k]
+        assert np.all(pos[S] == np.arange(k)) and np.count_nonzero(pos >= 0) == k
+        target = Q[np.ix_(S, S)] + np.diag(fs[0] * v[S])
+        Rk = np.triu(R[:k, :k])
+        np.testing.assert_allclose(Rk.T @ Rk, target, rtol=1e-10, atol=1e-9 * Q.max())
+        if k:
+            np.testing.assert_allclose(
+                np.abs(np.diag(Rk)), np.diag(np.linalg.cholesky(target)), rtol=1e-8
+            )
+        b = rng.normal(size=k)
+        x = np.empty(k)
+        gram_kernel._factor_solve(R, k, b, x)
+        np.testing.assert_allclose(target @ x, b, atol=1e-9 * max(1.0, np.abs(b).max()))

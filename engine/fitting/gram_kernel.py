@@ -26,7 +26,6 @@ before the call. Columns with Z'Z_jj = 0 (constant on these rows) never enter.
 from __future__ import annotations
 
 import os
-import sys
 from collections import namedtuple
 
 import numpy as np
@@ -63,9 +62,9 @@ _dtrsv = _blas("dtrsv", 8, "blas")
 # Cholesky factorization (refactoring the elastic net's preconditioner at a new shift)
 _dpotrf = _blas("dpotrf", 5, "lapack")
 
-# compiled code is cached on disk next to this file (or in the user's cache folder when that is
-# read-only); a frozen bundle has no source file to key the cache on, so it compiles per session
-_CACHE = not getattr(sys, "frozen", False)
+# compiled code is cached on disk: next to this file, or in the user's cache folder when that is
+# read-only or the program is a frozen bundle (numba keys that cache on the executable)
+_CACHE = True
 
 # status codes of gram_path_chunk
 OK = 0

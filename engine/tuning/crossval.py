@@ -18,6 +18,7 @@ from __future__ import annotations
 
 __all__ = ["cross_validate_path", "fold_errors", "estimated_seconds", "shared_cross_products"]
 
+import os
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -220,7 +221,10 @@ def _placement(
         parallel = "threads"  # a per-part callable may hold anything: it stays in this process
     elif parallel == "auto":
         if compiled:
-            parallel = "threads"  # the compiled path releases the interpreter lock
+            # the compiled path releases the interpreter lock: threads, unless processes are
+            # asked for by name (TAMIS_PARALLEL, for checks)
+            forced = os.environ.get("TAMIS_PARALLEL", "").strip().lower() == "processes"
+            parallel = "processes" if forced and process_pool_worthwhile(0, workers) else "threads"
         else:
             parallel = "processes" if process_pool_worthwhile(estimate, workers) else "threads"
     if parallel == "threads" and mix > 0 and not factors_per_part and not compiled:

@@ -1118,7 +1118,7 @@ def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den
     B = np.zeros((L, p))
     iters = np.zeros(L, dtype=np.int64)
     kkt = np.zeros(L)
-    beta, g, ever = np.zeros(p), q.copy(), np.zeros(p, bool)
+    beta, g, g_before, ever = np.zeros(p), q.copy(), q.copy(), np.zeros(p, bool)
     order, pos = np.zeros(p, dtype=np.int64), np.full(p, -1, dtype=np.int64)
     R, sgn, sizes = np.zeros((p, p)), np.zeros(p), np.zeros(6, dtype=np.int64)
     # [shift of the factor, previous penalty]
@@ -1135,7 +1135,7 @@ def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den
         status, _ = gram_kernel.gram_path_chunk(
             Q, q, float(n), lams, k0, k1, float(mix), v, _EXACT_ACCEPT * scale_den,
             tol * scale_den, _RETRY_VIOLATION * scale_den, _RETRY_TOL_FACTOR, int(max_sweeps),
-            beta, g, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt,
+            beta, g, g_before, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt,
         )  # fmt: skip
         if status != gram_kernel.OK:
             return None

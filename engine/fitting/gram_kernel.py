@@ -541,11 +541,12 @@ def _descent_round(
 @njit(cache=_CACHE, nogil=True)  # parts run in threads side by side
 def gram_path_chunk(
     Q, q, n, lams, k0, k1, mix, v, accept_abs, cd_tol_abs, retry_abs, tight_factor,
-    max_sweeps, beta, g, ever, order, pos, R, sgn, st, fs, B_out, iters_out, kkt_out,
+    max_sweeps, beta, g, g_before, ever, order, pos, R, sgn, st, fs, B_out, iters_out, kkt_out,
 ):  # fmt: skip
     """Penalties lams[k0:k1] from the state left by the previous chunk.
 
-    State: beta, g = Z'(yc - Z beta), ever (columns ever active), sgn (signs of the factored
+    State: beta, g = Z'(yc - Z beta) at the previous penalty, g_before (the same one penalty
+    earlier), ever (columns ever active), sgn (signs of the factored
     set), the factor (order, pos, R; fs = [its shift, the previous penalty]) and counters
     st = [factor size, conjugate-gradient iterations of the last solve, all of them,
     refactorings, exact tries, descents]. Writes rows k0..k1-1 of B_out, iters_out,
@@ -561,19 +562,41 @@ def gram_path_chunk(
         sweeps = 0
         exact = False
         any_active = False
+        # the first exact try starts from the set and signs extrapolated along the path from
+        # the last two penalties: columns whose condition the extrapolated gradient breaks
+        # enter, coefficients the extrapolation takes across zero leave (each wrong guess
+        # costs one more try; every answer is still checked against all conditions)
+        start = scratch.start
+        t = (lam - lams[k - 1]) / (lams[k - 1] - lams[k - 2]) if k >= 2 else 0.0
         for j in range(p):
-            members[j] = beta[j] != 0.0
-            if members[j]:
+            b = beta[j]
+            start[j] = b
+            if b != 0.0:
                 any_active = True
-                sgn[j] = _sign(beta[j])
-        if any_active and _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp):
-            # conjugate gradients (elastic net) start from the solution extrapolated along
-            # the (log-spaced) path from the last two penalties
-            start = scratch.start
+                members[j] = True
+                sgn[j] = _sign(b)
+                if t > 0.0:
+                    start[j] = b + t * (b - B_out[k - 2, j])
+                    if _sign(start[j]) != sgn[j]:
+                        members[j] = False
+            else:
+                members[j] = False
+                if t > 0.0:
+                    guess = g[j] + t * (g[j] - g_before[j])
+                    if abs(guess) > n * lam * mix * v[j] and Q[j, j] > 0.0:
+                        members[j] = True
+                        sgn[j] = _sign(guess)
+                        any_active = True
+            g_before[j] = g[j]
+        synced = any_active and _sync_factor(
+            Q, R, order, pos, st, fs, v, members, shift, scratch.tmp
+        )
+        if any_active and not synced:  # a guessed column is dependent: the plain set
             for j in range(p):
-                start[j] = beta[j]
-                if k >= 2 and mix < 1.0 and beta[j] != 0.0:
-                    start[j] += beta[j] - B_out[k - 2, j]
+                members[j] = beta[j] != 0.0
+                sgn[j] = _sign(beta[j])
+            synced = _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp)
+        if synced and st[0] > 0:
             exact = _try_exact(
                 Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch
             )

@@ -92,7 +92,7 @@ _Scratch = namedtuple(
 @njit(cache=_CACHE)
 def _make_scratch(cap, p):
     return _Scratch(
-        np.empty(cap), np.empty(cap), np.empty(cap), np.empty(cap), np.empty((4, cap)),
+        np.empty(cap), np.empty(cap), np.empty(cap), np.empty(cap), np.empty((6, cap)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
     )  # fmt: skip
@@ -288,62 +288,68 @@ def _shifted_matvec(Q, order, k, shift_v, x, out, full):
 
 
 @njit(cache=_CACHE)
-def _conjugate_gradients(Q, R, order, k, rhs, shift_v, x, tol_abs, enough_abs, work, full):
-    """Solve (Z_A'Z_A + diag(shift_v)) x = rhs from x, preconditioned by the factor.
+def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enough_abs, work, full):
+    """Solve (Z_A'Z_A + diag(shift_v)) x = rhs from x, preconditioned by the factor R'R = M.
 
-    Aims at residuals below tol_abs and settles for enough_abs once they stop falling
+    The operator is M + diag(delta_v) (delta_v: the current shift minus the factor's), so
+    with w = M d kept by the recursion w <- r + beta*w (as z = M^-1 r) a step needs no product
+    with Z_A'Z_A: two triangular solves and vector updates. The recursion drifts, so the true
+    residual is taken afresh before stopping (and the recursion restarted from it, twice at
+    most). Aims at residuals below tol_abs, settles for enough_abs once they stop falling
     (rounding level). Returns (solved, iterations).
     """
     res = work[0]
     z = work[1]
     d = work[2]
     ad = work[3]
-    _shifted_matvec(Q, order, k, shift_v, x, ad, full)
-    worst = 0.0
-    for i in range(k):
-        res[i] = rhs[i] - ad[i]
-        worst = max(worst, abs(res[i]))
-    if worst <= tol_abs:
-        return True, 0
-    _factor_solve(R, k, res, z)
-    for i in range(k):
-        d[i] = z[i]
-    rz = _dot(res, z, k)
-    best = worst
-    stalled = 0
+    w = work[4]
     it = 0
-    while it < _PCG_MAX_ITER:
-        it += 1
-        _shifted_matvec(Q, order, k, shift_v, d, ad, full)
-        dad = _dot(d, ad, k)
-        if not dad > 0.0:
-            break
-        alpha = rz / dad
+    fresh_before = np.inf
+    for _restart in range(3):
+        _shifted_matvec(Q, order, k, shift_v, x, ad, full)
         worst = 0.0
         for i in range(k):
-            x[i] += alpha * d[i]
-            res[i] -= alpha * ad[i]
+            res[i] = rhs[i] - ad[i]
             worst = max(worst, abs(res[i]))
-        if worst <= tol_abs:
+        if worst <= tol_abs or not worst < 0.5 * fresh_before:
             break
-        if worst < 0.5 * best:
-            best = worst
-            stalled = 0
-        else:
-            stalled += 1
-            if stalled >= 3:
-                break
+        fresh_before = worst
         _factor_solve(R, k, res, z)
-        rz_new = _dot(res, z, k)
-        beta_cg = rz_new / rz
-        rz = rz_new
         for i in range(k):
-            d[i] = z[i] + beta_cg * d[i]
-    # the recursion's residual drifts from the true one: judge by a fresh product
-    _shifted_matvec(Q, order, k, shift_v, x, ad, full)
-    worst = 0.0
-    for i in range(k):
-        worst = max(worst, abs(rhs[i] - ad[i]))
+            d[i] = z[i]
+            w[i] = res[i]
+        rz = _dot(res, z, k)
+        best = worst
+        stalled = 0
+        while it < _PCG_MAX_ITER:
+            it += 1
+            for i in range(k):
+                ad[i] = w[i] + delta_v[i] * d[i]
+            dad = _dot(d, ad, k)
+            if not dad > 0.0:
+                break
+            alpha = rz / dad
+            worst = 0.0
+            for i in range(k):
+                x[i] += alpha * d[i]
+                res[i] -= alpha * ad[i]
+                worst = max(worst, abs(res[i]))
+            if worst <= tol_abs:
+                break
+            if worst < 0.5 * best:
+                best = worst
+                stalled = 0
+            else:
+                stalled += 1
+                if stalled >= 3:
+                    break
+            _factor_solve(R, k, res, z)
+            rz_new = _dot(res, z, k)
+            beta_cg = rz_new / rz
+            rz = rz_new
+            for i in range(k):
+                d[i] = z[i] + beta_cg * d[i]
+                w[i] = res[i] + beta_cg * w[i]
     return worst <= enough_abs, it
 
 
@@ -373,9 +379,12 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
             st[3] += 1
             if not _refactor(Q, R, order, st, fs, v, shift):
                 return False
+        delta_v = scratch.work[5]
+        for i in range(k):
+            delta_v[i] = (shift - fs[0]) * v[order[i]]
         ok, it = _conjugate_gradients(
-            Q, R, order, k, rhs, shift_v, x, _CG_TOL_SHARE * accept_abs, 0.1 * accept_abs,
-            scratch.work, scratch.full,
+            Q, R, order, k, rhs, shift_v, delta_v, x, _CG_TOL_SHARE * accept_abs,
+            0.1 * accept_abs, scratch.work, scratch.full,
         )  # fmt: skip
         st[1] = it
         st[2] += it

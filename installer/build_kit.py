@@ -321,7 +321,12 @@ def _gather(
             return
         _say("the cache lacks some wheels; downloading from the package registry")
     fetch = [*common, "-d", str(cache), *requirements]
-    if _run(fetch).returncode != 0:
+    fetched = _run(fetch).returncode
+    # pip copies the Tamis wheel it was given into the cache too; a stale copy there would
+    # stand in for the next build's own wheel (and its dependencies), so it never stays
+    for own in cache.glob("tamis-*.whl"):
+        own.unlink()
+    if fetched != 0:
         raise SystemExit(
             f"pip could not gather the wheels for {target.key} (see the messages above)"
         )

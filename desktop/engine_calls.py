@@ -134,6 +134,9 @@ def _warm_up_engine() -> None:
             "engine.report",
         ):
             importlib.import_module(name)
+        from engine.fitting.coordinate import warm_compiled_path
+
+        warm_compiled_path()  # before the freeze: loading it creates many objects
         gc.freeze()
         _warmed = True
     # the worker processes that heavy validations run in: started now, while the user is

@@ -103,7 +103,6 @@ UNUSED_PYTHON = [
     "lib2to3",
     "pydoc_data",
     "pyarrow",
-    "numba",
     "sqlalchemy",
     "tables",
     "h5py",

@@ -126,6 +126,15 @@ def _gradient(Q, q, beta, g):
 
 
 @njit(cache=_CACHE)
+def _gradient_of(Q, q, beta, g, pos, factored):
+    """g_j = q_j - Q[j] . beta for the columns in the factor (factored) or outside it."""
+    p = q.shape[0]
+    for j in range(p):
+        if (pos[j] >= 0) == factored:
+            g[j] = q[j] - _dot(Q[j], beta, p)
+
+
+@njit(cache=_CACHE)
 def _violation(g, beta, j, l1, l2):
     b = beta[j]
     if b == 0.0:
@@ -426,7 +435,13 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
             cand[j] = 0.0
         for i in range(k):
             cand[order[i]] = x[i]
-        _gradient(Q, q, cand, gcand)
+        # with most columns active, the gradient of the inactive ones alone (a dot with
+        # each of their rows) decides the try; the active ones follow only for an answer
+        by_rows = 2 * k > p
+        if by_rows:
+            _gradient_of(Q, q, cand, gcand, pos, False)
+        else:
+            _gradient(Q, q, cand, gcand)
         added = False
         for j in range(p):
             if pos[j] < 0 and abs(gcand[j]) - n * lam * mix * v[j] > accept_abs:
@@ -435,6 +450,8 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
                 sgn[j] = _sign(gcand[j])
                 added = True
         if not added:
+            if by_rows:
+                _gradient_of(Q, q, cand, gcand, pos, True)
             for j in range(p):
                 beta[j] = cand[j]
                 g[j] = gcand[j]

@@ -102,6 +102,9 @@ def test_bundle_command_line_runs_the_demo(bundle, env, tmp_path):
     lasso = next(m for m in json.loads(fit.stdout)["models"] if m["method"] == "lasso")
     # simulated known truth (demo/TRUTH.md): the three strongest true columns are found
     assert {"farm_altitude_m", "fermentation_hours", "defects_per_300g"} <= set(lasso["selected"])
+    # the lasso ran compiled: a frozen program keeps numba's machine code in the user's cache
+    cached = list((Path(env["HOME"]) / ".cache" / "numba").rglob("*gram_kernel*.nbi"))
+    assert cached, "the compiled path loop did not run in the bundle"
 
 
 def test_bundle_runs_validation_parts_in_worker_processes(bundle, env, tmp_path):

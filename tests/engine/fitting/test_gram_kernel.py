@@ -175,3 +175,14 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
         x = np.empty(k)
         gram_kernel._factor_solve(R, k, b, x)
         np.testing.assert_allclose(target @ x, b, atol=1e-9 * max(1.0, np.abs(b).max()))
+
+
+def test_warm_up_prepares_the_signature_real_fits_use():
+    # the window warms the compiled loop at launch; a real fit must then find its machine code
+    # ready (same argument types), not compile another version
+    co.warm_compiled_path()
+    before = set(gram_kernel.gram_path_chunk.signatures)
+    assert before
+    X, y = _data(60, 8, seed=11)
+    _compiled(X, y, mix=0.7, n_penalties=5)
+    assert set(gram_kernel.gram_path_chunk.signatures) == before

@@ -85,6 +85,8 @@ _MIN_MIX_FOR_GRID = 1e-3
 # a column whose training-part variance is below this share of its full-data variance is taken
 # as constant on that part (exact zero is lost to rounding in the Gram downdate)
 _CONSTANT_VARIANCE_SHARE = 1e-10
+# elements per block of rows when a Gram matrix is shifted and scaled in place
+_GRAM_BLOCK_ELEMENTS = 16384
 # the residual route keeps at least this many gathered standardized columns (or p/4)
 _CACHE_MIN_COLUMNS = 256
 
@@ -413,20 +415,27 @@ def gram_problem(
     d = cp.s / n  # mean of these rows minus m0
     e = cp.sy / n
     C = cp.G if overwrite else cp.G.copy()
-    shift = np.multiply.outer(d, d)  # symmetric to the last bit (so is every step below)
-    shift *= n
-    C -= shift
     cxy = cp.xy - n * d * e
     yy = cp.yy - n * e * e
-    var = np.diag(C).copy() / n
+    p = C.shape[0]
+    var = (np.diag(C) - (d * d) * n) / n  # the diagonal of the shifted C, as below
     const = np.zeros(var.shape[0], bool) if constant is None else constant.copy()
     if reference_var is not None:
         const |= var <= _CONSTANT_VARIANCE_SHARE * reference_var
     const |= var <= 0
     sds = np.sqrt(np.where(const, 1.0, var))
     inv = np.where(const, 0.0, 1.0 / sds)
+    # C - n d d' then scaled by inv_i inv_j, a block of rows at a time: small temporaries
+    # (whole p x p ones cost more in fresh memory pages than in arithmetic); every element is
+    # (d_i d_j) n and inv_i inv_j, symmetric to the last bit
     Q = C
-    Q *= np.multiply.outer(inv, inv)
+    step = max(1, _GRAM_BLOCK_ELEMENTS // max(p, 1))
+    for a in range(0, p, step):
+        rows = slice(a, min(a + step, p))
+        shift = np.multiply.outer(d[rows], d)
+        shift *= n
+        Q[rows] -= shift
+        Q[rows] *= np.multiply.outer(inv[rows], inv)
     np.fill_diagonal(Q, np.where(const, 0.0, n))  # exact n on the diagonal of Z'Z
     q = cxy * inv
     sc = _Scaling(n, m0 + d, sds, const, ybar0 + e)

@@ -59,6 +59,8 @@ def _blas(name: str, n_args: int, library: str):
 # triangular solves with a leading dimension (the factor lives in a p x p buffer), which the
 # library's Python wrappers do not offer; measured 3x faster here than the same loops compiled
 _dtrsv = _blas("dtrsv", 8, "blas")
+# the same with many right-hand sides (several columns bordering the factor at once)
+_dtrsm = _blas("dtrsm", 11, "blas")
 # Cholesky factorization (refactoring the elastic net's preconditioner at a new shift)
 _dpotrf = _blas("dpotrf", 5, "lapack")
 
@@ -85,7 +87,8 @@ _CG_TOL_SHARE = 1e-2
 
 # scratch arrays of one chunk (a named tuple: compiled code with it can be cached)
 _Scratch = namedtuple(
-    "_Scratch", "tmp x rhs shift_v work full cand gcand strong work_set members start"
+    "_Scratch",
+    "tmp x rhs shift_v work full cand gcand strong work_set members start cols block",
 )
 
 
@@ -95,6 +98,7 @@ def _make_scratch(cap, p):
         np.empty(cap), np.empty(cap), np.empty(cap), np.empty(cap), np.empty((6, cap)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
+        np.empty(p, dtype=np.int64), np.empty((p, cap)),
     )  # fmt: skip
 
 
@@ -197,6 +201,68 @@ def _factor_append(Q, R, order, pos, st, fs, v, j, tmp):
 
 
 @njit(cache=_CACHE)
+def _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, block):
+    """Border the factor with columns cols[:m] at once (one triangular solve with m
+    right-hand sides instead of m passes over the factor); False (factor unchanged) if one
+    of them is dependent on the others or the factored ones.
+    """
+    if m == 1:
+        return _factor_append(Q, R, order, pos, st, fs, v, cols[0], block[0])
+    k = st[0]
+    for c in range(m):  # block[c, :k] = Q[A, cols[c]]: column-major k x m to Fortran
+        row = Q[cols[c]]
+        out = block[c]
+        for i in range(k):
+            out[i] = row[order[i]]
+    if k > 0:
+        chars = np.empty(3, np.uint8)
+        chars[0] = 76  # "L": side left, and R is lower to Fortran
+        chars[1] = 78  # "N"
+        chars[2] = 78
+        ints = np.empty(4, np.int32)
+        ints[0] = k
+        ints[1] = m
+        ints[2] = R.shape[1]
+        ints[3] = block.shape[1]
+        one = np.ones(1)
+        _dtrsm(
+            chars[0:].ctypes, chars[0:].ctypes, chars[1:].ctypes, chars[2:].ctypes,
+            ints[0:].ctypes, ints[1:].ctypes, one.ctypes, R.ctypes, ints[2:].ctypes,
+            block.ctypes, ints[3:].ctypes,
+        )  # fmt: skip
+    # the new diagonal block: Q[J, J] + shift - X'X, factored in place (upper, row-major)
+    corner = np.empty((m, m))
+    for a in range(m):
+        ja = cols[a]
+        for b in range(a, m):
+            value = Q[ja, cols[b]] - _dot(block[a], block[b], k)
+            if b == a:
+                value += fs[0] * v[ja]
+            corner[a, b] = value
+    for a in range(m):  # right-looking Cholesky of the corner (upper)
+        d = corner[a, a]
+        if not d > _DEPENDENT_SHARE * (Q[cols[a], cols[a]] + fs[0] * v[cols[a]]):
+            return False
+        d = np.sqrt(d)
+        corner[a, a] = d
+        for b in range(a + 1, m):
+            corner[a, b] /= d
+        for b in range(a + 1, m):
+            f = corner[a, b]
+            for c in range(b, m):
+                corner[b, c] -= f * corner[a, c]
+    for c in range(m):
+        for i in range(k):
+            R[i, k + c] = block[c, i]
+        for a in range(c + 1):
+            R[k + a, k + c] = corner[a, c]
+        order[k + c] = cols[c]
+        pos[cols[c]] = k + c
+    st[0] = k + m
+    return True
+
+
+@njit(cache=_CACHE)
 def _refactor(Q, R, order, st, fs, v, shift):
     """Factor the current set afresh at a new shift (LAPACK dpotrf); False if it fails."""
     k = st[0]
@@ -260,7 +326,7 @@ def _factor_solve(R, k, b, x):
 
 
 @njit(cache=_CACHE)
-def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, tmp):
+def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, cols, block):
     """Make the factored set equal ``members`` (bool mask); False if a column is dependent.
 
     An empty factor starts at the given shift (elastic net: n*lambda*(1-mix); lasso: 0).
@@ -270,10 +336,18 @@ def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, tmp):
             _factor_delete(R, order, pos, st, m)
     if st[0] == 0:
         fs[0] = shift
+    m = 0
     for j in range(members.shape[0]):
         if members[j] and pos[j] < 0:
-            if not _factor_append(Q, R, order, pos, st, fs, v, j, tmp):
-                return False
+            cols[m] = j
+            m += 1
+    if m == 0:
+        return True
+    if _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, block):
+        return True
+    for t in range(m):  # one of them is dependent: one at a time, to the first refusal
+        if not _factor_append(Q, R, order, pos, st, fs, v, cols[t], block[0]):
+            return False
     return True
 
 
@@ -442,13 +516,16 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
             _gradient_of(Q, q, cand, gcand, pos, False)
         else:
             _gradient(Q, q, cand, gcand)
-        added = False
+        cols = scratch.cols
+        m = 0
         for j in range(p):
             if pos[j] < 0 and abs(gcand[j]) - n * lam * mix * v[j] > accept_abs:
-                if not _factor_append(Q, R, order, pos, st, fs, v, j, scratch.tmp):
-                    return False
+                cols[m] = j
+                m += 1
                 sgn[j] = _sign(gcand[j])
-                added = True
+        if m > 0 and not _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, scratch.block):
+            return False
+        added = m > 0
         if not added:
             if by_rows:
                 _gradient_of(Q, q, cand, gcand, pos, True)
@@ -508,7 +585,10 @@ def _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_ab
         members[j] = beta[j] != 0.0
         sgn[j] = _sign(beta[j])
     shift = n * lam * (1.0 - mix)
-    if not _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp) or st[0] == 0:
+    if (
+        not _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block)
+        or st[0] == 0
+    ):
         return
     x = scratch.x
     if not _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch):
@@ -615,13 +695,15 @@ def gram_path_chunk(
                         any_active = True
             g_before[j] = g[j]
         synced = any_active and _sync_factor(
-            Q, R, order, pos, st, fs, v, members, shift, scratch.tmp
+            Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block
         )
         if any_active and not synced:  # a guessed column is dependent: the plain set
             for j in range(p):
                 members[j] = beta[j] != 0.0
                 sgn[j] = _sign(beta[j])
-            synced = _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.tmp)
+            synced = _sync_factor(
+                Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block
+            )
         if synced and st[0] > 0:
             exact = _try_exact(
                 Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch

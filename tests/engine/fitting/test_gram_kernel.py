@@ -152,12 +152,19 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
     st = np.zeros(6, dtype=np.int64)
     fs = np.array([0.0, 0.0])
     tmp = np.empty(p)
-    for step in range(200):
+    for step in range(300):
         k = int(st[0])
         if k and (rng.random() < 0.35 or k == p):
             gram_kernel._factor_delete(R, order, pos, st, int(rng.integers(k)))
         elif step % 50 == 49:
             assert gram_kernel._refactor(Q, R, order, st, fs, v, float(rng.uniform(0, 5)))
+        elif step % 3 == 0 and p - k >= 2:  # several columns bordered at once
+            free = np.flatnonzero(pos < 0)
+            cols = rng.choice(free, size=int(rng.integers(2, min(6, free.size) + 1)), replace=False)
+            block = np.empty((p, p))
+            assert gram_kernel._factor_append_many(
+                Q, R, order, pos, st, fs, v, cols.astype(np.int64), cols.size, block
+            )
         else:
             j = int(rng.choice(np.flatnonzero(pos < 0)))
             assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, j, tmp)
@@ -186,3 +193,27 @@ def test_warm_up_prepares_the_signature_real_fits_use():
     X, y = _data(60, 8, seed=11)
     _compiled(X, y, mix=0.7, n_penalties=5)
     assert set(gram_kernel.gram_path_chunk.signatures) == before
+
+
+def test_a_dependent_column_in_a_block_leaves_the_factor_unchanged():
+    # common practice: a column that is a combination of others has no Cholesky pivot left
+    rng = np.random.default_rng(6)
+    A = rng.normal(size=(40, 6))
+    A = np.column_stack([A, A[:, 1] - A[:, 2]])  # column 6 depends on columns 1 and 2
+    Q = np.ascontiguousarray(A.T @ A)
+    p = 7
+    R, order = np.zeros((p, p)), np.zeros(p, dtype=np.int64)
+    pos, st, fs, v = (
+        np.full(p, -1, dtype=np.int64),
+        np.zeros(6, dtype=np.int64),
+        np.zeros(2),
+        np.ones(p),
+    )
+    block = np.empty((p, p))
+    assert gram_kernel._factor_append_many(Q, R, order, pos, st, fs, v, np.array([0, 1]), 2, block)
+    before = (R.copy(), order.copy(), pos.copy(), int(st[0]))
+    assert not gram_kernel._factor_append_many(
+        Q, R, order, pos, st, fs, v, np.array([2, 6, 3]), 3, block
+    )
+    assert int(st[0]) == before[3] and np.array_equal(pos, before[2])
+    assert np.array_equal(R[:2, :2], before[0][:2, :2])

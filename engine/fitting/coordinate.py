@@ -1129,7 +1129,8 @@ def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den
     kkt = np.zeros(L)
     beta, g, g_before, ever = np.zeros(p), q.copy(), q.copy(), np.zeros(p, bool)
     order, pos = np.zeros(p, dtype=np.int64), np.full(p, -1, dtype=np.int64)
-    R, sgn, sizes = np.zeros((p, p)), np.zeros(p), np.zeros(6, dtype=np.int64)
+    R, sgn, sizes = np.empty((p, p)), np.zeros(p), np.zeros(6, dtype=np.int64)
+    scratch = gram_kernel.new_scratch(p)
     # [shift of the factor, previous penalty]
     shifts = np.array([0.0, max(_lambda_max_of(q, n, mix, v), float(lams[0]) if L else 0.0)])
     # progress and cancel are looked at between chunks of about a twentieth of the path
@@ -1144,7 +1145,7 @@ def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den
         status, _ = gram_kernel.gram_path_chunk(
             Q, q, float(n), lams, k0, k1, float(mix), v, _EXACT_ACCEPT * scale_den,
             tol * scale_den, _RETRY_VIOLATION * scale_den, _RETRY_TOL_FACTOR, int(max_sweeps),
-            beta, g, g_before, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt,
+            beta, g, g_before, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt, scratch,
         )  # fmt: skip
         if status != gram_kernel.OK:
             return None

@@ -85,20 +85,21 @@ _REFACTOR_AFTER = 6
 # level (about 1e-12 scale-free, against 1e-15 for the direct lasso solve)
 _CG_TOL_SHARE = 1e-2
 
-# scratch arrays of one chunk (a named tuple: compiled code with it can be cached)
+# working arrays of one path (a named tuple: compiled code taking it can be cached). They are
+# made by numpy in the caller, once per path, so memory tracing sees them
 _Scratch = namedtuple(
     "_Scratch",
     "tmp x rhs shift_v work full cand gcand strong work_set members start cols block",
 )
 
 
-@njit(cache=_CACHE)
-def _make_scratch(cap, p):
+def new_scratch(p: int) -> _Scratch:
+    """Working arrays for a path on p columns (the block rows are touched only as used)."""
     return _Scratch(
-        np.empty(cap), np.empty(cap), np.empty(cap), np.empty(cap), np.empty((6, cap)),
+        np.empty(p), np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
-        np.empty(p, dtype=np.int64), np.empty((p, cap)),
+        np.empty(p, dtype=np.int64), np.empty((p, p)),
     )  # fmt: skip
 
 
@@ -303,6 +304,9 @@ def _factor_delete(R, order, pos, st, m):
         a = R[jj, jj]
         b = R[jj + 1, jj]
         r = np.hypot(a, b)
+        if r == 0.0:  # cannot happen for a positive definite block; keep the shape anyway
+            R[jj + 1, jj] = 0.0
+            continue
         c = a / r
         s = b / r
         R[jj, jj] = r
@@ -428,6 +432,8 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
                     break
             _factor_solve(R, k, res, z)
             rz_new = _dot(res, z, k)
+            if not rz > 0.0:
+                break
             beta_cg = rz_new / rz
             rz = rz_new
             for i in range(k):
@@ -648,6 +654,7 @@ def _descent_round(
 def gram_path_chunk(
     Q, q, n, lams, k0, k1, mix, v, accept_abs, cd_tol_abs, retry_abs, tight_factor,
     max_sweeps, beta, g, g_before, ever, order, pos, R, sgn, st, fs, B_out, iters_out, kkt_out,
+    scratch,
 ):  # fmt: skip
     """Penalties lams[k0:k1] from the state left by the previous chunk.
 
@@ -656,11 +663,10 @@ def gram_path_chunk(
     set), the factor (order, pos, R; fs = [its shift, the previous penalty]) and counters
     st = [factor size, conjugate-gradient iterations of the last solve, all of them,
     refactorings, exact tries, descents]. Writes rows k0..k1-1 of B_out, iters_out,
-    kkt_out (kkt in absolute units). Returns (OK, k1) or (FAILED, k) with k the penalty that
-    could not be solved.
+    kkt_out (kkt in absolute units); scratch: ``new_scratch(p)``. Returns (OK, k1) or
+    (FAILED, k) with k the penalty that could not be solved.
     """
     p = q.shape[0]
-    scratch = _make_scratch(R.shape[0], p)
     members = scratch.members
     for k in range(k0, k1):
         lam = lams[k]
@@ -673,7 +679,9 @@ def gram_path_chunk(
         # enter, coefficients the extrapolation takes across zero leave (each wrong guess
         # costs one more try; every answer is still checked against all conditions)
         start = scratch.start
-        t = (lam - lams[k - 1]) / (lams[k - 1] - lams[k - 2]) if k >= 2 else 0.0
+        t = 0.0
+        if k >= 2 and lams[k - 2] > lams[k - 1]:  # a grid may repeat a penalty
+            t = (lam - lams[k - 1]) / (lams[k - 1] - lams[k - 2])
         for j in range(p):
             b = beta[j]
             start[j] = b

@@ -217,3 +217,16 @@ def test_a_dependent_column_in_a_block_leaves_the_factor_unchanged():
     )
     assert int(st[0]) == before[3] and np.array_equal(pos, before[2])
     assert np.array_equal(R[:2, :2], before[0][:2, :2])
+
+
+def test_repeated_and_zero_penalties(monkeypatch):
+    # a grid the user typed may repeat a penalty and end at 0 (least squares, common practice:
+    # the lasso at penalty 0 is OLS when rows outnumber columns)
+    X, y = _data(120, 10, seed=12)
+    lam = [0.5, 0.5, 0.2, 0.2, 0.2, 0.05, 0.0]
+    fast = _compiled(X, y, mix=1.0, penalties=lam)
+    slow = _interpreted(monkeypatch, X, y, mix=1.0, penalties=lam)
+    np.testing.assert_allclose(fast.coefs, slow.coefs, rtol=1e-9, atol=1e-12)
+    ols = np.linalg.lstsq(np.column_stack([np.ones(120), X]), y, rcond=None)[0]
+    np.testing.assert_allclose(fast.coefs[-1], ols[1:], rtol=1e-9)
+    assert np.array_equal(fast.coefs[0], fast.coefs[1])

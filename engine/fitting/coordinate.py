@@ -983,6 +983,11 @@ def solve_path(
     iters = np.zeros(L, dtype=int)
     kkt = np.zeros(L)
     notes: list[str] = []
+    if isinstance(prob, _GramProblem) and mix > 0 and gram_kernel.DISABLED_BECAUSE:
+        notes.append(
+            "the compiled fitting loop could not run here "
+            f"({gram_kernel.DISABLED_BECAUSE}); the slower interpreted loop gave these results"
+        )
     accept_abs = _EXACT_ACCEPT * scale_den
     rng = np.random.RandomState(0)  # only seeds the unused random-order option
     direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
@@ -1142,11 +1147,16 @@ def _compiled_path(prob, penalties, mix, v, tol, max_sweeps, progress, scale_den
                 progress.step(k0 / L, f"penalty {k0 + 1} of {L}")
             else:
                 progress.check()
-        status, _ = gram_kernel.gram_path_chunk(
-            Q, q, float(n), lams, k0, k1, float(mix), v, _EXACT_ACCEPT * scale_den,
-            tol * scale_den, _RETRY_VIOLATION * scale_den, _RETRY_TOL_FACTOR, int(max_sweeps),
-            beta, g, g_before, ever, order, pos, R, sgn, sizes, shifts, B, iters, kkt, scratch,
-        )  # fmt: skip
+        try:
+            status, _ = gram_kernel.gram_path_chunk(
+                Q, q, float(n), lams, k0, k1, float(mix), v, _EXACT_ACCEPT * scale_den,
+                tol * scale_den, _RETRY_VIOLATION * scale_den, _RETRY_TOL_FACTOR,
+                int(max_sweeps), beta, g, g_before, ever, order, pos, R, sgn, sizes, shifts, B,
+                iters, kkt, scratch,
+            )  # fmt: skip
+        except Exception as exc:  # its machine code could not be made or loaded on this machine
+            gram_kernel.disable(f"{type(exc).__name__}: {exc}")
+            return None
         if status != gram_kernel.OK:
             return None
     global _LAST_COUNTERS

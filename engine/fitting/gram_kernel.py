@@ -64,6 +64,17 @@ _dtrsm = _blas("dtrsm", 11, "blas")
 # Cholesky factorization (refactoring the elastic net's preconditioner at a new shift)
 _dpotrf = _blas("dpotrf", 5, "lapack")
 
+# why the compiled loop was switched off in this process (it failed to build or load), if it was
+DISABLED_BECAUSE = ""
+
+
+def disable(reason: str) -> None:
+    """Use the interpreted loop for the rest of this process (paths then carry a note)."""
+    global AVAILABLE, DISABLED_BECAUSE
+    AVAILABLE = False
+    DISABLED_BECAUSE = reason[:200]
+
+
 # compiled code is cached on disk: next to this file, or in the user's cache folder when that is
 # read-only or the program is a frozen bundle (numba keys that cache on the executable)
 _CACHE = True

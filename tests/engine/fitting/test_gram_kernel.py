@@ -230,3 +230,21 @@ def test_repeated_and_zero_penalties(monkeypatch):
     ols = np.linalg.lstsq(np.column_stack([np.ones(120), X]), y, rcond=None)[0]
     np.testing.assert_allclose(fast.coefs[-1], ols[1:], rtol=1e-9)
     assert np.array_equal(fast.coefs[0], fast.coefs[1])
+
+
+def test_a_loop_that_cannot_be_built_leaves_the_interpreted_route_and_a_note(monkeypatch):
+    # e.g. numba's code generator failing on an unusual machine: the fit must still come out,
+    # from the interpreted loop, and say so
+    def cannot_build(*args):
+        raise RuntimeError("no code generator for this processor")
+
+    monkeypatch.setattr(gram_kernel, "gram_path_chunk", cannot_build)
+    monkeypatch.setattr(gram_kernel, "AVAILABLE", True)
+    monkeypatch.setattr(gram_kernel, "DISABLED_BECAUSE", "")
+    X, y = _data(150, 12, seed=13)
+    path = elastic_net_path(X, y, mix=1.0, n_penalties=20)
+    assert gram_kernel.AVAILABLE is False
+    assert any("no code generator" in note for note in path.notes)
+    assert path.max_kkt_violation < 1e-9
+    slow = _interpreted(monkeypatch, X, y, mix=1.0, penalties=path.penalties)
+    np.testing.assert_array_equal(path.std_coefs, slow.std_coefs)

@@ -144,6 +144,11 @@ cp "$KIT/uninstall.sh" "$PREFIX/uninstall.sh"
 chmod 755 "$PREFIX/uninstall.sh"
 
 "$PREFIX/venv/bin/tamis" --version >/dev/null || fail "the installed command does not start"
+# the compiled fitting loop is made once here (kept inside the installation), not at the
+# user's first large fit; if it cannot be made, fits use the interpreted loop and say so
+say "preparing the compiled fitting loop (about 20 seconds, once)"
+"$PREFIX/venv/bin/python" -c "from engine.fitting.coordinate import warm_compiled_path as w; w()" \
+  || say "the compiled fitting loop could not be prepared now; the first large fit will try again"
 say "done: Tamis $VERSION is in $PREFIX"
 say "command line: $PREFIX/venv/bin/tamis (linked as ~/.local/bin/tamis unless --no-shortcuts)"
 say "to remove it: $PREFIX/uninstall.sh"

@@ -5,13 +5,15 @@ loop compiled (numba), so that a penalty costs its arithmetic and not the 30-50 
 calls of the interpreted loop. Per penalty lambda, with l1 = n*lambda*mix*v_j and
 l2 = n*lambda*(1-mix)*v_j:
 
-1. Exact step: on the previous active set A with signs s, solve
+1. Exact step: on an active set A with signs s, solve
    (Z_A'Z_A + diag(l2_A)) b_A = Z_A'yc - l1_A * s; drop a coefficient whose sign flips, add the
-   columns that violate their condition, up to six tries. The Cholesky factor R'R = Z_A'Z_A is
-   kept across penalties and changed one column at a time (bordering to add; Givens rotations
-   to remove). The lasso solves with it directly; the elastic net by conjugate gradients
-   preconditioned with it (the ridge shift is small against Z_A'Z_A along most of the path,
-   so a few iterations reach rounding level).
+   columns that violate their condition, up to six tries. The first try takes A and s
+   extrapolated from the last two penalties. One Cholesky factor R'R = Z_A'Z_A + s0*V_A is kept
+   across penalties and changed a few columns at a time (bordering, in one block when several
+   enter; Givens rotations when one leaves). The lasso (s0 = 0) solves with it directly; the
+   elastic net, whose shift n*lambda*(1-mix) moves with every penalty, by conjugate gradients
+   preconditioned with the factor of an earlier shift s0 (eigenvalues between s/s0 and 1),
+   refactored at the current shift when a solve needed more than a few steps.
 2. Otherwise cyclic coordinate descent with covariance updates on the strong set
    (Tibshirani et al. 2012), grown by the columns violating their condition outside it, then
    the exact step on the set descent found ("polish") if it improves the conditions.

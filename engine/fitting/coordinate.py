@@ -971,7 +971,8 @@ def solve_path(
     n = prob.n
     L = penalties.shape[0]
     scale_den = kkt_scale if kkt_scale is not None else _g_scale(prob)
-    if isinstance(prob, _GramProblem) and mix > 0 and gram_kernel.AVAILABLE:
+    compiled_kind = isinstance(prob, _GramProblem) and mix > 0  # what the compiled loop solves
+    if compiled_kind and gram_kernel.AVAILABLE:
         compiled = _compiled_path(
             prob, penalties, mix, v, tol, max_sweeps, progress, scale_den, sink, report_steps
         )
@@ -983,7 +984,7 @@ def solve_path(
     iters = np.zeros(L, dtype=int)
     kkt = np.zeros(L)
     notes: list[str] = []
-    if isinstance(prob, _GramProblem) and mix > 0 and gram_kernel.DISABLED_BECAUSE:
+    if compiled_kind and gram_kernel.DISABLED_BECAUSE:
         notes.append(
             "the compiled fitting loop could not run here "
             f"({gram_kernel.DISABLED_BECAUSE}); the slower interpreted loop gave these results"

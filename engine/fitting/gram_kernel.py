@@ -61,7 +61,7 @@ def _blas(name: str, n_args: int, library: str):
 # triangular solves with a leading dimension (the factor lives in a p x p buffer), which the
 # library's Python wrappers do not offer; measured 3x faster here than the same loops compiled
 _dtrsv = _blas("dtrsv", 8, "blas")
-# the same with many right-hand sides (several columns bordering the factor at once)
+# the same with many right-hand sides (columns bordering the factor)
 _dtrsm = _blas("dtrsm", 11, "blas")
 # Cholesky factorization (refactoring the elastic net's preconditioner at a new shift)
 _dpotrf = _blas("dpotrf", 5, "lapack")
@@ -102,14 +102,14 @@ _CG_TOL_SHARE = 1e-2
 # made by numpy in the caller, once per path, so memory tracing sees them
 _Scratch = namedtuple(
     "_Scratch",
-    "tmp x rhs shift_v work full cand gcand strong work_set members start cols block",
+    "x rhs shift_v work full cand gcand strong work_set members start cols block",
 )
 
 
 def new_scratch(p: int) -> _Scratch:
     """Working arrays for a path on p columns (the block rows are touched only as used)."""
     return _Scratch(
-        np.empty(p), np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
+        np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
         np.empty(p, dtype=np.int64), np.empty((p, p)),
@@ -194,41 +194,20 @@ def _triangular(R, k, x, transposed):
 
 
 @njit(cache=_CACHE)
-def _factor_append(Q, R, order, pos, st, fs, v, j, tmp):
-    """Border the factor with column j; False (factor unchanged) if j is dependent."""
-    k = st[0]
-    shift = fs[0] * v[j]
-    for i in range(k):
-        tmp[i] = Q[j, order[i]]
-    _triangular(R, k, tmp, False)  # R' r = (Q + shift)[A, j]
-    own = Q[j, j] + shift
-    d = own - _dot(tmp, tmp, k)
-    if not d > _DEPENDENT_SHARE * own:
-        return False
-    for i in range(k):
-        R[i, k] = tmp[i]
-    R[k, k] = np.sqrt(d)
-    order[k] = j
-    pos[j] = k
-    st[0] = k + 1
-    return True
-
-
-@njit(cache=_CACHE)
-def _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, block):
-    """Border the factor with columns cols[:m] at once (one triangular solve with m
-    right-hand sides instead of m passes over the factor); False (factor unchanged) if one
-    of them is dependent on the others or the factored ones.
+def _factor_append(Q, R, order, pos, st, fs, v, cols, m, block):
+    """Border the factor of Z_A'Z_A + s0*V_A with columns cols[:m] at once (one triangular
+    solve with m right-hand sides instead of m passes over the factor); False (factor
+    unchanged) if one of them is dependent on the others or on the factored ones.
     """
-    if m == 1:
-        return _factor_append(Q, R, order, pos, st, fs, v, cols[0], block[0])
     k = st[0]
     for c in range(m):  # block[c, :k] = Q[A, cols[c]]: column-major k x m to Fortran
         row = Q[cols[c]]
         out = block[c]
         for i in range(k):
             out[i] = row[order[i]]
-    if k > 0:
+    if k > 0 and m == 1:  # one right-hand side: the vector solve is the faster call
+        _triangular(R, k, block[0], False)
+    elif k > 0:
         chars = np.empty(3, np.uint8)
         chars[0] = 76  # "L": side left, and R is lower to Fortran
         chars[1] = 78  # "N"
@@ -360,10 +339,10 @@ def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, cols, block):
             m += 1
     if m == 0:
         return True
-    if _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, block):
+    if _factor_append(Q, R, order, pos, st, fs, v, cols, m, block):
         return True
     for t in range(m):  # one of them is dependent: one at a time, to the first refusal
-        if not _factor_append(Q, R, order, pos, st, fs, v, cols[t], block[0]):
+        if not _factor_append(Q, R, order, pos, st, fs, v, cols[t:], 1, block):
             return False
     return True
 
@@ -542,7 +521,7 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
                 cols[m] = j
                 m += 1
                 sgn[j] = _sign(gcand[j])
-        if m > 0 and not _factor_append_many(Q, R, order, pos, st, fs, v, cols, m, scratch.block):
+        if m > 0 and not _factor_append(Q, R, order, pos, st, fs, v, cols, m, scratch.block):
             return False
         added = m > 0
         if not added:

@@ -18,7 +18,6 @@ from __future__ import annotations
 
 __all__ = ["cross_validate_path", "fold_errors", "estimated_seconds", "shared_cross_products"]
 
-import os
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
@@ -47,6 +46,7 @@ from engine.tuning.parts import (
     BoardProgress,
     SharedArrays,
     board_folder,
+    forced_placement,
     mean_and_se,
     process_pool_worthwhile,
     run_parts,
@@ -222,9 +222,9 @@ def _placement(
     elif parallel == "auto":
         if compiled:
             # the compiled path releases the interpreter lock: threads, unless processes are
-            # asked for by name (TAMIS_PARALLEL, for checks)
-            forced = os.environ.get("TAMIS_PARALLEL", "").strip().lower() == "processes"
-            parallel = "processes" if forced and process_pool_worthwhile(0, workers) else "threads"
+            # asked for by name (TAMIS_PARALLEL, for checks) and can be started
+            asked = forced_placement() == "processes"
+            parallel = "processes" if asked and process_pool_worthwhile(0, workers) else "threads"
         else:
             parallel = "processes" if process_pool_worthwhile(estimate, workers) else "threads"
     if parallel == "threads" and mix > 0 and not factors_per_part and not compiled:

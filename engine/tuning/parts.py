@@ -24,6 +24,7 @@ __all__ = [
     "run_parts",
     "run_parts_in_processes",
     "process_pool_worthwhile",
+    "forced_placement",
     "warm_process_pool",
     "stop_worker_processes",
     "SharedArrays",
@@ -103,6 +104,12 @@ def _pool_is_warm() -> bool:
     return last is not None and time.monotonic() - last < _IDLE_SECONDS
 
 
+def forced_placement() -> str | None:
+    """ "processes" or "threads" when TAMIS_PARALLEL asks for it by name (checks, benchmarks)."""
+    forced = os.environ.get("TAMIS_PARALLEL", "").strip().lower()
+    return forced if forced in ("processes", "threads") else None
+
+
 def process_pool_worthwhile(estimated_seconds: float, workers: int) -> bool:
     """Whether parts estimated to take ``estimated_seconds`` in all should go to processes.
 
@@ -111,8 +118,8 @@ def process_pool_worthwhile(estimated_seconds: float, workers: int) -> bool:
     """
     if workers < 2 or not processes_supported():
         return False
-    forced = os.environ.get("TAMIS_PARALLEL", "").strip().lower()
-    if forced in ("processes", "threads"):
+    forced = forced_placement()
+    if forced is not None:
         return forced == "processes"
     limit = _WARM_WORTH if _pool_is_warm() else _COLD_START_WORTH
     return estimated_seconds >= limit

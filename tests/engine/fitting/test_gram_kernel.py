@@ -151,7 +151,7 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
     pos = np.full(p, -1, dtype=np.int64)
     st = np.zeros(6, dtype=np.int64)
     fs = np.array([0.0, 0.0])
-    tmp = np.empty(p)
+    block = np.empty((p, p))
     for step in range(300):
         k = int(st[0])
         if k and (rng.random() < 0.35 or k == p):
@@ -161,13 +161,12 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
         elif step % 3 == 0 and p - k >= 2:  # several columns bordered at once
             free = np.flatnonzero(pos < 0)
             cols = rng.choice(free, size=int(rng.integers(2, min(6, free.size) + 1)), replace=False)
-            block = np.empty((p, p))
-            assert gram_kernel._factor_append_many(
+            assert gram_kernel._factor_append(
                 Q, R, order, pos, st, fs, v, cols.astype(np.int64), cols.size, block
             )
         else:
             j = int(rng.choice(np.flatnonzero(pos < 0)))
-            assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, j, tmp)
+            assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, np.array([j]), 1, block)
         k = int(st[0])
         S = order[:k]
         assert np.all(pos[S] == np.arange(k)) and np.count_nonzero(pos >= 0) == k
@@ -210,9 +209,9 @@ def test_a_dependent_column_in_a_block_leaves_the_factor_unchanged():
         np.ones(p),
     )
     block = np.empty((p, p))
-    assert gram_kernel._factor_append_many(Q, R, order, pos, st, fs, v, np.array([0, 1]), 2, block)
+    assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, np.array([0, 1]), 2, block)
     before = (R.copy(), order.copy(), pos.copy(), int(st[0]))
-    assert not gram_kernel._factor_append_many(
+    assert not gram_kernel._factor_append(
         Q, R, order, pos, st, fs, v, np.array([2, 6, 3]), 3, block
     )
     assert int(st[0]) == before[3] and np.array_equal(pos, before[2])

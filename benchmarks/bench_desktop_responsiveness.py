@@ -32,9 +32,9 @@ def main() -> int:
     )
     args = ap.parse_args()
     if not args.default_switch:
-        from engine.context import tune_thread_switching
+        from engine.context import tune_own_process
 
-        tune_thread_switching()  # as desktop.app.main does
+        tune_own_process()  # as desktop.app.main does
 
     import numpy as np
     from PySide6.QtCore import QTimer

@@ -34,9 +34,11 @@ import time
 import tracemalloc
 import warnings
 
-import numpy as np
-
 sys.path.insert(0, os.path.join(os.path.dirname(__file__), ".."))
+# the engine first, as in the app: its BLAS thread setting applies only before numpy loads
+import engine  # noqa: E402, F401, I001
+
+import numpy as np  # noqa: E402
 
 from engine.fitting.coordinate import (  # noqa: E402
     elastic_net_path,
@@ -341,6 +343,9 @@ def main(argv=None):
     ap.add_argument("--json", help="append result rows to this JSON-lines file")
     ap.add_argument("--render", help="print a markdown table of a --json file and stop")
     args = ap.parse_args(argv)
+    from engine.context import tune_own_process
+
+    tune_own_process()  # as the command line does for a fit
     if args.render:
         print(render(args.render))
         return

@@ -21,6 +21,9 @@ The map, one concept per module:
 Nothing is imported here, so ``tamis --help`` stays instant.
 """
 
+# the engine before anything loads numpy: its BLAS thread setting applies only then
+import engine  # noqa: F401, E402
+
 __all__ = ["main"]
 
 

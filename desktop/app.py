@@ -40,9 +40,9 @@ def main(argv: Sequence[str] | None = None) -> int:
         )
         return 0
     book = next((a for a in args if not a.startswith("-")), None)
-    from engine.context import tune_thread_switching
+    from engine.context import tune_own_process
 
-    tune_thread_switching()  # the event loop gets the interpreter lock often during a fit
+    tune_own_process()  # the event loop gets the interpreter lock often during a fit
     app = make_app()
 
     from desktop.main_window import MainWindow

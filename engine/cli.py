@@ -18,7 +18,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
-from engine.context import Context, default_context, tune_thread_switching
+from engine.context import Context, default_context, tune_own_process
 from engine.errors import TamisError
 from engine.methods import DEFAULT_METHODS, METHODS
 
@@ -183,7 +183,7 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
     if ctx is None:
         ctx = default_context()
-        tune_thread_switching()  # a real process of our own, not a test calling main
+        tune_own_process()  # a real process of our own, not a test calling main
     argv = list(sys.argv[1:] if argv is None else argv)
     parser = build_parser()
     try:

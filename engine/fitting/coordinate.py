@@ -360,10 +360,12 @@ class CrossProducts:
             self.yy + other.yy,
         )
 
-    def minus(self, other: CrossProducts) -> CrossProducts:
+    def minus(self, other: CrossProducts, gram: bool = True) -> CrossProducts:
+        """The difference; with gram False its G is still ``self.G`` (for ``gram_problem``'s
+        ``less``, which subtracts ``other.G`` while standardizing: no p x p temporary)."""
         return CrossProducts(
             self.n - other.n,
-            self.G - other.G,
+            self.G - other.G if gram else self.G,
             self.s - other.s,
             self.xy - other.xy,
             self.sy - other.sy,
@@ -404,39 +406,52 @@ def gram_problem(
     constant: np.ndarray | None = None,
     reference_var: np.ndarray | None = None,
     overwrite: bool = False,
+    less: np.ndarray | None = None,
 ) -> tuple[_GramProblem, _Scaling]:
     """Standardized Gram problem of the rows summarized in ``cp``.
 
     constant: columns known to be constant (exact test); reference_var: full-data variances, to
     spot columns that are constant on these rows only (variance share below 1e-10).
     overwrite: ``cp.G`` may become the problem's Z'Z (saves two p x p temporaries per part).
+    less: cross products to subtract from ``cp.G`` first (a training part: all rows minus the
+    held-out ones; ``cp`` from ``minus(..., gram=False)``), done in the same pass.
     """
     n = cp.n
     d = cp.s / n  # mean of these rows minus m0
     e = cp.sy / n
-    C = cp.G if overwrite else cp.G.copy()
     cxy = cp.xy - n * d * e
     yy = cp.yy - n * e * e
-    p = C.shape[0]
-    var = (np.diag(C) - (d * d) * n) / n  # the diagonal of the shifted C, as below
+    p = cp.G.shape[0]
+    diagonal = np.diag(cp.G) if less is None else np.diag(cp.G) - np.diag(less)
+    var = (diagonal - (d * d) * n) / n  # the diagonal of the shifted C, as below
     const = np.zeros(var.shape[0], bool) if constant is None else constant.copy()
     if reference_var is not None:
         const |= var <= _CONSTANT_VARIANCE_SHARE * reference_var
     const |= var <= 0
     sds = np.sqrt(np.where(const, 1.0, var))
     inv = np.where(const, 0.0, 1.0 / sds)
-    # C - n d d' then scaled by inv_i inv_j, a block of rows at a time: small temporaries
-    # (whole p x p ones cost more in fresh memory pages than in arithmetic); every element is
-    # (d_i d_j) n and inv_i inv_j, symmetric to the last bit
-    Q = C
-    step = max(1, _GRAM_BLOCK_ELEMENTS // max(p, 1))
-    for a in range(0, p, step):
-        rows = slice(a, min(a + step, p))
-        shift = np.multiply.outer(d[rows], d)
-        shift *= n
-        Q[rows] -= shift
-        Q[rows] *= np.multiply.outer(inv[rows], inv)
-    np.fill_diagonal(Q, np.where(const, 0.0, n))  # exact n on the diagonal of Z'Z
+    Q = cp.G if overwrite and less is None else np.empty((p, p))
+    if gram_kernel.AVAILABLE:
+        subtract = less is not None
+        gram_kernel.standardize_gram(
+            cp.G, less if subtract else cp.G, subtract, d, n, inv, const, Q
+        )
+    else:
+        if less is not None:
+            np.subtract(cp.G, less, out=Q)
+        elif Q is not cp.G:
+            Q[...] = cp.G
+        # C - n d d' then scaled by inv_i inv_j, a block of rows at a time: small temporaries
+        # (whole p x p ones cost more in fresh memory pages than in arithmetic); every element
+        # is (d_i d_j) n and inv_i inv_j, symmetric to the last bit
+        step = max(1, _GRAM_BLOCK_ELEMENTS // max(p, 1))
+        for a in range(0, p, step):
+            rows = slice(a, min(a + step, p))
+            shift = np.multiply.outer(d[rows], d)
+            shift *= n
+            Q[rows] -= shift
+            Q[rows] *= np.multiply.outer(inv[rows], inv)
+        np.fill_diagonal(Q, np.where(const, 0.0, n))  # exact n on the diagonal of Z'Z
     q = cxy * inv
     sc = _Scaling(n, m0 + d, sds, const, ybar0 + e)
     return _GramProblem(Q, q, yy, n), sc
@@ -478,16 +493,18 @@ class SharedCrossProducts:
     def problem(self, X, y, train: np.ndarray, test: np.ndarray | None = None):
         n = X.shape[0]
         outside = None if test is None else self.held.get(test.tobytes())
-        if outside is not None and outside.n + train.shape[0] == n:
-            cp = self.total.minus(outside)
-        elif 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them directly
-            cp = cross_products(X, y, self.m0, self.ybar0, train)
-        else:
+        if outside is None or outside.n + train.shape[0] != n:
+            if 2 * train.shape[0] <= n:  # fewer rows in training than outside: sum them
+                cp = cross_products(X, y, self.m0, self.ybar0, train)
+                # a fresh sum, this call's own: its G becomes the problem's
+                return gram_problem(
+                    cp, self.m0, self.ybar0, self.constant, self.ref_var, overwrite=True
+                )
             mask = np.ones(n, bool)
             mask[train] = False
-            cp = self.total.minus(cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask)))
-        # cp is this call's own (a difference or a fresh sum): its G becomes the problem's
-        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var, overwrite=True)
+            outside = cross_products(X, y, self.m0, self.ybar0, np.flatnonzero(mask))
+        cp = self.total.minus(outside, gram=False)  # the total's G stays untouched
+        return gram_problem(cp, self.m0, self.ybar0, self.constant, self.ref_var, less=outside.G)
 
 
 def _partition(tests: Sequence[np.ndarray], n: int) -> bool:

@@ -116,6 +116,28 @@ def new_scratch(p: int) -> _Scratch:
     )  # fmt: skip
 
 
+@njit(cache=_CACHE, nogil=True)  # parts build their problems side by side
+def standardize_gram(G, less, subtract, d, n, inv, const, out):
+    """out = ((G - less) - n d d') * inv inv', the diagonal n (0 for constant columns).
+
+    One pass over the p x p cross products of a part (the numpy route takes five, and a fresh
+    temporary for the difference); subtract False ignores ``less``; ``out`` may be ``G``.
+    Same operations in the same order as the numpy route, so the same bits.
+    """
+    p = G.shape[0]
+    nf = float(n)
+    for i in range(p):
+        gi = G[i]
+        li = less[i]
+        oi = out[i]
+        di = d[i]
+        vi = inv[i]
+        for j in range(p):
+            c = gi[j] - li[j] if subtract else gi[j]
+            oi[j] = (c - (di * d[j]) * nf) * (vi * inv[j])
+        oi[i] = 0.0 if const[i] else nf
+
+
 @njit(cache=_CACHE, fastmath={"reassoc", "contract"})
 def _dot(a, b, k):
     s = 0.0

@@ -247,3 +247,36 @@ def test_a_loop_that_cannot_be_built_leaves_the_interpreted_route_and_a_note(mon
     assert path.max_kkt_violation < 1e-9
     slow = _interpreted(monkeypatch, X, y, mix=1.0, penalties=path.penalties)
     np.testing.assert_array_equal(path.std_coefs, slow.std_coefs)
+
+
+@pytest.mark.parametrize("overwrite", [False, True])
+def test_part_standardization_compiled_matches_numpy_to_the_bit(monkeypatch, overwrite):
+    """A training part's standardized Gram, made in one compiled pass, is bit for bit the
+    numpy route's (same operations, same order), and equals Z'Z of the training rows
+    standardized directly with numpy (their own means and population sds, common practice)."""
+    X, y = _data(240, 30, seed=5)
+    X[:, 7] = 2.5  # constant everywhere
+    X[:200, 9] = -1.0  # constant on the training rows only
+    train, test = np.arange(200), np.arange(200, 240)
+    shared = co.SharedCrossProducts(X, y, [test])
+    assert not shared.held  # the held-out rows do not cover the data: the subtraction route
+
+    def build(available):
+        with monkeypatch.context() as m:
+            m.setattr(gram_kernel, "AVAILABLE", available)
+            if overwrite:  # a fresh sum of the training rows, standardized in place
+                cp = co.cross_products(X, y, shared.m0, shared.ybar0, train)
+                return co.gram_problem(
+                    cp, shared.m0, shared.ybar0, shared.constant, shared.ref_var, overwrite=True
+                )
+            return shared.problem(X, y, train, test)
+
+    (fast, sc_fast), (slow, sc_slow) = build(True), build(False)
+    assert np.array_equal(fast.Q, slow.Q) and np.array_equal(fast.q, slow.q)
+    assert np.array_equal(sc_fast.inv_sd, sc_slow.inv_sd)
+    Xt = X[train]
+    sd = Xt.std(0)
+    keep = sd > 1e-8 * np.abs(Xt).max(0).clip(1)
+    Z = np.where(keep, (Xt - Xt.mean(0)) / np.where(keep, sd, 1.0), 0.0)
+    np.testing.assert_allclose(fast.Q, Z.T @ Z, atol=1e-9 * Xt.shape[0])
+    assert fast.Q[7, 7] == 0.0 and fast.Q[9, 9] == 0.0 and fast.Q[0, 0] == Xt.shape[0]

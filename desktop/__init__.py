@@ -18,7 +18,8 @@ The map, one concept per module:
 - ``desktop.theme``          palette, line colours and style sheet
 - ``desktop.cautions``, ``desktop.about``  texts for the result view and the about box
 
-Nothing is imported here, so ``tamis --help`` stays instant.
+Only the bare ``engine`` package (no numpy, no Qt) is imported here, so ``tamis --help`` stays
+instant.
 """
 
 # the engine before anything loads numpy: its BLAS thread setting applies only then

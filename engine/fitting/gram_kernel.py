@@ -402,7 +402,9 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
     with Z_A'Z_A: two triangular solves and vector updates. The recursion drifts, so the true
     residual is taken afresh before stopping (and the recursion restarted from it, twice at
     most). Aims at residuals below tol_abs, settles for enough_abs once they stop falling
-    (rounding level). Returns (solved, iterations).
+    (rounding level). Returns (solved, iterations, fresh): fresh when ``full`` holds
+    Z'Z_A x for the x returned (the last true residual was taken there), i.e. the gradient
+    of every column is q - full without another product.
     """
     res = work[0]
     z = work[1]
@@ -411,8 +413,10 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
     w = work[4]
     it = 0
     fresh_before = np.inf
+    fresh = False
     for _restart in range(3):
         _shifted_matvec(Q, order, k, shift_v, x, ad, full)
+        fresh = True
         worst = 0.0
         for i in range(k):
             res[i] = rhs[i] - ad[i]
@@ -436,6 +440,7 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
                 break
             alpha = rz / dad
             worst = 0.0
+            fresh = False
             for i in range(k):
                 x[i] += alpha * d[i]
                 res[i] -= alpha * ad[i]
@@ -458,12 +463,19 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
             for i in range(k):
                 d[i] = z[i] + beta_cg * d[i]
                 w[i] = res[i] + beta_cg * w[i]
-    return worst <= enough_abs, it
+    return worst <= enough_abs, it, fresh
+
+
+# what _candidate found: no solution, a solution, or a solution with Z'Z_A x in scratch.full
+_NO_SOLUTION = 0
+_SOLVED = 1
+_SOLVED_WITH_PRODUCT = 2
 
 
 @njit(cache=_CACHE)
 def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
-    """Exact solution on the factored set with signs sgn into x; False if unsolvable.
+    """Exact solution on the factored set with signs sgn into x: _NO_SOLUTION, _SOLVED, or
+    _SOLVED_WITH_PRODUCT when conjugate gradients left Z'Z_A x in scratch.full.
 
     Lasso: two triangular solves with the factor of Z_A'Z_A. Elastic net: the factor is of
     Z_A'Z_A + shift0*V_A for an earlier shift0; conjugate gradients close the gap to the
@@ -479,6 +491,7 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
         rhs[i] = q[j] - n * lam * mix * v[j] * sgn[j]
         shift_v[i] = shift * v[j]
         x[i] = start[j]  # where conjugate gradients start (elastic net)
+    fresh = False
     if shift == fs[0]:
         _factor_solve(R, k, rhs, x)
         ok = True
@@ -486,22 +499,22 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
         if st[1] > _REFACTOR_AFTER:
             st[3] += 1
             if not _refactor(Q, R, order, st, fs, v, shift):
-                return False
+                return _NO_SOLUTION
         delta_v = scratch.work[5]
         for i in range(k):
             delta_v[i] = (shift - fs[0]) * v[order[i]]
-        ok, it = _conjugate_gradients(
+        ok, it, fresh = _conjugate_gradients(
             Q, R, order, k, rhs, shift_v, delta_v, x, _CG_TOL_SHARE * accept_abs,
             0.1 * accept_abs, scratch.work, scratch.full,
         )  # fmt: skip
         st[1] = it
         st[2] += it
     if not ok:
-        return False
+        return _NO_SOLUTION
     for i in range(k):
         if not np.isfinite(x[i]):
-            return False
-    return True
+            return _NO_SOLUTION
+    return _SOLVED_WITH_PRODUCT if fresh else _SOLVED
 
 
 @njit(cache=_CACHE)
@@ -514,9 +527,10 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
     start = scratch.start  # filled by the caller; later tries start from the last one
     for _ in range(_EXACT_TRIES):
         st[4] += 1
-        if not _candidate(
+        found = _candidate(
             Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch
-        ):
+        )
+        if found == _NO_SOLUTION:
             return False
         k = st[0]
         for i in range(k):
@@ -535,9 +549,14 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
         for i in range(k):
             cand[order[i]] = x[i]
         # with most columns active, the gradient of the inactive ones alone (a dot with
-        # each of their rows) decides the try; the active ones follow only for an answer
-        by_rows = 2 * k > p
-        if by_rows:
+        # each of their rows) decides the try; the active ones follow only for an answer.
+        # Conjugate gradients may have left the product for every column already
+        by_rows = 2 * k > p and found != _SOLVED_WITH_PRODUCT
+        if found == _SOLVED_WITH_PRODUCT:
+            full = scratch.full
+            for j in range(p):
+                gcand[j] = q[j] - full[j]
+        elif by_rows:
             _gradient_of(Q, q, cand, gcand, pos, False)
         else:
             _gradient(Q, q, cand, gcand)
@@ -616,7 +635,8 @@ def _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_ab
     ):
         return
     x = scratch.x
-    if not _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch):
+    found = _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch)
+    if found == _NO_SOLUTION:
         return
     k = st[0]
     for i in range(k):

@@ -106,7 +106,7 @@ _CG_TOL_SHARE = 1e-2
 # made by numpy in the caller, once per path, so memory tracing sees them
 _Scratch = namedtuple(
     "_Scratch",
-    "x rhs shift_v work full cand gcand strong work_set members start cols block",
+    "x rhs shift_v work full cand gcand strong work_set members start cols block fwd fwd_ok",
 )
 
 
@@ -116,7 +116,8 @@ def new_scratch(p: int) -> _Scratch:
         np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
-        np.empty(p, dtype=np.int64), np.empty((p, p)),
+        np.empty(p, dtype=np.int64), np.empty((p, p)), np.empty((2, p)),
+        np.zeros(1, dtype=np.int64),
     )  # fmt: skip
 
 
@@ -306,8 +307,12 @@ def _refactor(Q, R, order, st, fs, v, shift):
 
 
 @njit(cache=_CACHE)
-def _factor_delete(R, order, pos, st, m):
-    """Remove position m from the factor (Givens rotations restore the triangle)."""
+def _factor_delete(R, order, pos, st, m, carry):
+    """Remove position m from the factor (Givens rotations restore the triangle).
+
+    Each row of ``carry`` holding y = R'^-1 b (b on the factored set) is carried along: the
+    same rotations, the last entry dropped (0 rows: nothing carried).
+    """
     k = st[0]
     st[0] = k - 1
     pos[order[m]] = -1
@@ -330,6 +335,11 @@ def _factor_delete(R, order, pos, st, m):
         s = b / r
         R[jj, jj] = r
         R[jj + 1, jj] = 0.0
+        for t in range(carry.shape[0]):
+            x = carry[t, jj]
+            y = carry[t, jj + 1]
+            carry[t, jj] = c * x + s * y
+            carry[t, jj + 1] = c * y - s * x
         top = R[jj]
         bottom = R[jj + 1]
         for col in range(jj + 1, k - 1):
@@ -349,16 +359,49 @@ def _factor_solve(R, k, b, x):
 
 
 @njit(cache=_CACHE)
-def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, cols, block):
+def _append(Q, q, R, order, pos, st, fs, v, sgn, cols, m, scratch):
+    """``_factor_append`` that also extends the forward-solved right-hand sides (scratch.fwd:
+    R'^-1 q_A and R'^-1 (v*s)_A, the two parts of every exact step's right-hand side)."""
+    k = st[0]
+    block = scratch.block
+    if not _factor_append(Q, R, order, pos, st, fs, v, cols, m, block):
+        return False
+    fwd = scratch.fwd
+    for c in range(m):  # block[c, :k] is the new column's part R[:k, k + c]
+        i = k + c
+        j = cols[c]
+        yq = q[j] - _dot(block[c], fwd[0], k)
+        ys = v[j] * sgn[j] - _dot(block[c], fwd[1], k)
+        for a in range(c):
+            yq -= R[k + a, i] * fwd[0, k + a]
+            ys -= R[k + a, i] * fwd[1, k + a]
+        fwd[0, i] = yq / R[i, i]
+        fwd[1, i] = ys / R[i, i]
+    return True
+
+
+@njit(cache=_CACHE)
+def _set_sign(sgn, pos, j, value, fwd_ok):
+    """sgn[j] = value; a changed sign of a factored column outdates scratch.fwd (fwd_ok: its
+    flag; the whole scratch tuple would be copied at every call)."""
+    if pos[j] >= 0 and sgn[j] != value:
+        fwd_ok[0] = 0
+    sgn[j] = value
+
+
+@njit(cache=_CACHE)
+def _sync_factor(Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch):
     """Make the factored set equal ``members`` (bool mask); False if a column is dependent.
 
     An empty factor starts at the given shift (elastic net: n*lambda*(1-mix); lasso: 0).
     """
+    cols = scratch.cols
     for m in range(st[0] - 1, -1, -1):  # removals from the end first: cheapest rotations
         if not members[order[m]]:
-            _factor_delete(R, order, pos, st, m)
+            _factor_delete(R, order, pos, st, m, scratch.fwd)
     if st[0] == 0:
         fs[0] = shift
+        scratch.fwd_ok[0] = 1  # nothing factored, nothing to be out of date
     m = 0
     for j in range(members.shape[0]):
         if members[j] and pos[j] < 0:
@@ -366,10 +409,10 @@ def _sync_factor(Q, R, order, pos, st, fs, v, members, shift, cols, block):
             m += 1
     if m == 0:
         return True
-    if _factor_append(Q, R, order, pos, st, fs, v, cols, m, block):
+    if _append(Q, q, R, order, pos, st, fs, v, sgn, cols, m, scratch):
         return True
     for t in range(m):  # one of them is dependent: one at a time, to the first refusal
-        if not _factor_append(Q, R, order, pos, st, fs, v, cols[t:], 1, block):
+        if not _append(Q, q, R, order, pos, st, fs, v, sgn, cols[t:], 1, scratch):
             return False
     return True
 
@@ -493,11 +536,26 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
         x[i] = start[j]  # where conjugate gradients start (elastic net)
     fresh = False
     if shift == fs[0]:
-        _factor_solve(R, k, rhs, x)
+        # R'^-1 rhs = R'^-1 q_A - n*lambda*mix * R'^-1 (v*s)_A, both kept up to date as the
+        # factor changes: one triangular solve per step instead of two
+        fwd = scratch.fwd
+        if scratch.fwd_ok[0] == 0:
+            for i in range(k):
+                j = order[i]
+                fwd[0, i] = q[j]
+                fwd[1, i] = v[j] * sgn[j]
+            _triangular(R, k, fwd[0], False)
+            _triangular(R, k, fwd[1], False)
+            scratch.fwd_ok[0] = 1
+        c = n * lam * mix
+        for i in range(k):
+            x[i] = fwd[0, i] - c * fwd[1, i]
+        _triangular(R, k, x, True)
         ok = True
     else:
         if st[1] > _REFACTOR_AFTER:
             st[3] += 1
+            scratch.fwd_ok[0] = 0  # a new factor: its forward solves are made when needed
             if not _refactor(Q, R, order, st, fs, v, shift):
                 return _NO_SOLUTION
         delta_v = scratch.work[5]
@@ -542,7 +600,7 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
         if flipped:  # a coefficient crossed zero: guess that it leaves, try again
             for i in range(k - 1, -1, -1):
                 if _sign(x[i]) != sgn[order[i]]:
-                    _factor_delete(R, order, pos, st, i)
+                    _factor_delete(R, order, pos, st, i, scratch.fwd)
             continue
         for j in range(p):
             cand[j] = 0.0
@@ -567,7 +625,7 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
                 cols[m] = j
                 m += 1
                 sgn[j] = _sign(gcand[j])
-        if m > 0 and not _factor_append(Q, R, order, pos, st, fs, v, cols, m, scratch.block):
+        if m > 0 and not _append(Q, q, R, order, pos, st, fs, v, sgn, cols, m, scratch):
             return False
         added = m > 0
         if not added:
@@ -625,14 +683,12 @@ def _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_ab
     """Replace a descent solution by the exact one on its active set if that is no worse."""
     p = q.shape[0]
     members = scratch.members
+    fwd_ok = scratch.fwd_ok
     for j in range(p):
         members[j] = beta[j] != 0.0
-        sgn[j] = _sign(beta[j])
+        _set_sign(sgn, pos, j, _sign(beta[j]), fwd_ok)
     shift = n * lam * (1.0 - mix)
-    if (
-        not _sync_factor(Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block)
-        or st[0] == 0
-    ):
+    if not _sync_factor(Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch) or st[0] == 0:
         return
     x = scratch.x
     found = _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch)
@@ -707,6 +763,7 @@ def gram_path_chunk(
     """
     p = q.shape[0]
     members = scratch.members
+    fwd_ok = scratch.fwd_ok
     for k in range(k0, k1):
         lam = lams[k]
         shift = n * lam * (1.0 - mix)
@@ -727,7 +784,7 @@ def gram_path_chunk(
             if b != 0.0:
                 any_active = True
                 members[j] = True
-                sgn[j] = _sign(b)
+                _set_sign(sgn, pos, j, _sign(b), fwd_ok)
                 if t > 0.0:
                     start[j] = b + t * (b - B_out[k - 2, j])
                     if _sign(start[j]) != sgn[j]:
@@ -738,19 +795,17 @@ def gram_path_chunk(
                     guess = g[j] + t * (g[j] - g_before[j])
                     if abs(guess) > n * lam * mix * v[j] and Q[j, j] > 0.0:
                         members[j] = True
-                        sgn[j] = _sign(guess)
+                        _set_sign(sgn, pos, j, _sign(guess), fwd_ok)
                         any_active = True
             g_before[j] = g[j]
         synced = any_active and _sync_factor(
-            Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block
+            Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch
         )
         if any_active and not synced:  # a guessed column is dependent: the plain set
             for j in range(p):
                 members[j] = beta[j] != 0.0
-                sgn[j] = _sign(beta[j])
-            synced = _sync_factor(
-                Q, R, order, pos, st, fs, v, members, shift, scratch.cols, scratch.block
-            )
+                _set_sign(sgn, pos, j, _sign(beta[j]), fwd_ok)
+            synced = _sync_factor(Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch)
         if synced and st[0] > 0:
             exact = _try_exact(
                 Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_abs, scratch

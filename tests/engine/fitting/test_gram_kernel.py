@@ -139,34 +139,48 @@ def test_cancel_stops_the_compiled_path():
 
 
 def test_factor_updates_match_a_fresh_cholesky_factorization():
-    # Source: numpy.linalg.cholesky (LAPACK) of the same submatrix; the factor is grown by
-    # bordering, shrunk by Givens rotations and refactored at a shift in a random sequence
+    # Source: numpy.linalg.cholesky (LAPACK) of the same submatrix and numpy's solve; the factor
+    # is grown by bordering, shrunk by Givens rotations and refactored at a shift in a random
+    # sequence, and the forward-solved right-hand sides carried along (R'^-1 q_A and
+    # R'^-1 (v*s)_A) must equal fresh triangular solves with the changed factor
     rng = np.random.default_rng(4)
     p = 30
     A = rng.normal(size=(80, p))
     Q = np.ascontiguousarray(A.T @ A)
+    q = rng.normal(size=p) * 10
     v = rng.uniform(0.5, 2.0, p)
+    sgn = rng.choice([-1.0, 1.0], size=p)
     R = np.zeros((p, p))
     order = np.zeros(p, dtype=np.int64)
     pos = np.full(p, -1, dtype=np.int64)
     st = np.zeros(6, dtype=np.int64)
     fs = np.array([0.0, 0.0])
-    block = np.empty((p, p))
+    scratch = gram_kernel.new_scratch(p)
+    appended = {1: 0, 2: 0, 5: 0}  # bordering routes: one column, a few, many
+    carried = 0
     for step in range(300):
         k = int(st[0])
-        if k and (rng.random() < 0.35 or k == p):
-            gram_kernel._factor_delete(R, order, pos, st, int(rng.integers(k)))
+        if k and (rng.random() < 0.35 or k >= p - 8):
+            gram_kernel._factor_delete(R, order, pos, st, int(rng.integers(k)), scratch.fwd)
         elif step % 50 == 49:
             assert gram_kernel._refactor(Q, R, order, st, fs, v, float(rng.uniform(0, 5)))
+            # as the kernel does when it next needs them: forward solves with the new factor
+            S, Rk = order[:k], np.triu(R[:k, :k])
+            scratch.fwd[0, :k] = np.linalg.solve(Rk.T, q[S])
+            scratch.fwd[1, :k] = np.linalg.solve(Rk.T, v[S] * sgn[S])
         elif step % 3 == 0 and p - k >= 2:  # several columns bordered at once
             free = np.flatnonzero(pos < 0)
-            cols = rng.choice(free, size=int(rng.integers(2, min(6, free.size) + 1)), replace=False)
-            assert gram_kernel._factor_append(
-                Q, R, order, pos, st, fs, v, cols.astype(np.int64), cols.size, block
+            cols = rng.choice(free, size=int(rng.integers(2, min(9, free.size) + 1)), replace=False)
+            appended[2 if cols.size <= gram_kernel._VECTOR_SOLVES_UP_TO else 5] += 1
+            assert gram_kernel._append(
+                Q, q, R, order, pos, st, fs, v, sgn, cols.astype(np.int64), cols.size, scratch
             )
         else:
             j = int(rng.choice(np.flatnonzero(pos < 0)))
-            assert gram_kernel._factor_append(Q, R, order, pos, st, fs, v, np.array([j]), 1, block)
+            appended[1] += 1
+            assert gram_kernel._append(
+                Q, q, R, order, pos, st, fs, v, sgn, np.array([j]), 1, scratch
+            )
         k = int(st[0])
         S = order[:k]
         assert np.all(pos[S] == np.arange(k)) and np.count_nonzero(pos >= 0) == k
@@ -181,6 +195,13 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
         x = np.empty(k)
         gram_kernel._factor_solve(R, k, b, x)
         np.testing.assert_allclose(target @ x, b, atol=1e-9 * max(1.0, np.abs(b).max()))
+        if k:
+            carried += 1
+            for row, rhs in ((0, q[S]), (1, v[S] * sgn[S])):
+                np.testing.assert_allclose(
+                    Rk.T @ scratch.fwd[row, :k], rhs, atol=1e-9 * np.abs(rhs).max()
+                )
+    assert min(appended.values()) > 5 and carried > 250
 
 
 def test_warm_up_prepares_the_signature_real_fits_use():

@@ -13,7 +13,8 @@ l2 = n*lambda*(1-mix)*v_j:
    enter; Givens rotations when one leaves). The lasso (s0 = 0) solves with it directly; the
    elastic net, whose shift n*lambda*(1-mix) moves with every penalty, by conjugate gradients
    preconditioned with the factor of an earlier shift s0 (eigenvalues between s/s0 and 1),
-   refactored at the current shift when a solve needed more than a few steps.
+   refactored (at the shift of two penalties further on) when a solve needed more than a
+   few steps.
 2. Otherwise cyclic coordinate descent with covariance updates on the strong set
    (Tibshirani et al. 2012), grown by the columns violating their condition outside it, then
    the exact step on the set descent found ("polish") if it improves the conditions.
@@ -91,9 +92,13 @@ _PCG_MAX_ITER = 60
 # factored ones is below this share of its own is taken as dependent
 _DEPENDENT_SHARE = 1e-10
 _OUTER_ROUNDS = 100
-# elastic net: the factor is made afresh at the current shift when the last conjugate-gradient
-# solve needed more iterations than this (each costs about 3 k^2 + p k, a refactoring k^3 / 3)
-_REFACTOR_AFTER = 6
+# elastic net: the factor is made afresh when the last conjugate-gradient solve needed more
+# iterations than this (each costs about 3 k^2 + p k, a refactoring k^3 / 3), at the shift of
+# the penalty this many steps further down the grid (paired runs in one process, against 6
+# and the current shift: 1000x500 path 0.89x, 5000x200 0.74x; 3 steps or 1 ahead, or
+# refactoring after 3 iterations, did no better)
+_REFACTOR_AFTER = 4
+_REFACTOR_AHEAD = 2
 # bordering with up to this many columns at once: one vector triangular solve per column
 # (measured here at 300-450 factored columns: 2-3 of them cost 0.6-0.7 of one matrix solve;
 # from about 5 columns the matrix solve, which packs the factor first, is faster)
@@ -520,10 +525,11 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
     """Exact solution on the factored set with signs sgn into x: _NO_SOLUTION, _SOLVED, or
     _SOLVED_WITH_PRODUCT when conjugate gradients left Z'Z_A x in scratch.full.
 
-    Lasso: two triangular solves with the factor of Z_A'Z_A. Elastic net: the factor is of
-    Z_A'Z_A + shift0*V_A for an earlier shift0; conjugate gradients close the gap to the
-    current shift, and when they needed more than _REFACTOR_AFTER iterations last time the
-    factor is first made afresh at the current shift.
+    Lasso: one triangular solve with the factor of Z_A'Z_A (the forward half is carried in
+    scratch.fwd). Elastic net: the factor is of Z_A'Z_A + shift0*V_A for another shift0;
+    conjugate gradients close the gap to the current shift, and when they needed more than
+    _REFACTOR_AFTER iterations last time the factor is first made afresh, at the shift
+    _REFACTOR_AHEAD penalties further down the grid.
     """
     k = st[0]
     rhs = scratch.rhs
@@ -556,7 +562,12 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
         if st[1] > _REFACTOR_AFTER:
             st[3] += 1
             scratch.fwd_ok[0] = 0  # a new factor: its forward solves are made when needed
-            if not _refactor(Q, R, order, st, fs, v, shift):
+            # at the shift two penalties further down: the factor then serves penalties on
+            # both sides of its own, with eigenvalues of the preconditioned system closer to 1
+            ahead = shift
+            if fs[1] > lam > 0.0:
+                ahead = shift * (lam / fs[1]) ** _REFACTOR_AHEAD
+            if not _refactor(Q, R, order, st, fs, v, ahead):
                 return _NO_SOLUTION
         delta_v = scratch.work[5]
         for i in range(k):

@@ -116,7 +116,11 @@ _Scratch = namedtuple(
 
 
 def new_scratch(p: int) -> _Scratch:
-    """Working arrays for a path on p columns (the block rows are touched only as used)."""
+    """Working arrays for a path on p columns (the block rows are touched only as used).
+
+    fwd: R'^-1 q_A and R'^-1 (v*s)_A on the factored set, kept with the factor; fwd_ok[0]: 0
+    when they are out of date (a refactoring, a changed sign) and must be solved afresh.
+    """
     return _Scratch(
         np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),

@@ -536,14 +536,7 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
     _REFACTOR_AHEAD penalties further down the grid.
     """
     k = st[0]
-    rhs = scratch.rhs
-    shift_v = scratch.shift_v
     shift = n * lam * (1.0 - mix)
-    for i in range(k):
-        j = order[i]
-        rhs[i] = q[j] - n * lam * mix * v[j] * sgn[j]
-        shift_v[i] = shift * v[j]
-        x[i] = start[j]  # where conjugate gradients start (elastic net)
     fresh = False
     if shift == fs[0]:
         # R'^-1 rhs = R'^-1 q_A - n*lambda*mix * R'^-1 (v*s)_A, both kept up to date as the
@@ -573,9 +566,15 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
                 ahead = shift * (lam / fs[1]) ** _REFACTOR_AHEAD
             if not _refactor(Q, R, order, st, fs, v, ahead):
                 return _NO_SOLUTION
+        rhs = scratch.rhs
+        shift_v = scratch.shift_v
         delta_v = scratch.work[5]
         for i in range(k):
-            delta_v[i] = (shift - fs[0]) * v[order[i]]
+            j = order[i]
+            rhs[i] = q[j] - n * lam * mix * v[j] * sgn[j]
+            shift_v[i] = shift * v[j]
+            delta_v[i] = (shift - fs[0]) * v[j]
+            x[i] = start[j]  # where conjugate gradients start
         ok, it, fresh = _conjugate_gradients(
             Q, R, order, k, rhs, shift_v, delta_v, x, _CG_TOL_SHARE * accept_abs,
             0.1 * accept_abs, scratch.work, scratch.full,

@@ -3,9 +3,9 @@
 For each shape (rows x columns) the same simulated data with a sparse truth (10 true columns,
 signal-to-noise about 3), the same 10 folds and the same 100-penalty grid go to both sides:
 
-  lasso  Tamis elastic_net_path + cross_validate_path      vs  sklearn LassoCV
-  enet   the same with mix = 0.5                           vs  sklearn ElasticNetCV(l1_ratio=0.5)
-  ridge  Tamis ridge_path + cross_validate_path (mix = 0)  vs  sklearn RidgeCV(cv=10)
+  lasso  Tamis fit_and_validate, elastic_net_path  vs  sklearn LassoCV
+  enet   the same with mix = 0.5                  vs  sklearn ElasticNetCV(l1_ratio=0.5)
+  ridge  Tamis fit_and_validate, ridge_path       vs  sklearn RidgeCV(cv=10)
 
 scikit-learn gets the data standardized once (its estimators do not rescale), so both solve
 the same objective with alpha = lambda (Ridge: alpha = n_train * lambda). Its tolerance is
@@ -46,7 +46,7 @@ from engine.fitting.coordinate import (  # noqa: E402
     warm_compiled_path,
 )
 from engine.fitting.ridge import ridge_path  # noqa: E402
-from engine.tuning.crossval import cross_validate_path, shared_cross_products  # noqa: E402
+from engine.tuning.crossval import fit_and_validate, shared_cross_products  # noqa: E402
 from engine.tuning.folds import make_folds  # noqa: E402
 from engine.tuning.parts import warm_process_pool  # noqa: E402
 
@@ -79,25 +79,24 @@ def timed(fn, *fargs, repeat: int = 1):
 
 
 def tamis_run(X, y, parts, mix, lam, workers, parallel="auto"):
-    """What a study does: cross products once (n > p), the path on all rows, the validation."""
+    """What a study does: cross products once (n > p), the path on all rows beside the
+    validation parts."""
     diag: dict = {}
     shared = shared_cross_products(X, y, parts)
     if mix == 0:
-        path = ridge_path(X, y, penalties=lam)
+
+        def fit_all(progress):
+            return ridge_path(X, y, penalties=lam, progress=progress)
+
     else:
-        path = elastic_net_path(X, y, mix=mix, penalties=lam, shared=shared)
-    cross_validate_path(
-        X,
-        y,
-        parts,
-        mix,
-        lam,
-        n_selected=path.n_selected,
-        workers=workers,
-        diagnostics=diag,
-        parallel=parallel,
+
+        def fit_all(progress):
+            return elastic_net_path(X, y, mix=mix, penalties=lam, shared=shared, progress=progress)
+
+    path, _ = fit_and_validate(
+        fit_all, X, y, parts, mix, lam, workers=workers, diagnostics=diag, parallel=parallel,
         shared=shared,
-    )
+    )  # fmt: skip
     return max(path.max_kkt_violation or 0.0, diag.get("max_kkt_violation", 0.0))
 
 

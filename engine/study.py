@@ -299,45 +299,58 @@ class _MethodRunner:
         path=None,
         notes: list[str] | None = None,
     ) -> ModelResult:
-        from engine.fitting.coordinate import elastic_net_path
+        from engine.fitting.coordinate import elastic_net_path, path_penalties
         from engine.fitting.ridge import ridge_path
-        from engine.tuning.crossval import cross_validate_path
+        from engine.tuning.crossval import cross_validate_path, fit_and_validate
 
         d, spec = self.d, self.spec
-        progress.step(0.0, "path on all rows")
-        if path is not None:
-            pass
-        elif mix == 0.0:
-            path = ridge_path(
-                d.X,
-                d.y,
-                penalties=self._ridge_grid(),
-                progress=progress.part(0.0, 0.1),
-            )
-        else:
-            path = elastic_net_path(
-                d.X,
-                d.y,
-                mix=mix,
-                n_penalties=spec.n_penalties,
-                ratio=self._ratio(),
-                penalty_factors=penalty_factors,
-                progress=progress.part(0.0, 0.15),
-                shared=self._cross_products,
-            )
-        curve = cross_validate_path(
-            d.X,
-            d.y,
-            self.parts,
-            mix,
-            path.penalties,
+        validation = dict(
             penalty_factors=fold_factors if fold_factors is not None else penalty_factors,
             choose=spec.choose,
-            progress=progress.part(0.15, 0.95, "cross-validation"),
             workers=spec.workers,
-            n_selected=path.n_selected,
             shared=self._cross_products,
         )
+        if path is not None:
+            curve = cross_validate_path(
+                d.X,
+                d.y,
+                self.parts,
+                mix,
+                path.penalties,
+                progress=progress.part(0.15, 0.95, "cross-validation"),
+                n_selected=path.n_selected,
+                **validation,
+            )
+        else:
+            progress.step(0.0, "path on all rows and cross-validation")
+            if mix == 0.0:
+                grid = self._ridge_grid()
+
+                def fit_all(prog):
+                    return ridge_path(d.X, d.y, penalties=grid, progress=prog)
+
+            else:
+                grid = path_penalties(
+                    d.X, d.y, mix, spec.n_penalties, self._ratio(), penalty_factors,
+                    shared=self._cross_products,
+                )  # fmt: skip
+
+                def fit_all(prog):
+                    return elastic_net_path(
+                        d.X,
+                        d.y,
+                        mix=mix,
+                        penalties=grid,
+                        penalty_factors=penalty_factors,
+                        progress=prog,
+                        shared=self._cross_products,
+                    )
+
+            # the fit on all rows runs beside the validation parts where they run on threads
+            path, curve = fit_and_validate(
+                fit_all, d.X, d.y, self.parts, mix, grid,
+                progress=progress.part(0.0, 0.95), **validation,
+            )  # fmt: skip
         curve.n_selected = path.n_selected.copy()
         idx = curve.chosen(spec.choose)
         if mix == 0.0:

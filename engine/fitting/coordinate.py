@@ -50,6 +50,7 @@ __all__ = [
     "SharedCrossProducts",
     "penalty_max",
     "penalty_grid",
+    "path_penalties",
     "kkt_violation",
     "normalize_penalty_factors",
     "default_ratio",
@@ -1262,12 +1263,34 @@ def _problem_lambda_max(prob, mix, v) -> float:
     return _lambda_max_of(prob.q, prob.n, mix, v)
 
 
+def _default_grid(prob, sc: _Scaling, mix, v, n_penalties, ratio) -> np.ndarray:
+    ratio = default_ratio(sc.n, prob.p) if ratio is None else float(ratio)
+    return penalty_grid(_problem_lambda_max(prob, mix, v), n_penalties, ratio)
+
+
+def path_penalties(
+    X: np.ndarray,
+    y: np.ndarray,
+    mix: float = 1.0,
+    n_penalties: int = 100,
+    ratio: float | None = None,
+    penalty_factors: np.ndarray | None = None,
+    shared: SharedCrossProducts | None = None,
+) -> np.ndarray:
+    """The grid ``elastic_net_path`` makes when given none (same arguments; for mix = 0 only
+    with penalty factors, since plain ridge has its own grid), so that the validation parts
+    can start on it beside the fit on all rows."""
+    X, y = _check_xy(X, y)
+    v = normalize_penalty_factors(penalty_factors, X.shape[1])
+    prob, sc = shared.full_problem() if shared is not None else build_problem(X, y)
+    return _default_grid(prob, sc, mix, v, n_penalties, ratio)
+
+
 def _path_from(
     prob, sc: _Scaling, mix, penalties, n_penalties, ratio, v, tol, max_sweeps, progress
 ) -> PenaltyPath:
     if penalties is None:
-        ratio = default_ratio(sc.n, prob.p) if ratio is None else float(ratio)
-        penalties = penalty_grid(_problem_lambda_max(prob, mix, v), n_penalties, ratio)
+        penalties = _default_grid(prob, sc, mix, v, n_penalties, ratio)
     res = solve_path(prob, penalties, mix, v, tol, max_sweeps, progress, report_steps=True)
     if progress is not None:
         progress.step(1.0, "path done")

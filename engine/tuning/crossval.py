@@ -16,7 +16,13 @@ coordinate descent releases the GIL) with one BLAS thread per worker.
 
 from __future__ import annotations
 
-__all__ = ["cross_validate_path", "fold_errors", "estimated_seconds", "shared_cross_products"]
+__all__ = [
+    "cross_validate_path",
+    "estimated_seconds",
+    "fit_and_validate",
+    "fold_errors",
+    "shared_cross_products",
+]
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
@@ -39,6 +45,7 @@ from engine.fitting.coordinate import (
     penalty_grid,
     solve_path,
 )
+from engine.fitting.path import PenaltyPath
 from engine.fitting.ridge import RIDGE_RATIO, RidgeDecomposition
 from engine.progress import Progress
 from engine.tuning.curve import ValidationCurve, choose_index
@@ -280,6 +287,57 @@ def cross_validate_path(
     products of X, y made for these parts by ``shared_cross_products`` (and used for the fit
     on all rows too); formed here when not given.
     """
+    curve, _ = _validate(
+        X, y, parts, mix, penalties, penalty_factors, choose, progress, workers, n_selected,
+        scheme, tol, max_sweeps, use_gram, diagnostics, parallel, shared, None,
+    )  # fmt: skip
+    return curve
+
+
+def fit_and_validate(
+    fit_all: Callable[[Progress | None], PenaltyPath],
+    X: np.ndarray,
+    y: np.ndarray,
+    parts: Sequence[tuple[np.ndarray, np.ndarray]],
+    mix: float,
+    penalties: np.ndarray,
+    penalty_factors: PenaltyFactors = None,
+    choose: str = "min",
+    progress: Progress | None = None,
+    workers: int | None = None,
+    scheme: str = "kfold",
+    tol: float = 1e-7,
+    max_sweeps: int = 10000,
+    diagnostics: dict | None = None,
+    parallel: str = "auto",
+    shared: SharedCrossProducts | None = None,
+) -> tuple[PenaltyPath, ValidationCurve]:
+    """The fit on all rows, ``fit_all(progress)`` (a path along ``penalties``), and its
+    validation curve (arguments as ``cross_validate_path``).
+
+    Where the parts run on threads, the fit on all rows is one more task among them, started
+    first (it is the largest): the cores stay busy instead of waiting for it before or after
+    the parts. It then reports no steps of its own (the parts report), only checks for the
+    user's cancel. Elsewhere it runs first, on the first 15% of the progress range.
+    """
+    curve, path = _validate(
+        X, y, parts, mix, penalties, penalty_factors, choose, progress, workers, None,
+        scheme, tol, max_sweeps, None, diagnostics, parallel, shared, fit_all,
+    )  # fmt: skip
+    assert path is not None
+    return path, curve
+
+
+# share of the progress range the fit on all rows takes when it runs before the parts
+_FIT_ALL_SHARE = 0.15
+# the task index of the fit on all rows among the parts' results
+_ALL_ROWS = -1
+
+
+def _validate(
+    X, y, parts, mix, penalties, penalty_factors, choose, progress, workers, n_selected,
+    scheme, tol, max_sweeps, use_gram, diagnostics, parallel, shared, fit_all,
+) -> tuple[ValidationCurve, PenaltyPath | None]:  # fmt: skip
     X, y = _check_xy(X, y)
     if choose not in ("min", "one-se"):
         raise ValueError(f"choose must be 'min' or 'one-se', got {choose!r}")
@@ -317,10 +375,15 @@ def cross_validate_path(
     kkt_max = 0.0
     notes: set[str] = set()
     done = 0
+    fitted: list[PenaltyPath] = []
 
     def collect(item):
         nonlocal kkt_max, done
-        k, (err, kkt, nts) = item
+        k, result = item
+        if k == _ALL_ROWS:
+            fitted.append(result)
+            return
+        err, kkt, nts = result
         errors[k] = err
         kkt_max = max(kkt_max, kkt)
         notes.update(nts)
@@ -333,6 +396,11 @@ def cross_validate_path(
     parallel, workers = _placement(
         parallel, workers, mix, callable(penalty_factors), estimate, compiled
     )
+    beside = fit_all is not None and parallel == "threads" and workers > 1
+    if fit_all is not None and not beside:
+        fitted.append(fit_all(None if progress is None else progress.part(0.0, _FIT_ALL_SHARE)))
+        if progress is not None:
+            progress = progress.part(_FIT_ALL_SHARE, 1.0)
     if parallel == "processes":
         with board_folder() as folder:
             data = SharedArrays(folder, X=X, y=y)
@@ -348,13 +416,22 @@ def cross_validate_path(
         data = SharedArrays(X=X, y=y)
 
         def run(k: int):
+            if beside:  # task 0 is the fit on all rows; it only checks for cancel
+                if k == 0:
+                    assert fit_all is not None
+                    quiet = None if progress is None else Progress(cancel=progress.cancel)
+                    return _ALL_ROWS, fit_all(quiet)
+                k -= 1
             tr, te = parts[k]
             job = _part_job(X, y, tr, te, penalty_factors, shared)
             return _indexed_part_errors(k, data, job, mix, lam, tol, max_sweeps, child)
 
-        run_parts(len(parts), run, collect, workers)
+        run_parts(len(parts) + int(beside), run, collect, workers)
     mean, se = mean_and_se(errors)
-    if n_selected is None:
+    path = fitted[0] if fitted else None
+    if path is not None:
+        n_selected = path.n_selected
+    elif n_selected is None:
         from engine.fitting.coordinate import elastic_net_path
         from engine.fitting.ridge import ridge_path
 
@@ -367,7 +444,7 @@ def cross_validate_path(
     if diagnostics is not None:
         diagnostics["max_kkt_violation"] = kkt_max
         diagnostics["notes"] = sorted(notes)
-    return ValidationCurve(
+    curve = ValidationCurve(
         grid=lam,
         grid_kind="penalty",
         mean_error=mean,
@@ -379,3 +456,4 @@ def cross_validate_path(
         scheme=scheme,
         parts=len(parts),
     )
+    return curve, path

@@ -37,6 +37,7 @@ import sys
 import tempfile
 import threading
 import time
+import warnings
 from collections.abc import Callable, Iterable
 from typing import Any, TypeVar
 
@@ -83,8 +84,14 @@ def run_parts(
                 collect(run(k))
             return
         pool = Parallel(n_jobs=workers, backend="threading", return_as="generator_unordered")
-        for item in pool(delayed(run)(k) for k in range(tasks)):
-            collect(item)
+        with warnings.catch_warnings():
+            # a cancel (or error) in one task leaves the others' results unused, which the
+            # pool reports as a warning; the user asked for it, there is nothing to say
+            warnings.filterwarnings(
+                "ignore", message=r".*executed\s+but not used", category=UserWarning
+            )
+            for item in pool(delayed(run)(k) for k in range(tasks)):
+                collect(item)
 
 
 # --------------------------------------------------------------------------------------------

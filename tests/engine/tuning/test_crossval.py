@@ -154,3 +154,86 @@ def test_compiled_parts_on_two_threads_equal_one_after_another(mix):
     # placement: compiled parts stay on threads, two at once; interpreted ones one at a time
     assert _placement("auto", 2, mix, False, 100.0, compiled=True) == ("threads", 2)
     assert _placement("threads", 2, mix, False, 0.1, compiled=False) == ("threads", 1)
+
+
+@pytest.mark.parametrize("mix,workers", [(1.0, 2), (0.5, 2), (1.0, 1), (0.0, 2)])
+def test_fit_beside_the_parts_equals_fit_then_validation(mix, workers):
+    # the fit on all rows as one more task beside the parts (two threads), or before them (one
+    # worker), must give the same path and curve as the two calls one after the other, on the
+    # grid elastic_net_path makes itself; its progress must only move forward
+    from engine.fitting.coordinate import path_penalties
+    from engine.tuning.crossval import fit_and_validate
+
+    X, y = sparse_truth_data(150, 20, seed=6)
+    parts = make_folds(150, "kfold", folds=5, seed=3)
+    if mix == 0:
+        lam = ridge_path(X, y).penalties
+    else:
+        lam = path_penalties(X, y, mix, n_penalties=40)
+        assert np.array_equal(lam, elastic_net_path(X, y, mix=mix, n_penalties=40).penalties)
+    before = (
+        elastic_net_path(X, y, mix=mix, penalties=lam) if mix else ridge_path(X, y, penalties=lam)
+    )
+    curve_before = cross_validate_path(
+        X, y, parts, mix, lam, workers=workers, n_selected=before.n_selected
+    )
+    seen, calls = [], []
+
+    def fit_all(progress):
+        calls.append(progress)
+        if mix == 0:
+            return ridge_path(X, y, penalties=lam, progress=progress)
+        return elastic_net_path(X, y, mix=mix, penalties=lam, progress=progress)
+
+    path, curve = fit_and_validate(
+        fit_all,
+        X,
+        y,
+        parts,
+        mix,
+        lam,
+        workers=workers,
+        progress=Progress(lambda f, w: seen.append(f)),
+    )
+    assert len(calls) == 1
+    np.testing.assert_array_equal(path.coefs, before.coefs)
+    np.testing.assert_array_equal(curve.part_errors, curve_before.part_errors)
+    np.testing.assert_array_equal(curve.n_selected, before.n_selected)
+    assert curve.index_min == curve_before.index_min
+    assert seen == sorted(seen) and seen[-1] == pytest.approx(1.0)
+
+
+def test_fit_beside_the_parts_is_cancelled_with_them():
+    # the fit on all rows gets a progress that shares the user's cancel: cancelled once the
+    # first part is done, it stops (and the whole call with it)
+    import time
+
+    from engine.tuning.crossval import fit_and_validate
+
+    X, y = sparse_truth_data(120, 15, seed=2)
+    token = CancelToken()
+    lam = np.geomspace(1, 0.01, 20)
+
+    def cb(frac, words):
+        if frac > 0:
+            token.cancel()
+
+    def fit_all(progress):
+        deadline = time.monotonic() + 10.0
+        while time.monotonic() < deadline:
+            progress.check()
+            time.sleep(0.001)
+        raise AssertionError("the cancel did not reach the fit on all rows")
+
+    with pytest.raises(Cancelled):
+        fit_and_validate(
+            fit_all,
+            X,
+            y,
+            make_folds(120, "kfold", 4),
+            1.0,
+            lam,
+            workers=2,
+            progress=Progress(cb, token),
+        )
+    assert token.cancelled

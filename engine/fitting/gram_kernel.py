@@ -14,7 +14,9 @@ l2 = n*lambda*(1-mix)*v_j:
    elastic net, whose shift n*lambda*(1-mix) moves with every penalty, by conjugate gradients
    preconditioned with the factor of an earlier shift s0 (eigenvalues between s/s0 and 1),
    refactored (at the shift of two penalties further on) when a solve needed more than a
-   few steps.
+   few steps. Their first residual needs Z'Z_A x0 for the start x0: it follows from the
+   gradients of the last two penalties (the start is extrapolated from them) or from the
+   last try's product, corrected on the few columns where the start differs.
 2. Otherwise cyclic coordinate descent with covariance updates on the strong set
    (Tibshirani et al. 2012), grown by the columns violating their condition outside it, then
    the exact step on the set descent found ("polish") if it improves the conditions.
@@ -111,7 +113,8 @@ _CG_TOL_SHARE = 1e-2
 # made by numpy in the caller, once per path, so memory tracing sees them
 _Scratch = namedtuple(
     "_Scratch",
-    "x rhs shift_v work full cand gcand strong work_set members start cols block fwd fwd_ok",
+    "x rhs shift_v work full cand gcand strong work_set members start cols block fwd fwd_ok "
+    "prod_of prod_ok",
 )
 
 
@@ -120,13 +123,15 @@ def new_scratch(p: int) -> _Scratch:
 
     fwd: R'^-1 q_A and R'^-1 (v*s)_A on the factored set, kept with the factor; fwd_ok[0]: 0
     when they are out of date (a refactoring, a changed sign) and must be solved afresh.
+    prod_of: a coefficient vector u with full = Z'Z u (elastic net, where conjugate gradients
+    start); prod_ok[0]: 0 when full holds no such product.
     """
     return _Scratch(
         np.empty(p), np.empty(p), np.empty(p), np.empty((6, p)),
         np.empty(p), np.empty(p), np.empty(p), np.zeros(p, dtype=np.bool_),
         np.empty(p, dtype=np.int64), np.zeros(p, dtype=np.bool_), np.empty(p),
         np.empty(p, dtype=np.int64), np.empty((p, p)), np.empty((2, p)),
-        np.zeros(1, dtype=np.int64),
+        np.zeros(1, dtype=np.int64), np.zeros(p), np.zeros(1, dtype=np.int64),
     )  # fmt: skip
 
 
@@ -446,7 +451,36 @@ def _shifted_matvec(Q, order, k, shift_v, x, out, full):
 
 
 @njit(cache=_CACHE)
-def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enough_abs, work, full):
+def _product_of_start(Q, pos, k, x, prod_of, prod_ok, full):
+    """full = Z'Z_A x (x on the factored set) from the known full = Z'Z prod_of, by the
+    columns where the two differ; False (nothing changed) when the product is unknown or more
+    than half as many columns differ as are factored (the plain product is then cheaper)."""
+    if prod_ok[0] == 0:
+        return False
+    p = full.shape[0]
+    limit = k // 2
+    m = 0
+    for j in range(p):
+        xj = x[pos[j]] if pos[j] >= 0 else 0.0
+        if xj != prod_of[j]:
+            m += 1
+            if m > limit:
+                return False
+    for j in range(p):
+        xj = x[pos[j]] if pos[j] >= 0 else 0.0
+        d = xj - prod_of[j]
+        if d != 0.0:
+            row = Q[j]
+            for c in range(p):
+                full[c] += d * row[c]
+            prod_of[j] = xj
+    return True
+
+
+@njit(cache=_CACHE)
+def _conjugate_gradients(
+    Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enough_abs, work, full, have_product
+):
     """Solve (Z_A'Z_A + diag(shift_v)) x = rhs from x, preconditioned by the factor R'R = M.
 
     The operator is M + diag(delta_v) (delta_v: the current shift minus the factor's), so
@@ -466,8 +500,12 @@ def _conjugate_gradients(Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enou
     it = 0
     fresh_before = np.inf
     fresh = False
-    for _restart in range(3):
-        _shifted_matvec(Q, order, k, shift_v, x, ad, full)
+    for restart in range(3):
+        if restart > 0 or not have_product:
+            _shifted_matvec(Q, order, k, shift_v, x, ad, full)
+        else:  # full already holds Z'Z_A x
+            for i in range(k):
+                ad[i] = full[order[i]] + shift_v[i] * x[i]
         fresh = True
         worst = 0.0
         for i in range(k):
@@ -525,7 +563,7 @@ _SOLVED_WITH_PRODUCT = 2
 
 
 @njit(cache=_CACHE)
-def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
+def _candidate(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch):
     """Exact solution on the factored set with signs sgn into x: _NO_SOLUTION, _SOLVED, or
     _SOLVED_WITH_PRODUCT when conjugate gradients left Z'Z_A x in scratch.full.
 
@@ -575,10 +613,17 @@ def _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs
             shift_v[i] = shift * v[j]
             delta_v[i] = (shift - fs[0]) * v[j]
             x[i] = start[j]  # where conjugate gradients start
+        prod_of = scratch.prod_of
+        prod_ok = scratch.prod_ok
+        known = _product_of_start(Q, pos, k, x, prod_of, prod_ok, scratch.full)
         ok, it, fresh = _conjugate_gradients(
             Q, R, order, k, rhs, shift_v, delta_v, x, _CG_TOL_SHARE * accept_abs,
-            0.1 * accept_abs, scratch.work, scratch.full,
+            0.1 * accept_abs, scratch.work, scratch.full, known,
         )  # fmt: skip
+        prod_ok[0] = 1 if fresh else 0
+        if fresh:  # full = Z'Z x: the next start's product follows from it
+            for j in range(prod_of.shape[0]):
+                prod_of[j] = x[pos[j]] if pos[j] >= 0 else 0.0
         st[1] = it
         st[2] += it
     if not ok:
@@ -600,7 +645,7 @@ def _try_exact(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept
     for _ in range(_EXACT_TRIES):
         st[4] += 1
         found = _candidate(
-            Q, q, R, order, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch
+            Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, start, x, accept_abs, scratch
         )
         if found == _NO_SOLUTION:
             return False
@@ -705,7 +750,9 @@ def _polish(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, g, accept_ab
     if not _sync_factor(Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch) or st[0] == 0:
         return
     x = scratch.x
-    found = _candidate(Q, q, R, order, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch)
+    found = _candidate(
+        Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, beta, x, accept_abs, scratch
+    )
     if found == _NO_SOLUTION:
         return
     k = st[0]
@@ -792,6 +839,21 @@ def gram_path_chunk(
         t = 0.0
         if k >= 2 and lams[k - 2] > lams[k - 1]:  # a grid may repeat a penalty
             t = (lam - lams[k - 1]) / (lams[k - 1] - lams[k - 2])
+        if mix < 1.0:
+            # Z'Z beta = q - g and Z'Z beta_before = q - g_before: the product of the
+            # extrapolated start beta + t (beta - beta_before) costs no pass over Z'Z, and
+            # conjugate gradients start from it (corrected where the start differs)
+            prod_of = scratch.prod_of
+            full = scratch.full
+            for j in range(p):
+                b = beta[j]
+                if t > 0.0:
+                    prod_of[j] = b + t * (b - B_out[k - 2, j])
+                    full[j] = (q[j] - g[j]) + t * (g_before[j] - g[j])
+                else:
+                    prod_of[j] = b
+                    full[j] = q[j] - g[j]
+            scratch.prod_ok[0] = 1
         for j in range(p):
             b = beta[j]
             start[j] = b

@@ -204,6 +204,44 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
     assert min(appended.values()) > 5 and carried > 250
 
 
+def test_the_start_product_follows_from_a_known_one():
+    # Source: numpy's matrix product Z'Z x of the same vectors. Conjugate gradients start from
+    # a product carried from an earlier vector u (full = Z'Z u), corrected on the columns
+    # where the start differs; with too many differences nothing may change (the plain
+    # product is made instead), and without a known product the answer is "unknown"
+    rng = np.random.default_rng(7)
+    p = 40
+    A = rng.normal(size=(90, p))
+    Q = np.ascontiguousarray(A.T @ A)
+    outcomes = set()
+    for _ in range(60):
+        k = int(rng.integers(4, p))
+        order = rng.permutation(p)[:k].astype(np.int64)
+        pos = np.full(p, -1, dtype=np.int64)
+        pos[order] = np.arange(k)
+        x = rng.normal(size=k)
+        x_full = np.zeros(p)
+        x_full[order] = x
+        u = x_full.copy()
+        changed = rng.choice(p, size=int(rng.integers(0, p // 2)), replace=False)
+        u[changed] = rng.normal(size=changed.size) * (rng.random(changed.size) < 0.8)
+        full = Q @ u
+        before = full.copy()
+        ok = np.array([1], dtype=np.int64)
+        differ = int(np.count_nonzero(u != x_full))
+        known = gram_kernel._product_of_start(Q, pos, k, x, u, ok, full)
+        assert known == (differ <= k // 2)
+        outcomes.add(known)
+        if known:
+            np.testing.assert_allclose(full, Q @ x_full, rtol=1e-10, atol=1e-9 * np.abs(Q).max())
+            np.testing.assert_array_equal(u, x_full)
+        else:
+            np.testing.assert_array_equal(full, before)
+    assert outcomes == {True, False}
+    ok[0] = 0
+    assert not gram_kernel._product_of_start(Q, pos, k, x, x_full.copy(), ok, full)
+
+
 def test_warm_up_prepares_the_signature_real_fits_use():
     # the window warms the compiled loop at launch; a real fit must then find its machine code
     # ready (same argument types), not compile another version

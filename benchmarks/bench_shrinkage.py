@@ -11,7 +11,9 @@ scikit-learn gets the data standardized once (its estimators do not rescale), so
 the same objective with alpha = lambda (Ridge: alpha = n_train * lambda). Its tolerance is
 the loosest of --ref-tols whose largest KKT violation on the full-data path is no worse than
 ours (else the tightest tried), measured with the same scale-free function
-(engine.fitting.coordinate.kkt_violation). The reference time is the best of n_jobs 1 and 2.
+(engine.fitting.coordinate.kkt_violation). The reference time is the best of n_jobs 1 and 2;
+Tamis's and the X'X product's the best of --repeat runs (3), so that the ratio to X'X
+compares like with like (single runs here spread by 20-30%).
 RidgeCV refits per penalty and fold; on large shapes it is timed on --ridge-alphas penalties
 and scaled linearly to 100 (marked "extrapolated").
 
@@ -168,7 +170,7 @@ def run_shape(shape, methods, args):
     rows = []
     gram_t = None
     if n > p:
-        gram_t, _ = timed(np.dot, X.T, X, repeat=3)
+        gram_t, _ = timed(np.dot, X.T, X, repeat=args.repeat)
     for method in methods:
         mix = {"lasso": 1.0, "enet": 0.5, "ridge": 0.0}[method]
         if mix == 0:
@@ -179,7 +181,9 @@ def run_shape(shape, methods, args):
         # the workers stay warm in a session (the desktop starts them at launch and keeps them
         # for 30 idle minutes); make sure they are, outside the timing
         warm_process_pool(args.workers, wait=True)
-        t_ours, kkt_ours = timed(tamis_run, X, y, parts, mix, lam, args.workers, args.parallel)
+        t_ours, kkt_ours = timed(
+            tamis_run, X, y, parts, mix, lam, args.workers, args.parallel, repeat=args.repeat
+        )
         row = {
             "shape": shape,
             "method": method,
@@ -336,6 +340,12 @@ def main(argv=None):
         "--skip-default",
         action="store_true",
         help="do not also time the reference at its default tolerance 1e-4",
+    )
+    ap.add_argument(
+        "--repeat",
+        type=int,
+        default=3,
+        help="Tamis and the X'X product are each timed this many times, best kept (default 3)",
     )
     ap.add_argument("--memory", action="store_true", help="also measure peak traced memory")
     ap.add_argument("--seed", type=int, default=0)

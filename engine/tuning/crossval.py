@@ -11,7 +11,8 @@ formed once (row blocks, no copy); a training part's standardized Gram matrix is
 minus the held-out rows' own cross products, with the shift to the part's means and the
 division by its sds done algebraically. Otherwise the solver reads the training rows of X in
 place (only the working columns are copied). Parts run in parallel threads (the compiled
-coordinate descent releases the GIL) with one BLAS thread per worker.
+coordinate descent releases the GIL) with one BLAS thread per worker; ``fit_and_validate``
+adds the fit on all rows to them as one more task instead of running it before or after.
 """
 
 from __future__ import annotations

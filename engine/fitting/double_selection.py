@@ -46,11 +46,11 @@ import numpy as np
 from scipy.stats import norm
 
 from engine.errors import InputProblem
-from engine.fitting.coordinate import elastic_net_path
+from engine.fitting.coordinate import elastic_net_path, path_penalties
 from engine.fitting.post_selection import robust_ols
 from engine.progress import Progress, silent
 from engine.study_result import FocalResult
-from engine.tuning.crossval import cross_validate_path
+from engine.tuning.crossval import fit_and_validate, shared_cross_products
 from engine.tuning.folds import make_folds
 
 PENALTY_RULES = ("plugin", "cv")
@@ -141,19 +141,20 @@ def _cv_lasso(X, u, unpenalized, folds, seed, choose, workers, progress):
         v = np.ones(m_all)
         v[np.asarray(unpenalized, dtype=int)] = 0.0
     parts = make_folds(n, "kfold", folds, seed)
-    curve = cross_validate_path(
-        X,
-        u,
-        parts,
-        1.0,
-        None,
-        penalty_factors=v,
-        choose=choose,
-        progress=progress,
-        workers=workers,
-    )
+    shared = shared_cross_products(X, u, parts)
+    grid = path_penalties(X, u, 1.0, penalty_factors=v, shared=shared)
+
+    def fit_all(prog):
+        return elastic_net_path(
+            X, u, mix=1.0, penalties=grid, penalty_factors=v, progress=prog, shared=shared
+        )
+
+    # one path on all rows, beside the validation parts, serves both the curve and the choice
+    path, curve = fit_and_validate(
+        fit_all, X, u, parts, 1.0, grid, penalty_factors=v, choose=choose, progress=progress,
+        workers=workers, shared=shared,
+    )  # fmt: skip
     i = curve.chosen(choose)
-    path = elastic_net_path(X, u, mix=1.0, penalties=curve.grid, penalty_factors=v)
     beta = path.std_coefs[i]
     sel = np.flatnonzero(beta != 0) if v is None else np.flatnonzero((beta != 0) | (v == 0))
     return sel, float(curve.grid[i])

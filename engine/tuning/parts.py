@@ -380,8 +380,8 @@ def run_parts_in_processes(
         watcher.join()
         results.close()  # after an error or cancel: stop what still runs
 
-    if progress is not None:
-        progress.check()
+    if progress is not None:  # the watcher may not have looked since the last part ended
+        progress.step(1.0, f"{words}: {done[0]} of {count} parts done")
 
 
 def board_folder() -> tempfile.TemporaryDirectory:

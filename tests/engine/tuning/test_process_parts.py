@@ -155,3 +155,28 @@ def test_workers_leave_when_their_program_is_killed():
     assert pids, done.stderr[-2000:]
     alive = _still_running(pids, within=20)
     assert not alive, f"workers outlived their killed program: {alive}"
+
+
+def test_fit_on_all_rows_runs_first_when_parts_go_to_processes():
+    # with the parts in worker processes the fit on all rows runs before them, in the caller,
+    # on the first part of the progress range; the curve equals the in-process one
+    from engine.tuning.crossval import fit_and_validate
+
+    X, y = sparse_truth_data(60, 90, seed=2)
+    parts = make_folds(60, "kfold", folds=5, seed=1)
+    lam = elastic_net_path(X, y).penalties[::5]
+    seen, where = [], []
+
+    def fit_all(progress):
+        where.append((threading.current_thread() is threading.main_thread(), list(seen)))
+        return elastic_net_path(X, y, penalties=lam, progress=progress)
+
+    path, curve = fit_and_validate(
+        fit_all, X, y, parts, 1.0, lam, workers=2, parallel="processes",
+        progress=Progress(lambda f, w: seen.append(f)),
+    )  # fmt: skip
+    here = cross_validate_path(X, y, parts, 1.0, lam, workers=1, n_selected=path.n_selected)
+    assert np.array_equal(curve.part_errors, here.part_errors)
+    assert len(where) == 1 and where[0][0] and max(where[0][1], default=0.0) == 0.0
+    # the parts report on the rest of the range, after the fit's share, to its end
+    assert seen == sorted(seen) and seen[-1] == pytest.approx(1.0)

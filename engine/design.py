@@ -188,6 +188,22 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                 f"{'group' if c is group_col else 'time order'} '{c.name}' missing",
             )
     if spec.missing == "drop":
+        # a candidate with one value besides its blanks says nothing once the rows with blanks
+        # are dropped: leave it out first, so that it does not cost those rows for nothing
+        informative = []
+        for c in usable:
+            value = _only_value_besides_blanks(c, keep)
+            if value is None:
+                informative.append(c)
+                continue
+            reason = (
+                f"it holds one value ({value}) besides its blank cells; dropping the rows with "
+                "blanks would leave it constant (filling missing values instead would keep it, "
+                "the blanks as their own level or indicator)"
+            )
+            dropped_columns[c.name] = reason
+            warnings.append(f"column '{c.name}' left out: {reason}")
+        usable = informative
         for c in usable:
             drop(c.missing_mask(), f"missing in candidate '{c.name}'")
 
@@ -284,7 +300,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                             ),
                             (vals == lv).astype(float),
                         )
-        if fill_policy:
+        if fill_policy and c.kind != ColumnKind.CATEGORY:  # a category's blanks are a level
             add(Encoding(f"{c.name}:missing", c.name, c.letter, "missing"), miss.astype(float))
 
     X = np.column_stack(blocks) if blocks else np.empty((n, 0))
@@ -360,6 +376,22 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         category_levels=category_levels,
         warnings=warnings,
     )
+
+
+def _only_value_besides_blanks(c: Column, rows: np.ndarray) -> str | None:
+    """The single value a column holds on ``rows`` besides blank cells, as text; None when it
+    has no blank there or more than one value."""
+    from engine.intake.table import ColumnKind
+
+    miss = c.missing_mask()[rows]
+    if not miss.any() or miss.all():
+        return None
+    present = np.asarray(c.values)[rows][~miss]
+    if c.kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
+        distinct = np.unique(present.astype(float))
+        return f"{distinct[0]:g}" if distinct.size == 1 else None
+    texts = {str(x) for x in present}
+    return f"'{texts.pop()}'" if len(texts) == 1 else None
 
 
 def _reasons_text(reasons: dict[str, int]) -> str:

@@ -171,9 +171,17 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
     n = design.n_rows
     place = Place(file=design.source, sheet=design.sheet)
     if spec.scheme != "loo" and n < spec.folds:
+        left_out = ""
+        if design.rows_dropped:  # say where the rows went: often one sparse column
+            largest = sorted(design.drop_reasons.items(), key=lambda kv: -kv[1])[:3]
+            left_out = (
+                f" ({design.rows_dropped} left out: "
+                + "; ".join(f"{why}: {count}" for why, count in largest)
+                + ")"
+            )
         raise InputProblem(
-            f"{n} rows are used in sheet '{design.sheet}' but {spec.folds} folds were asked; "
-            f"use --folds {max(2, n // 2)} or fewer, or more rows",
+            f"{n} rows are used in sheet '{design.sheet}'{left_out} but {spec.folds} folds "
+            f"were asked; use --folds {max(2, n // 2)} or fewer, or more rows",
             place,
         )
     try:

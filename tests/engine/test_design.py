@@ -112,6 +112,37 @@ def test_constant_identifier_and_empty_columns_are_dropped_with_reasons():
     assert any("'k' left out: constant" in w for w in d.warnings)
 
 
+@pytest.mark.parametrize(
+    "column",
+    [
+        _col(
+            "note", ColumnKind.CATEGORY, ["check", None, None, "check", None, None], "C", ["check"]
+        ),
+        _col("batch", ColumnKind.NUMBER, [4.0, np.nan, 4.0, np.nan, np.nan, np.nan], "C"),
+    ],
+)
+def test_a_column_with_one_value_besides_blanks_costs_no_rows(column):
+    # common practice (listwise deletion): rows are dropped for a candidate's missing cells
+    # only if the candidate can still be used on the remaining rows; a note column holding one
+    # word or nothing would otherwise remove most rows and then be constant itself
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
+        _col("x", ColumnKind.NUMBER, [1, 3, 2, 5, 4, 6], "B"),
+        column,
+    )
+    d = build_design(t, _spec())
+    assert d.n_rows == 6 and d.rows_dropped == 0 and d.names == ["x"]
+    assert column.name in d.dropped_columns
+    assert any(f"'{column.name}' left out: it holds one value" in w for w in d.warnings)
+    # filling missing values keeps the information: the blanks become a level (category,
+    # no separate indicator that would copy it) or an indicator (number, then constant itself)
+    filled = build_design(t, _spec(missing="fill"))
+    assert filled.n_rows == 6
+    expected = {"note": ["x", "note=(blank)"], "batch": ["x", "batch:missing"]}[column.name]
+    assert filled.names == expected
+    assert not any("exact copy" in w for w in filled.warnings)
+
+
 def test_exact_duplicate_columns_are_reported():
     t = _table(
         _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),
@@ -164,11 +195,11 @@ def test_population_standard_deviation_is_used():
         ),
         (
             [
-                _col("y", ColumnKind.NUMBER, [1, np.nan, np.nan, 4]),
-                _col("x", ColumnKind.NUMBER, [1, 2, 3, np.nan]),
+                _col("y", ColumnKind.NUMBER, [1, np.nan, 3, 4, 5]),
+                _col("x", ColumnKind.NUMBER, [1, 2, 3, np.nan, np.nan]),
             ],
             {},
-            "only 1 of 4 rows",
+            "only 2 of 5 rows",
         ),
     ],
 )

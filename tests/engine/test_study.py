@@ -136,6 +136,17 @@ def test_bad_input_exit_2_says_what_to_change(tmp_path, extra_args, fragment):
     assert fragment in err and err.startswith("tamis: error:")
 
 
+def test_too_few_rows_for_the_folds_says_where_the_rows_went(tmp_path):
+    # a sparse candidate column leaves few rows under the default missing-value policy: the
+    # refusal must name it, not only the count
+    X, y, _ = _sparse_problem(n=20, p=3)
+    sparse = [str(i) if i % 4 == 0 else "" for i in range(20)]
+    book = _write_csv(tmp_path / "s.csv", X, y, ["x1", "x2", "x3"], {"sparse": sparse})
+    code, out, err = _fit(["fit", str(book), "--response", "y", "--methods", "lasso"], tmp_path)
+    assert code == 2, err
+    assert "15 left out: missing in candidate 'sparse': 15" in err and "10 folds" in err
+
+
 def test_progress_is_monotone_and_cancel_stops_the_run(tmp_path):
     X, y, _ = _sparse_problem()
     book = _write_csv(tmp_path / "sim.csv", X, y)

@@ -10,7 +10,7 @@ are reported. Every refusal names the sheet and column and says what to change.
 
 from __future__ import annotations
 
-__all__ = ["Encoding", "Design", "build_design", "MAX_LEVELS"]
+__all__ = ["Encoding", "Design", "build_design", "drop_reasons_text", "MAX_LEVELS"]
 
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -211,7 +211,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     if n < 3:
         raise InputProblem(
             f"only {n} of {n_all} rows in {where} remain after removing missing values "
-            f"({_reasons_text(drop_reasons)}); use --missing fill or choose other columns",
+            f"({drop_reasons_text(drop_reasons)}); use --missing fill or choose other columns",
             place(),
         )
 
@@ -394,8 +394,19 @@ def _only_value_besides_blanks(c: Column, rows: np.ndarray) -> str | None:
     return f"'{texts.pop()}'" if len(texts) == 1 else None
 
 
-def _reasons_text(reasons: dict[str, int]) -> str:
-    return "; ".join(f"{k}: {v} rows" for k, v in reasons.items()) or "none"
+def drop_reasons_text(reasons: dict[str, int], limit: int = 3) -> str:
+    """Why rows were left out, the largest reasons first: "missing in candidate 'x': 53 rows;
+    ... and 12 more reasons (40 rows)" ("none" when no row was)."""
+    ranked = sorted(reasons.items(), key=lambda kv: -kv[1])
+    shown = [f"{why}: {_rows(count)}" for why, count in ranked[:limit]]
+    rest = ranked[limit:]
+    if rest:
+        shown.append(f"and {len(rest)} more reasons ({_rows(sum(c for _, c in rest))})")
+    return "; ".join(shown) or "none"
+
+
+def _rows(count: int) -> str:
+    return f"{count} row" if count == 1 else f"{count} rows"
 
 
 def _duplicate_warnings(

@@ -20,7 +20,7 @@ import warnings as _warnings
 import numpy as np
 
 from engine import __version__
-from engine.design import Design, build_design
+from engine.design import Design, build_design, drop_reasons_text
 from engine.errors import InputProblem, Place, TamisWarning
 from engine.intake.table import Table
 from engine.methods import method_info
@@ -173,11 +173,8 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
     if spec.scheme != "loo" and n < spec.folds:
         left_out = ""
         if design.rows_dropped:  # say where the rows went: often one sparse column
-            largest = sorted(design.drop_reasons.items(), key=lambda kv: -kv[1])[:3]
             left_out = (
-                f" ({design.rows_dropped} left out: "
-                + "; ".join(f"{why}: {count}" for why, count in largest)
-                + ")"
+                f" ({design.rows_dropped} left out: {drop_reasons_text(design.drop_reasons)})"
             )
         raise InputProblem(
             f"{n} rows are used in sheet '{design.sheet}'{left_out} but {spec.folds} folds "

@@ -6,6 +6,7 @@ __all__ = ["terminal_progress", "summary_text", "CAUTIONS"]
 
 import time
 
+from engine.design import drop_reasons_text
 from engine.progress import Progress
 
 CAUTIONS = (
@@ -49,11 +50,7 @@ def summary_text(result) -> str:
     d = result.design
     lines = [
         f"{d.response} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
-        + (
-            f" ({'; '.join(f'{k}: {v}' for k, v in d.drop_reasons.items())})"
-            if d.drop_reasons
-            else ""
-        ),
+        + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
         f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'kept':>6}{'R2':>8}",

@@ -215,3 +215,15 @@ def test_more_columns_than_rows_is_normal_input():
     cols += [_col(f"x{j}", ColumnKind.NUMBER, rng.normal(size=10), "B") for j in range(40)]
     d = build_design(_table(*cols), _spec())
     assert d.X.shape == (10, 40)
+
+
+def test_why_rows_were_left_out_reads_largest_first_and_stays_short():
+    from engine.design import drop_reasons_text
+
+    reasons = {f"missing in candidate 'a{j}'": 1 + (j % 3) for j in range(30)}
+    reasons["response 'y' missing"] = 1
+    text = drop_reasons_text(reasons)
+    assert text.startswith("missing in candidate 'a2': 3 rows; missing in candidate 'a5': 3 rows")
+    assert text.endswith(f"and 28 more reasons ({sum(reasons.values()) - 9} rows)")
+    assert drop_reasons_text({"response 'y' missing": 1}) == "response 'y' missing: 1 row"
+    assert drop_reasons_text({}) == "none"

@@ -11,6 +11,7 @@ __all__ = ["write", "CAUTIONS"]
 import datetime as _dt
 import math
 
+from engine.design import drop_reasons_text
 from engine.methods import method_info
 from engine.report.scoring_model import choose_scoring_method
 from engine.report.sheets.cells import Formats, number, text
@@ -49,7 +50,7 @@ def write(book, ws, result, fm: Formats) -> None:
         scheme_words = f"{spec.folds}-fold, repeated {spec.repeats} times"
     else:
         scheme_words = f"{spec.folds}-fold ({scheme})"
-    reasons = "; ".join(f"{k}: {v}" for k, v in d.drop_reasons.items()) or "none"
+    reasons = drop_reasons_text(d.drop_reasons, limit=10)
     facts: list[tuple[str, object]] = [
         ("Data file", spec.source),
         ("Sheet", d.sheet),

@@ -46,7 +46,8 @@ def run(args, ctx) -> int:
     if unscored:
         first = next(i for i, n in enumerate(notes) if n)
         print(
-            f"{unscored} rows left without a prediction (first: row {int(table.row_numbers[first])}, "
+            f"{unscored} {'row' if unscored == 1 else 'rows'} left without a prediction "
+            f"(first: row {int(table.row_numbers[first])}, "
             f"{notes[first]})",
             file=ctx.stderr,
         )

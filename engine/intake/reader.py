@@ -13,7 +13,13 @@ from pathlib import Path
 import numpy as np
 
 from engine.errors import InputProblem, Place
-from engine.intake.cells import cell_name, column_letter, format_heading
+from engine.intake.cells import (
+    cell_name,
+    column_letter,
+    format_heading,
+    is_error_text,
+    parse_number_text,
+)
 from engine.intake.classify import UNCACHED, classify_column
 from engine.intake.delimited import read_delimited
 from engine.intake.header import detect_header_row
@@ -196,6 +202,16 @@ def _build_table(
             )
         keep_rows = np.flatnonzero(row_has)
         blank_skipped = int(keep_rows[-1] + 1 - keep_rows.size)
+        totals = _totals_rows(block, empty, keep_rows)
+        if totals:
+            keep_rows = keep_rows[: -len(totals)]
+            for i, (j, label) in totals:
+                row = i + h + 2
+                cell = f"column {j + 1}" if fmt == "csv" else f"cell {column_letter(j)}{row}"
+                warnings.append(
+                    f"row {row} left out: it looks like a totals row ('{label}' in {cell}), "
+                    "not data"
+                )
         block = block[keep_rows]
         empty = empty[keep_rows]
         row_numbers = (keep_rows + h + 2).astype(np.int64)
@@ -268,6 +284,68 @@ def _build_table(
         warnings=warnings,
         file_format=fmt,
     )
+
+
+# words that label a totals row at the foot of a table (common spreadsheet practice, in the
+# languages Tamis's users write headings in)
+_TOTAL_WORDS = frozenset(
+    """total totals subtotal sum summe gesamt gesamtsumme zwischensumme totaal somme suma
+    totale totalt yhteensä razem celkem""".split()
+)
+# at most this many trailing rows are looked at (a subtotal and a grand total, say)
+_TOTALS_AT_FOOT = 3
+
+
+def _is_total_label(value: object) -> bool:
+    if not isinstance(value, str):
+        return False
+    words = value.strip().casefold().rstrip(":").split()
+    return bool(words) and (
+        words[-1] in _TOTAL_WORDS or words[0] in _TOTAL_WORDS or " ".join(words) == "grand total"
+    )
+
+
+def _is_text(value: object) -> bool:
+    """A cell holding words, not a number (numbers stored as text count as numbers, as do
+    error codes and formulas written out as text)."""
+    if not isinstance(value, str) or is_error_text(value) or value.lstrip().startswith("="):
+        return False
+    return parse_number_text(value) is None and parse_number_text(value, ",") is None
+
+
+def _totals_rows(
+    block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray
+) -> list[tuple[int, tuple[int, str]]]:
+    """The trailing non-blank rows that label themselves as totals ("Total", "Summe", ...):
+    [(row index in the sheet part below the headings, (column, label)), ...], topmost first.
+
+    A row counts when one of its text cells is such a label, no row above uses that label in
+    the same column (a category that happens to be called "Total" stays data), its other
+    cells hold numbers or nothing (no other text, as data rows with categories have), and
+    only such rows follow it. Summed into the data, a totals row would be one huge outlier.
+    """
+    found: list[tuple[int, tuple[int, str]]] = []
+    body = keep_rows
+    for back in range(1, min(_TOTALS_AT_FOOT, body.size - 3) + 1):  # leave 3 rows of data
+        i = int(body[-back])
+        label = None
+        for j in range(block.shape[1]):
+            v = block[i, j]
+            if empty[i, j] or not _is_total_label(v):
+                continue
+            above = block[body[:-back], j]
+            if not any(
+                isinstance(a, str) and a.strip().casefold() == v.strip().casefold() for a in above
+            ):
+                label = (j, v.strip())
+                break
+        if label is None or any(
+            k != label[0] and not empty[i, k] and _is_text(block[i, k])
+            for k in range(block.shape[1])
+        ):
+            break
+        found.insert(0, (i, label))
+    return found
 
 
 def _apply_facts(

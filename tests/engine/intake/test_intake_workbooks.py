@@ -308,3 +308,63 @@ def test_macro_enabled_name_and_content_decide_the_format(tmp_path):
     renamed = tmp_path / "renamed.xls"
     renamed.write_bytes(xlsm.read_bytes())
     assert read_table(renamed).file_format == "xlsx"
+
+
+def _book_with_foot(tmp_path, foot_rows, name="foot.xlsx"):
+    """Ten data rows (region, units, price) under headings, then the given foot rows."""
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Sales"
+    ws.append(["region", "units", "price"])
+    for i in range(10):
+        ws.append(["North" if i % 2 else "South", 100 + i, 2.5 + i / 10])
+    for row in foot_rows:
+        ws.append(row)
+    path = tmp_path / name
+    wb.save(path)
+    return path
+
+
+def test_totals_rows_at_the_foot_are_left_out_with_a_warning(tmp_path):
+    # common spreadsheet practice: a labelled totals row under the data; read as data it
+    # would be one huge outlier (units 1045 against 100-109)
+    path = _book_with_foot(tmp_path, [["Subtotal", 1045, None], ["Grand total:", 1045, None]])
+    table = read_table(path)
+    assert table.n_rows == 10 and table.row_numbers.tolist() == list(range(2, 12))
+    units = next(c for c in table.columns if c.name == "units")
+    assert np.nanmax(units.values) == 109
+    assert any(
+        "row 12 left out: it looks like a totals row ('Subtotal' in cell A12)" in w
+        for w in table.warnings
+    )
+    assert any("row 13 left out" in w and "'Grand total:'" in w for w in table.warnings)
+
+
+@pytest.mark.parametrize(
+    "foot",
+    [
+        ["Total", 100, 2.0],  # "Total" is also a region above: a category, not a label
+        ["Sum Ltd", 111, 3.1],  # a name that starts with "sum" in a row with other text below
+    ],
+)
+def test_rows_that_only_look_like_totals_stay_data(tmp_path, foot):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["region", "units", "price", "buyer"])
+    for i in range(10):
+        ws.append(["Total" if i == 3 else "North", 100 + i, 2.5, f"buyer {i}"])
+    ws.append(foot + ["buyer 10"])
+    path = tmp_path / "data.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert table.n_rows == 11
+    assert not any("totals row" in w for w in table.warnings)
+
+
+def test_a_totals_line_in_a_text_file_is_left_out(tmp_path):
+    lines = ["Filiale;Umsatz"] + [f"Nord;{1000 + i},5" for i in range(8)] + ["Summe;=SUMME(B2:B9)"]
+    path = tmp_path / "umsatz.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    table = read_table(path)
+    assert table.n_rows == 8
+    assert any("row 10 left out" in w and "'Summe' in column 1" in w for w in table.warnings)

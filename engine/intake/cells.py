@@ -54,6 +54,12 @@ _ERROR_SET = frozenset(ERROR_VALUES)
 
 _SPACES = " \u00a0\u202f\u2009\t"  # ordinary, no-break, narrow no-break, thin space, tab
 _CURRENCY = "$€£¥"
+# ISO 4217 codes written before or after an amount ("CHF 1'200.00", "12.50 EUR")
+_CURRENCY_CODES = frozenset(
+    "EUR USD GBP CHF JPY CAD AUD NZD SEK NOK DKK PLN CZK HUF INR CNY ZAR BRL MXN".split()
+)
+# the minus sign of typeset text (U+2212), and the hyphen
+_MINUS = "-\u2212"
 
 _DIGITS_POINT = re.compile(
     r"(?:\d{1,3}(?:[,\u00a0\u202f\u2009 ']\d{3})+|\d+)(?:\.\d*)?(?:[eE][+-]?\d+)?|\.\d+(?:[eE][+-]?\d+)?"
@@ -113,12 +119,20 @@ def _strip_decorations(text: str) -> tuple[str, float, bool] | None:
         s = s[1:].lstrip(_SPACES)
     elif s and s[-1] in _CURRENCY:
         s = s[:-1].rstrip(_SPACES)
-    if s and s[0] in "+-":
-        if s[0] == "-":
+    elif s[:3] in _CURRENCY_CODES and s[3:4] in _SPACES:
+        s = s[3:].lstrip(_SPACES)
+    elif s[-3:] in _CURRENCY_CODES and s[-4:-3] in _SPACES:
+        s = s[:-3].rstrip(_SPACES)
+    if s and s[0] in "+" + _MINUS:
+        if s[0] != "+":
             negative = not negative
         s = s[1:].lstrip(_SPACES)
         if s and s[0] in _CURRENCY:  # "-$5"
             s = s[1:]
+    elif len(s) > 1 and s[-1] in _MINUS and s[-2].isdigit():
+        # a trailing minus, as accounting systems export negative amounts ("1.234,50-")
+        negative = not negative
+        s = s[:-1]
     if not s:
         return None
     return s, scale, negative

@@ -41,11 +41,17 @@ from engine.intake.cells import (
         ("1'234.5", ".", 1234.5),
         ("0.5", ".", 0.5),
         ("0", ".", 0.0),
+        ("\u22123.2", ".", -3.2),  # the typeset minus sign (Unicode U+2212)
+        ("1.234,50-", ",", -1234.5),  # a trailing minus, as accounting exports write it
+        ("(12-)", ".", 12.0),  # parentheses and a trailing minus: two negations
+        ("CHF 1'200.00", ".", 1200.0),  # ISO 4217 currency codes before or after
+        ("12,50 EUR", ",", 12.5),
     ],
 )
 def test_numbers_written_as_text(text, decimal, expected):
     # Source: common practice in spreadsheet number formats (grouping marks, percent,
-    # accounting parentheses for negatives).
+    # accounting parentheses or a trailing minus for negatives); ISO 4217 for the
+    # three-letter currency codes; Unicode U+2212 MINUS SIGN.
     assert parse_number_text(text, decimal) == pytest.approx(expected)
 
 
@@ -67,6 +73,11 @@ def test_numbers_written_as_text(text, decimal, expected):
         ("%", "."),
         ("()", "."),
         ("#N/A", "."),
+        ("-", "."),
+        ("12-3", "."),  # a range or a code, not a negative number
+        ("2024-01", "."),
+        ("12 USDX", "."),
+        ("EUR12", "."),  # a code needs its space
     ],
 )
 def test_texts_that_are_not_numbers(text, decimal):

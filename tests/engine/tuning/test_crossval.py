@@ -237,3 +237,21 @@ def test_fit_beside_the_parts_is_cancelled_with_them():
             progress=Progress(cb, token),
         )
     assert token.cancelled
+
+
+def test_cross_products_summed_over_row_ranges_on_threads_match_numpy():
+    # Source: numpy's product of the centred data. The total is summed from row ranges made
+    # side by side on threads (and, for k-fold parts, from the held-out parts' products)
+    from engine.fitting import coordinate as co
+
+    X, y = sparse_truth_data(1300, 20, seed=9)
+    X = X + 1000.0  # far from zero: the centring at the reference must keep the digits
+    m0 = X.mean(axis=0)
+    Xc, yc = X - m0, y - y.mean()
+    for tests in ([], [te for _, te in make_folds(1300, "kfold", folds=5, seed=1)]):
+        shared = co.SharedCrossProducts(X, y, tests)
+        assert bool(shared.held) == bool(tests)
+        np.testing.assert_allclose(shared.total.G, Xc.T @ Xc, rtol=1e-12, atol=1e-9)
+        np.testing.assert_allclose(shared.total.xy, Xc.T @ yc, rtol=1e-12, atol=1e-9)
+        assert shared.total.n == 1300
+    assert co._SUM_THREADS >= 1

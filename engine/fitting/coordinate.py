@@ -486,18 +486,22 @@ class SharedCrossProducts:
         self.held: dict[bytes, CrossProducts] = {}
         m0, ybar0 = self.m0, self.ybar0
         threads = min(_SUM_THREADS, max(1, n // _MIN_ROWS_PER_THREAD))
-        with one_blas_thread(), ThreadPoolExecutor(threads) as pool:
-            if tests and len(tests) * p <= n and _partition(tests, n):
-                held = list(pool.map(lambda te: cross_products(X, y, m0, ybar0, te), tests))
-                self.held = {te.tobytes(): cp for te, cp in zip(tests, held)}
-            else:  # the rows in as many contiguous ranges as threads
-                cuts = np.linspace(0, n, threads + 1).astype(int)
-                held = list(
-                    pool.map(
-                        lambda ab: cross_products(X[ab[0] : ab[1]], y[ab[0] : ab[1]], m0, ybar0),
-                        zip(cuts[:-1], cuts[1:]),
-                    )
-                )
+        by_part = bool(tests) and len(tests) * p <= n and _partition(tests, n)
+        if by_part:
+            pieces = [lambda te=te: cross_products(X, y, m0, ybar0, te) for te in tests]
+        else:  # the rows in as many contiguous ranges as threads
+            cuts = np.linspace(0, n, threads + 1).astype(int)
+            pieces = [
+                lambda a=a, b=b: cross_products(X[a:b], y[a:b], m0, ybar0)
+                for a, b in zip(cuts[:-1], cuts[1:])
+            ]
+        if threads == 1:  # one piece at a time, the library free to thread each product
+            held = [piece() for piece in pieces]
+        else:
+            with one_blas_thread(), ThreadPoolExecutor(threads) as pool:
+                held = list(pool.map(lambda piece: piece(), pieces))
+        if by_part:
+            self.held = {te.tobytes(): cp for te, cp in zip(tests, held)}
         total = held[0]
         for cp in held[1:]:
             total = total.plus(cp)

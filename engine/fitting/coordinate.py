@@ -353,14 +353,19 @@ class CrossProducts:
     sy: float
     yy: float
 
-    def plus(self, other: CrossProducts) -> CrossProducts:
+    @staticmethod
+    def total_of(pieces: Sequence[CrossProducts]) -> CrossProducts:
+        """The sum of cross products over disjoint row sets (one new p x p array)."""
+        G = pieces[0].G.copy()
+        for cp in pieces[1:]:
+            G += cp.G
         return CrossProducts(
-            self.n + other.n,
-            self.G + other.G,
-            self.s + other.s,
-            self.xy + other.xy,
-            self.sy + other.sy,
-            self.yy + other.yy,
+            sum(cp.n for cp in pieces),
+            G,
+            np.sum([cp.s for cp in pieces], axis=0),
+            np.sum([cp.xy for cp in pieces], axis=0),
+            float(sum(cp.sy for cp in pieces)),
+            float(sum(cp.yy for cp in pieces)),
         )
 
     def minus(self, other: CrossProducts, gram: bool = True) -> CrossProducts:
@@ -383,18 +388,21 @@ def cross_products(
     p = X.shape[1]
     idx = None if rows is None else np.asarray(rows)
     n = X.shape[0] if idx is None else idx.shape[0]
-    G = np.zeros((p, p))
+    G = None
     s = np.zeros(p)
     xy = np.zeros(p)
     sy = 0.0
     yy = 0.0
-    for a in range(0, n, _BLOCK_ROWS):
+    for a in range(0, max(n, 1), _BLOCK_ROWS):
         b = min(a + _BLOCK_ROWS, n)
         if idx is None:
             xb, yb = X[a:b] - m0, y[a:b] - ybar0
         else:
             xb, yb = X[idx[a:b]] - m0, y[idx[a:b]] - ybar0
-        G += xb.T @ xb
+        if G is None:  # the first block's product is the sum so far: no p x p temporary
+            G = xb.T @ xb
+        else:
+            G += xb.T @ xb
         s += xb.sum(axis=0)
         xy += xb.T @ yb
         sy += float(yb.sum())
@@ -502,10 +510,7 @@ class SharedCrossProducts:
                 held = list(pool.map(lambda piece: piece(), pieces))
         if by_part:
             self.held = {te.tobytes(): cp for te, cp in zip(tests, held)}
-        total = held[0]
-        for cp in held[1:]:
-            total = total.plus(cp)
-        self.total = total
+        self.total = CrossProducts.total_of(held)
 
     def full_problem(self) -> tuple[_GramProblem, _Scaling]:
         """The standardized problem of all rows (what ``build_problem`` makes, without a pass)."""

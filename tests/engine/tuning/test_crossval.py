@@ -255,3 +255,24 @@ def test_cross_products_summed_over_row_ranges_on_threads_match_numpy():
         np.testing.assert_allclose(shared.total.xy, Xc.T @ yc, rtol=1e-12, atol=1e-9)
         assert shared.total.n == 1300
     assert co._SUM_THREADS >= 1
+
+
+def test_cross_products_over_several_row_blocks_match_numpy():
+    # Source: numpy's product of the centred data. Taller than one block of rows, so the
+    # first block's product starts the sum and the next ones are added to it
+    from engine.fitting import coordinate as co
+    from engine.fitting.standardize import _BLOCK_ROWS
+
+    n = _BLOCK_ROWS + 777
+    X, y = sparse_truth_data(n, 6, seed=4)
+    m0, ybar0 = X.mean(axis=0), float(y.mean())
+    rows = np.arange(0, n, 3)[::-1]  # a subset, out of order
+    for idx in (None, rows):
+        Xs, ys = (X, y) if idx is None else (X[idx], y[idx])
+        cp = co.cross_products(X, y, m0, ybar0, idx)
+        Xc, yc = Xs - m0, ys - ybar0
+        assert cp.n == Xs.shape[0]
+        np.testing.assert_allclose(cp.G, Xc.T @ Xc, rtol=1e-12, atol=1e-9)
+        np.testing.assert_allclose(cp.xy, Xc.T @ yc, rtol=1e-12, atol=1e-9)
+        np.testing.assert_allclose(cp.s, Xc.sum(axis=0), rtol=1e-10, atol=1e-8)
+        assert cp.yy == pytest.approx(float(yc @ yc), rel=1e-12)

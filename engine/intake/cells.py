@@ -23,6 +23,7 @@ __all__ = [
     "is_blank_text",
     "parse_number_text",
     "text_number_convention",
+    "decimal_mark_votes",
     "format_heading",
     "format_plain",
 ]
@@ -61,11 +62,13 @@ _CURRENCY_CODES = frozenset(
 # the minus sign of typeset text (U+2212), and the hyphen
 _MINUS = "-\u2212"
 
+# digit groups start with a nonzero digit: "0,325" has no thousands in it, it can only be a
+# decimal comma (and "0.325" only a decimal point)
 _DIGITS_POINT = re.compile(
-    r"(?:\d{1,3}(?:[,\u00a0\u202f\u2009 ']\d{3})+|\d+)(?:\.\d*)?(?:[eE][+-]?\d+)?|\.\d+(?:[eE][+-]?\d+)?"
+    r"(?:[1-9]\d{0,2}(?:[,\u00a0\u202f\u2009 ']\d{3})+|\d+)(?:\.\d*)?(?:[eE][+-]?\d+)?|\.\d+(?:[eE][+-]?\d+)?"
 )
 _DIGITS_COMMA = re.compile(
-    r"(?:\d{1,3}(?:[.\u00a0\u202f\u2009 ']\d{3})+|\d+)(?:,\d*)?(?:[eE][+-]?\d+)?|,\d+"
+    r"(?:[1-9]\d{0,2}(?:[.\u00a0\u202f\u2009 ']\d{3})+|\d+)(?:,\d*)?(?:[eE][+-]?\d+)?|,\d+"
 )
 
 
@@ -166,11 +169,9 @@ def parse_number_text(text: str, decimal: str = ".") -> float | None:
     return -value if negative else value
 
 
-def text_number_convention(texts: list[str], default: str = ".") -> str:
-    """The decimal mark ("." or ",") under which more of `texts` read as numbers.
-
-    Texts that read the same way under both (e.g. "12") do not count; ties keep `default`.
-    """
+def decimal_mark_votes(texts: list[str]) -> tuple[int, int]:
+    """How many of `texts` read as a number only, or differently, with a decimal point, and
+    how many with a decimal comma ("1,234" votes for both; "12" for neither)."""
     point = comma = 0
     for t in texts:
         a = parse_number_text(t, ".")
@@ -179,6 +180,15 @@ def text_number_convention(texts: list[str], default: str = ".") -> str:
             point += 1
         if b is not None and (a is None or a != b):
             comma += 1
+    return point, comma
+
+
+def text_number_convention(texts: list[str], default: str = ".") -> str:
+    """The decimal mark ("." or ",") under which more of `texts` read as numbers.
+
+    Texts that read the same way under both (e.g. "12") do not count; ties keep `default`.
+    """
+    point, comma = decimal_mark_votes(texts)
     if point == comma:
         return default
     return "." if point > comma else ","

@@ -42,9 +42,9 @@ from engine.intake.cells import (
     FLAG_FALSE,
     FLAG_TRUE,
     cell_name,
+    decimal_mark_votes,
     format_plain,
     parse_number_text,
-    text_number_convention,
 )
 from engine.intake.table import Column, ColumnKind
 from engine.intake.text_dates import looks_like_date, parse_date_texts
@@ -183,11 +183,23 @@ def _value_record(v: object) -> _Record:
 
 def _text_records(
     unique: list[str], decimal: str, day_first: bool
-) -> tuple[dict[str, _Record], str | None]:
-    """Records of distinct texts, and a note when the day/month order of dates was a guess."""
+) -> tuple[dict[str, _Record], str | None, str | None]:
+    """Records of distinct texts, a note when the day/month order of dates was a guess, and
+    one saying which decimal mark was used when some texts read either way."""
     if not unique:
-        return {}, None
-    conv = text_number_convention(unique[:_CONVENTION_SAMPLE], default=decimal)
+        return {}, None, None
+    point, comma = decimal_mark_votes(unique[:_CONVENTION_SAMPLE])
+    conv = decimal if point == comma else ("." if point > comma else ",")
+    # texts whose value depends on the mark ("1,234": 1234 or 1.234), said in the notes
+    mark_note = None
+    if point and comma:
+        mark, other = ("comma", "point") if conv == "," else ("point", "comma")
+        mark_note = (
+            f"read with a decimal {mark} (the sheet's usual one); each of them could also "
+            f"be read with a decimal {other}"
+            if point == comma
+            else f"read with a decimal {mark}, as most of them are written"
+        )
     date_like = [u for u in unique if looks_like_date(u)]
     parsed_dates: dict[str, dt.datetime | None] = {}
     date_note = None
@@ -212,7 +224,7 @@ def _text_records(
                 info[u] = (_TEXT_FLAG, _NAN, _FLAG_WORDS[low], s, None)
             else:
                 info[u] = (_TEXT, _NAN, _NAN, s, None)
-    return info, date_note
+    return info, date_note, mark_note
 
 
 def _number_column(
@@ -259,7 +271,7 @@ def _classify_mixed(
 
     # Texts are classified once per distinct text (labels repeat a lot).
     unique = list(dict.fromkeys(v for v in present if type(v) is str))
-    info, date_note = _text_records(unique, decimal, day_first)
+    info, date_note, mark_note = _text_records(unique, decimal, day_first)
     any_code = any(_is_code(u) for u in unique)
     records = [info[v] if type(v) is str else _value_record(v) for v in present]
     code_list, number_list, flag_list, shown, date_list = zip(*records)
@@ -347,6 +359,7 @@ def _classify_mixed(
             notes.append(
                 f"{col.text_numbers} number{'s' if col.text_numbers > 1 else ''} stored as text read as "
                 f"number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} '{shown[first]}')"
+                + (f", {mark_note}" if mark_note else "")
             )
     elif n_dates and n_dates >= _share(usable):
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])

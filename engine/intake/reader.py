@@ -19,6 +19,7 @@ from engine.intake.cells import (
     format_heading,
     is_error_text,
     parse_number_text,
+    text_number_convention,
 )
 from engine.intake.classify import UNCACHED, classify_column
 from engine.intake.delimited import read_delimited
@@ -209,11 +210,13 @@ def _build_table(
                 row = i + h + 2
                 cell = f"column {j + 1}" if fmt == "csv" else f"cell {column_letter(j)}{row}"
                 warnings.append(
-                    f"row {row} left out: it looks like a totals row ('{label}' in {cell}), "
-                    "not data"
+                    f"row {row} left out: it looks like a totals or summary row ('{label}' in "
+                    f"{cell}), not data"
                 )
         block = block[keep_rows]
         empty = empty[keep_rows]
+        if fmt != "csv":  # a text file's mark was decided for the whole file when it was read
+            decimal = _sheet_decimal_mark(block, decimal)
         row_numbers = (keep_rows + h + 2).astype(np.int64)
         col_has: np.ndarray = ~np.asarray(empty.all(axis=0))
         keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
@@ -292,16 +295,27 @@ _TOTAL_WORDS = frozenset(
     """total totals subtotal sum summe gesamt gesamtsumme zwischensumme totaal somme suma
     totale totalt yhteensä razem celkem""".split()
 )
-# at most this many trailing rows are looked at (a subtotal and a grand total, say)
-_TOTALS_AT_FOOT = 3
+# whole labels of a summary row under the data (an average, a spread...): a label, not a word
+# in a name ("Max Weber" stays data)
+_SUMMARY_LABELS = frozenset(
+    """average averages mean avg median min max minimum maximum count std stdev sd
+    durchschnitt mittelwert moyenne promedio media gemiddelde keskiarvo średnia průměr medel
+    gennemsnit gjennomsnitt""".split()
+) | {"std dev", "std. dev", "standard deviation", "std deviation"}
+# at most this many trailing rows are looked at (a subtotal, a grand total, an average...)
+_TOTALS_AT_FOOT = 6
 
 
 def _is_total_label(value: object) -> bool:
     if not isinstance(value, str):
         return False
-    words = value.strip().casefold().rstrip(":").split()
+    label = value.strip().casefold().rstrip(":.").strip()
+    words = label.split()
     return bool(words) and (
-        words[-1] in _TOTAL_WORDS or words[0] in _TOTAL_WORDS or " ".join(words) == "grand total"
+        words[-1] in _TOTAL_WORDS
+        or words[0] in _TOTAL_WORDS
+        or label == "grand total"
+        or " ".join(words) in _SUMMARY_LABELS
     )
 
 
@@ -313,10 +327,23 @@ def _is_text(value: object) -> bool:
     return parse_number_text(value) is None and parse_number_text(value, ",") is None
 
 
+# cells looked at to choose a sheet's decimal mark (numbers written as text)
+_MARK_SAMPLE_CELLS = 200_000
+
+
+def _sheet_decimal_mark(block: np.ndarray, default: str) -> str:
+    """The decimal mark most texts of the sheet need ("0,325", "1.234,5": comma), used for
+    a column whose own texts read either way ("1,234"); ``default`` when none tells."""
+    rows = max(1, _MARK_SAMPLE_CELLS // max(1, block.shape[1]))
+    texts = {v for v in block[:rows].ravel().tolist() if type(v) is str and v}
+    return text_number_convention(list(texts), default=default)
+
+
 def _totals_rows(
     block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray
 ) -> list[tuple[int, tuple[int, str]]]:
-    """The trailing non-blank rows that label themselves as totals ("Total", "Summe", ...):
+    """The trailing non-blank rows that label themselves as totals or summaries ("Total",
+    "Summe", "Average", ...):
     [(row index in the sheet part below the headings, (column, label)), ...], topmost first.
 
     A row counts when one of its text cells is such a label, no row above uses that label in

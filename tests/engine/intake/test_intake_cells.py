@@ -46,6 +46,8 @@ from engine.intake.cells import (
         ("(12-)", ".", 12.0),  # parentheses and a trailing minus: two negations
         ("CHF 1'200.00", ".", 1200.0),  # ISO 4217 currency codes before or after
         ("12,50 EUR", ",", 12.5),
+        ("0,325", ",", 0.325),  # three decimals after a zero: only a decimal comma reads it
+        ("-0.747", ".", -0.747),
     ],
 )
 def test_numbers_written_as_text(text, decimal, expected):
@@ -63,6 +65,9 @@ def test_numbers_written_as_text(text, decimal, expected):
         ("12,34.5", "."),  # grouping must come in threes
         ("1,5", "."),
         ("1.5", ","),
+        ("0,325", "."),  # a digit group never starts with a lone zero: not 325
+        ("0.325", ","),
+        ("01,234", "."),
         ("007", "."),  # a code with a leading zero
         ("01234", ","),
         ("inf", "."),

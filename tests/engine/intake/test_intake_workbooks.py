@@ -334,7 +334,7 @@ def test_totals_rows_at_the_foot_are_left_out_with_a_warning(tmp_path):
     units = next(c for c in table.columns if c.name == "units")
     assert np.nanmax(units.values) == 109
     assert any(
-        "row 12 left out: it looks like a totals row ('Subtotal' in cell A12)" in w
+        "row 12 left out: it looks like a totals or summary row ('Subtotal' in cell A12)" in w
         for w in table.warnings
     )
     assert any("row 13 left out" in w and "'Grand total:'" in w for w in table.warnings)
@@ -358,7 +358,32 @@ def test_rows_that_only_look_like_totals_stay_data(tmp_path, foot):
     wb.save(path)
     table = read_table(path)
     assert table.n_rows == 11
-    assert not any("totals row" in w for w in table.warnings)
+    assert not any("left out" in w for w in table.warnings)
+
+
+def test_summary_rows_under_a_totals_row_are_left_out_too(tmp_path):
+    # common spreadsheet practice: a total and an average (and other summaries) under the data
+    path = _book_with_foot(
+        tmp_path, [["TOTAL", 1045, 30.0], ["Average", 104.5, 3.0], ["Std. dev.", 3.03, 0.3]]
+    )
+    table = read_table(path)
+    assert table.n_rows == 10
+    units = next(c for c in table.columns if c.name == "units")
+    assert np.nanmax(units.values) == 109
+    assert [w.split(":")[0] for w in table.warnings if "left out" in w] == [
+        "row 12 left out",
+        "row 13 left out",
+        "row 14 left out",
+    ]
+    assert any("('Average' in cell A13)" in w for w in table.warnings)
+
+
+def test_a_name_starting_with_a_summary_word_stays_data(tmp_path):
+    # "Max" is a summary label only on its own: a person called Max in the last row is data
+    path = _book_with_foot(tmp_path, [["Max Weber", 110, 3.5]])
+    table = read_table(path)
+    assert table.n_rows == 11
+    assert not any("left out" in w for w in table.warnings)
 
 
 def test_a_totals_line_in_a_text_file_is_left_out(tmp_path):
@@ -368,3 +393,23 @@ def test_a_totals_line_in_a_text_file_is_left_out(tmp_path):
     table = read_table(path)
     assert table.n_rows == 8
     assert any("row 10 left out" in w and "'Summe' in column 1" in w for w in table.warnings)
+
+
+def test_the_decimal_mark_of_numbers_written_as_text_is_decided_for_the_sheet(tmp_path):
+    # common practice in decimal-comma locales: a lab sheet of values exported as text. "0,325"
+    # can only be a decimal comma; "1,250" reads either way and follows the sheet's other
+    # numbers ("6,02": decimal comma), so it is 1.25, not 1250
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Analysen"
+    ws.append(["pH", "Nitrat", "Leitwert"])
+    for i in range(12):
+        ws.append([f"6,{10 + i:02d}", f"0,{300 + 7 * i}", f"1,{250 + i * 11}"])
+    path = tmp_path / "lab.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    nitrat = table.column("Nitrat")
+    assert nitrat.values[0] == pytest.approx(0.3) and nitrat.maximum == pytest.approx(0.377)
+    leit = table.column("Leitwert")
+    assert leit.values[0] == pytest.approx(1.25) and leit.maximum == pytest.approx(1.371)
+    assert any("decimal comma" in n and "could also" in n for n in leit.notes)

@@ -13,6 +13,7 @@ __all__ = ["main", "build_parser"]
 import argparse
 import datetime as _dt
 import importlib
+import os
 import sys
 import traceback
 from collections.abc import Sequence
@@ -203,18 +204,39 @@ def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
         print(f"tamis: error: {exc.message}", file=ctx.stderr)
         return exc.exit_code
     except KeyboardInterrupt:
-        print("tamis: cancelled; nothing was written", file=ctx.stderr)
+        print(f"tamis: cancelled; {_what_was_written(ctx)}", file=ctx.stderr)
         return 3
+    except BrokenPipeError:
+        # the reader of the output stopped early (``tamis inspect ... | head``): not a failure
+        if ctx.own_process:
+            _silence_stdout()
+        return 0
     except Exception:  # a real bug: keep the traceback for the report, not for the user
         text = traceback.format_exc()
         if args.traceback:
             print(text, file=ctx.stderr)
         log = _write_log(ctx, text)
         print(
-            f"tamis: unexpected failure (a bug in Tamis; nothing was written). Details: {log}",
+            f"tamis: unexpected failure (a bug in Tamis; {_what_was_written(ctx)}). Details: {log}",
             file=ctx.stderr,
         )
         return 1
+
+
+def _what_was_written(ctx: Context) -> str:
+    if not ctx.written:
+        return "nothing was written"
+    return "written before it: " + ", ".join(ctx.written)
+
+
+def _silence_stdout() -> None:
+    """Point the process's standard output at the null device, so that the interpreter's
+    final flush of the closed pipe raises nothing more."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):  # no file descriptor behind it
+        pass
 
 
 def _write_log(ctx: Context, text: str) -> str:

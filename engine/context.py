@@ -33,6 +33,9 @@ class Context:
     # a real process (not a test calling main): after the desktop window closes, leave without the
     # interpreter's final clean-up, which can abort in a compiled GUI extension (PySide6 6.12)
     own_process: bool = False
+    # files this command has written so far: a failure or cancel afterwards says so instead of
+    # claiming nothing was written
+    written: list[str] = field(default_factory=list)
 
     @property
     def log_file(self) -> Path:

@@ -99,6 +99,18 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     where = f"sheet '{table.sheet}'"
     response = table.column(spec.response)
+    if response.kind is ColumnKind.EMPTY:
+        why = "; ".join(response.notes) or "every cell below the heading is empty"
+        raise InputProblem(
+            f"the response column '{response.name}' in {where} holds no values ({why}); "
+            + (
+                "open the file in a spreadsheet program and save it to store the formula "
+                "results, or choose another response"
+                if "formula" in why
+                else "choose a column with numbers as the response"
+            ),
+            place(response.name),
+        )
     if response.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
         raise InputProblem(
             f"the response column '{response.name}' in {where} holds {response.kind.value} values, "
@@ -181,6 +193,16 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     y_all = np.asarray(response.values, dtype=float)
     drop(~np.isfinite(y_all), f"response '{response.name}' missing")
+    for note in response.notes:  # words in the response's cells cost their rows: say which
+        if " not a number treated as missing" in note or " not numbers treated as missing" in note:
+            warning = f"response '{response.name}': {note}; their rows were left out"
+            if "'<" in note or "'>" in note:
+                warning += (
+                    ". Values beyond a detection limit left out bias the fit towards the "
+                    "measured range; replace them by values chosen under your own review "
+                    "practice if they should count"
+                )
+            warnings.append(warning)
     for c in (group_col, order_col):
         if c is not None:
             drop(

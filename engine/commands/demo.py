@@ -76,6 +76,7 @@ def run(args, ctx) -> int:
     if book.suffix.lower() != ".xlsx":
         raise InputProblem(f"the demo workbook is an .xlsx file; '{book}' has another extension")
     build_demo_workbook(book)
+    ctx.written.append(str(book))
     print(f"demo workbook written to {book}", file=ctx.stderr)
 
     documents = []
@@ -88,6 +89,7 @@ def run(args, ctx) -> int:
             out.unlink()  # our own output from an earlier demo run
         result.output = str(write_results(result, out=out))
         written.append(out)
+        ctx.written.append(result.output)
         if args.json:
             documents.append({"analysis": label, **result.to_json()})
         else:

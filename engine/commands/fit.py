@@ -60,6 +60,7 @@ def finish(result, args, ctx) -> int:
 
         written = write_results(result, out=out, in_place=in_place)
         result.output = str(written)
+        ctx.written.append(result.output)
     if args.json:
         json.dump(result.to_json(), ctx.stdout, indent=2, allow_nan=False)
         ctx.stdout.write("\n")

@@ -37,6 +37,7 @@ def run(args, ctx) -> int:
     table = read_table(book, sheet=getattr(args, "sheet", None))
     preds, notes = model.predict_with_notes(table)
     written = write_predictions(table, model, preds, notes, book, out, str(args.results))
+    ctx.written.append(str(written))
     unscored = sum(1 for n in notes if n)
     print(
         f"scored {table.n_rows - unscored} of {table.n_rows} rows of sheet '{table.sheet}' with "

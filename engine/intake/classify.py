@@ -297,6 +297,14 @@ def _classify_mixed(
     def cell_at(k: int) -> str:
         return cell_name(letter, int(row_numbers[present_idx[k]]))
 
+    n_uncached = int(counts[_NOFORMULA])
+    if n_uncached:
+        first = cell_at(int(np.flatnonzero(codes == _NOFORMULA)[0]))
+        notes.append(
+            f"{n_uncached} formula cell{'s' if n_uncached > 1 else ''} without a stored result "
+            f"(e.g. {first}) read as missing: the file was saved without calculating them"
+        )
+
     def unusable_note(keep: np.ndarray, what: str) -> int:
         bad = np.flatnonzero(
             ~keep

@@ -53,6 +53,42 @@ def test_unexpected_failure_exit_1_with_log_and_no_traceback(tmp_path, monkeypat
     assert "ZeroDivisionError" in log
 
 
+def test_a_failure_after_writing_names_what_was_written(tmp_path, monkeypatch):
+    # the results file already exists when printing the summary fails or is interrupted:
+    # the message must not claim that nothing was written
+    import engine.commands.fit as fit_cmd
+
+    def write_then(exc):
+        def run(args, ctx):
+            ctx.written.append("/data/out.xlsx")
+            raise exc
+
+        return run
+
+    monkeypatch.setattr(fit_cmd, "run", write_then(ZeroDivisionError("a bug")))
+    code, out, err = _run(["fit", "b.xlsx", "--response", "y"], tmp_path)
+    assert code == 1 and "written before it: /data/out.xlsx" in err
+    assert "nothing was written" not in err
+    monkeypatch.setattr(fit_cmd, "run", write_then(KeyboardInterrupt()))
+    code, out, err = _run(["fit", "b.xlsx", "--response", "y"], tmp_path)
+    assert code == 3 and err == "tamis: cancelled; written before it: /data/out.xlsx\n"
+
+
+def test_a_reader_that_stops_early_is_not_a_failure(tmp_path):
+    # ``tamis inspect book.csv | head -3``: the pipe closes while the table is printed
+    class ClosedPipe(io.StringIO):
+        def write(self, text):
+            raise BrokenPipeError(32, "Broken pipe")
+
+    book = tmp_path / "b.csv"
+    book.write_text("y,x\n1,2\n2,3\n3,5\n")
+    err = io.StringIO()
+    ctx = Context(stdout=ClosedPipe(), stderr=err, config_dir=tmp_path / "config")
+    assert cli.main(["inspect", str(book)], ctx) == 0
+    assert err.getvalue() == ""
+    assert not (tmp_path / "config" / "tamis-error.log").exists()
+
+
 def test_traceback_flag_prints_it(tmp_path, monkeypatch):
     import engine.commands.fit as fit_cmd
 

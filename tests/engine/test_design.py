@@ -227,3 +227,41 @@ def test_why_rows_were_left_out_reads_largest_first_and_stays_short():
     assert text.endswith(f"and 28 more reasons ({sum(reasons.values()) - 9} rows)")
     assert drop_reasons_text({"response 'y' missing": 1}) == "response 'y' missing: 1 row"
     assert drop_reasons_text({}) == "none"
+
+
+def test_words_in_the_response_name_their_cells_and_warn_about_detection_limits(tmp_path):
+    # common practice in lab work: "<0.5" marks a value below the detection limit; leaving
+    # such rows out is the user's decision to make knowingly, so the fit names the cells
+    from engine.intake import read_table
+
+    lines = ["site,dose,lead"] + [f"S{i},{i},{1.5 + i}" for i in range(12)]
+    lines[4] = "S3,3,<0.5"
+    lines[7] = "S6,6,n/a"
+    path = tmp_path / "assay.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    design = build_design(read_table(path), _spec(source=str(path), response="lead"))
+    assert design.n_rows == 10
+    (warning,) = [w for w in design.warnings if w.startswith("response 'lead'")]
+    assert "'<0.5'" in warning and "'n/a'" in warning and "detection limit" in warning
+
+
+def test_a_response_of_formulas_without_stored_results_says_so(tmp_path):
+    # a workbook saved by a program that does not calculate formulas (openpyxl writes none)
+    import openpyxl
+
+    from engine.intake import read_table
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Calc"
+    ws.append(["a", "b", "y"])
+    for i in range(2, 14):
+        ws.append([i, i % 3, f"=A{i}*2+B{i}"])
+    path = tmp_path / "calc.xlsx"
+    wb.save(path)
+    with pytest.raises(InputProblem) as err:
+        build_design(read_table(path), _spec(source=str(path)))
+    text = str(err.value)
+    assert "'y' in sheet 'Calc' holds no values" in text
+    assert "12 formula cells without a stored result (e.g. C2)" in text
+    assert "save it to store the formula results" in text

@@ -130,7 +130,7 @@ def lo(tmp_path_factory):
     from engine.commands import score
 
     scored = tmp / "scored.xlsx"
-    ctx = SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO())
+    ctx = SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO(), written=[])
     assert (
         score.run(
             SimpleNamespace(book=str(new_book), results=str(results), sheet=None, out=str(scored)),

@@ -18,7 +18,7 @@ from engine.report import load_scoring_model, write_results
 
 
 def _ctx():
-    return SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO())
+    return SimpleNamespace(stdout=io.StringIO(), stderr=io.StringIO(), written=[])
 
 
 @pytest.fixture(scope="module")
@@ -70,16 +70,11 @@ def test_score_with_a_book_that_is_not_results(setup):
 
 def test_score_through_the_command_line(setup, tmp_path):
     from engine.cli import main
+    from engine.context import Context
 
     _, results, new = setup
     out = tmp_path / "p.xlsx"
-    ctx = SimpleNamespace(
-        stdout=io.StringIO(),
-        stderr=io.StringIO(),
-        interactive=False,
-        config_dir=tmp_path,
-        log_file=tmp_path / "log",
-    )
+    ctx = Context(stdout=io.StringIO(), stderr=io.StringIO(), config_dir=tmp_path)
     code = main(["score", str(new), "--results", str(results), "--out", str(out)], ctx)
     assert code == 0, ctx.stderr.getvalue()
     assert Path(out).exists()

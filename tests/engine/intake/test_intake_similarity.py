@@ -86,3 +86,28 @@ def test_too_few_common_rows_are_not_compared():
     r, n = pairwise_correlation(np.column_stack([a, b]))
     assert n[0, 1] == 0 and np.isnan(r[0, 1])
     assert r[0, 0] == pytest.approx(np.nan, nan_ok=True)  # 2 rows only: below the minimum of 3
+
+
+def test_columns_compared_in_blocks_find_the_same_first_earlier_column(monkeypatch):
+    # Simulated data (stated as such): copies placed within and across blocks of columns, with
+    # holes. Source of the expected answer: pandas' pairwise-complete DataFrame.corr, the first
+    # earlier column beyond the threshold (general-purpose reference library).
+    from engine.intake import similarity
+
+    rng = np.random.default_rng(11)
+    x = rng.normal(size=(60, 14))
+    x[:, 5] = x[:, 1] * 3 - 2  # same block as its original (blocks of 4: 4..7 vs 0..3)
+    x[:, 9] = x[:, 1]  # two copies of column 1: the first earlier one is named
+    x[:, 12] = -x[:, 6]
+    x[:, 13] = x[:, 12]
+    x[rng.random(x.shape) < 0.08] = np.nan
+    ref = pd.DataFrame(x).corr().to_numpy()
+    expected = []
+    for j in range(14):
+        hits = [i for i in range(j) if abs(ref[i, j]) > NEAR_DUPLICATE_CORRELATION]
+        expected.append(f"c{hits[0]}" if hits else None)
+    monkeypatch.setattr(similarity, "_BLOCK_COLUMNS", 4)
+    cols = _number_columns({f"c{j}": x[:, j] for j in range(14)})
+    mark_near_duplicates(cols)
+    assert [c.near_duplicate_of for c in cols] == expected
+    assert expected[9] == "c1" and expected[13] == "c6"

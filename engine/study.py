@@ -13,6 +13,7 @@ import functools
 
 __all__ = ["run_study", "load_table"]
 
+import dataclasses
 import datetime as _dt
 import time
 import warnings as _warnings
@@ -47,6 +48,27 @@ def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
     return read_table(spec.source, sheet=spec.sheet, header_row=spec.header_row, progress=progress)
 
 
+def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
+    """``spec`` with every column it names spelled as the sheet spells it: a name given in
+    another case or spacing, or as a column letter, is resolved once, here (an unknown name,
+    an exclusion too, is refused with the sheet's columns listed)."""
+
+    def name(given: str | None) -> str | None:
+        return None if given is None else table.column(given).name
+
+    return dataclasses.replace(
+        spec,
+        response=table.column(spec.response).name,
+        candidates=None
+        if spec.candidates is None
+        else tuple(table.column(n).name for n in spec.candidates),
+        exclude=tuple(table.column(n).name for n in spec.exclude),
+        focal=name(spec.focal),
+        group=name(spec.group),
+        time_order=name(spec.time_order),
+    )
+
+
 def run_study(
     spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None
 ) -> StudyResult:
@@ -58,6 +80,7 @@ def run_study(
     fingerprint = _fingerprint(spec.source)  # before reading: a later change must be noticed
     if table is None:
         table = load_table(spec, progress.part(0.0, 0.04))
+    spec = _spec_in_sheet_names(spec, table)
     progress.step(0.04, "building the design matrix")
     design = build_design(table, spec)
     notes: list[str] = list(table.warnings) + list(design.warnings)

@@ -86,15 +86,26 @@ class Table:
         return int(self.row_numbers.shape[0])
 
     def column(self, name: str) -> Column:
+        """The column of this name; else the one whose name matches ignoring case and spacing,
+        else (workbooks) the one in this column letter ("F")."""
         for c in self.columns:
             if c.name == name:
                 return c
+        folded = " ".join(name.split()).casefold()
+        loose = [c for c in self.columns if " ".join(c.name.split()).casefold() == folded]
+        if len(loose) == 1:
+            return loose[0]
+        if name.strip().isalpha() and self.file_format != "csv":
+            for c in self.columns:
+                if c.letter == name.strip().upper():
+                    return c
         from engine.errors import InputProblem, Place
 
         known = ", ".join(c.name for c in self.columns[:12])
         more = " ..." if len(self.columns) > 12 else ""
         raise InputProblem(
             f"no column named '{name}' in sheet '{self.sheet}' (header row {self.header_row}); "
-            f"columns are: {known}{more}",
+            f"columns are: {known}{more}. If the headings are in another row, give that row "
+            "as the header row",
             Place(file=str(self.source), sheet=self.sheet, column=name),
         )

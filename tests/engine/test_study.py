@@ -210,3 +210,35 @@ def test_subset_methods_focal_and_stability_reach_the_json(tmp_path):
     assert focal["column"] == "d" and focal["ci_low"] < 0.7 < focal["ci_high"]
     assert "x1" in focal["controls"]
     assert doc["stability"]["runs"] == 20 and doc["stability"]["shares"]["x1"] >= 0.6
+
+
+def test_column_names_are_matched_ignoring_case_and_spacing_and_typos_are_refused(tmp_path):
+    # a name typed as " Y" or "X2" means the sheet's "y" and "x2"; an exclusion that names no
+    # column is a typo to report, not to ignore
+    X, y, _ = _sparse_problem(n=60, p=5)
+    book = _write_csv(tmp_path / "b.csv", X, y)
+    exact = run_study(
+        StudySpec(source=str(book), response="y", methods=("lasso",), exclude=("x2",))
+    )
+    loose = run_study(
+        StudySpec(source=str(book), response=" Y", methods=("lasso",), exclude=("X2 ",))
+    )
+    assert loose.to_json()["models"] == exact.to_json()["models"]
+    assert "x2" not in exact.models[0].coefficients and "x1" in exact.models[0].coefficients
+    with pytest.raises(InputProblem, match="no column named 'x9'.*columns are: y, x1"):
+        run_study(StudySpec(source=str(book), response="y", methods=("lasso",), exclude=("x9",)))
+
+
+def test_a_workbook_column_can_be_named_by_its_letter(tmp_path):
+    import openpyxl
+
+    X, y, _ = _sparse_problem(n=40, p=3)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["a", "b", "c", "target"])
+    for i in range(40):
+        ws.append([*map(float, X[i]), float(y[i])])
+    book = tmp_path / "b.xlsx"
+    wb.save(book)
+    by_letter = run_study(StudySpec(source=str(book), response="D", methods=("lasso",)))
+    assert by_letter.to_json()["spec"]["response"] == "target"

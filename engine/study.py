@@ -85,6 +85,13 @@ def run_study(
     design = build_design(table, spec)
     notes: list[str] = list(table.warnings) + list(design.warnings)
 
+    if set(spec.methods) == {"ols"} and design.n_rows <= design.n_cols + 1 and not spec.focal:
+        raise InputProblem(
+            f"least squares, the only method chosen, needs more rows than model columns "
+            f"({design.n_rows} rows, {design.n_cols} columns in sheet '{table.sheet}'); choose "
+            "a penalized method (lasso, ridge, elastic net ...) or fewer candidate columns",
+            Place(file=str(table.source), sheet=table.sheet),
+        )
     parts = _validation_parts(design, spec)
     _start_workers_if_worthwhile(design, spec, parts)
     runner = _MethodRunner(design, spec, parts, notes)

@@ -50,6 +50,7 @@ def make_plot(bottom: pg.AxisItem | None = None) -> pg.PlotWidget:
         ax.setTickFont(font)
         ax.setTextPen(pg.mkPen(INK))
         ax.setPen(pg.mkPen(MUTED))
+        ax.enableAutoSIPrefix(False)  # ticks in the units the tables show, no "(x0.001)"
     return w
 
 

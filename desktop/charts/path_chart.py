@@ -140,13 +140,15 @@ class PathChart(QWidget):
             self._chosen_line.setValue(float(self._x[self.chosen]))
             self.item.addItem(self._chosen_line, ignoreBounds=True)
         lo, hi = float(np.min(self._x)), float(np.max(self._x))
+        # quiet while the cursor is put back: new bounds clamp the old position (another
+        # path, or the other axis), which must not be taken for a move by the user
+        self.penalty_line.blockSignals(True)
         self.penalty_line.setBounds((lo, hi))
+        self.penalty_line.setValue(float(self._x[self.index]))
+        self.penalty_line.blockSignals(False)
         self.item.addItem(self.penalty_line, ignoreBounds=True)
         self.item.addItem(self._hover_label, ignoreBounds=True)
         self._hover_label.hide()
-        self.penalty_line.blockSignals(True)
-        self.penalty_line.setValue(float(self._x[self.index]))
-        self.penalty_line.blockSignals(False)
         self.item.enableAutoRange()
         if self.highlighted:
             self.highlight(self.highlighted)

@@ -57,6 +57,10 @@ def finish(result, args, ctx) -> int:
     in_place = bool(getattr(args, "in_place", False))
     if out or in_place:
         from engine.report import write_results
+        from engine.report.safe_write import refuse_to_replace_users_file
+
+        if out:
+            refuse_to_replace_users_file(out)
 
         written = write_results(result, out=out, in_place=in_place)
         result.output = str(written)

@@ -20,6 +20,7 @@ def default_out(book: Path) -> Path:
 def run(args, ctx) -> int:
     from engine.intake import read_table
     from engine.report.predictions import write_predictions
+    from engine.report.safe_write import refuse_to_replace_users_file
     from engine.report.settings_reader import load_scoring_model
 
     book = Path(args.book)
@@ -32,6 +33,13 @@ def run(args, ctx) -> int:
             f"the output '{out}' is the workbook being scored; choose another --out",
             Place(file=str(out)),
         )
+    if out.exists() and out.resolve() == Path(args.results).resolve():
+        raise InputProblem(
+            f"the output '{out}' is the results workbook that holds the model; choose "
+            "another --out",
+            Place(file=str(out)),
+        )
+    refuse_to_replace_users_file(out)
     if out.suffix.lower() not in (".xlsx", ".xlsm"):
         raise InputProblem(f"--out must name an .xlsx file (got '{out}')", Place(file=str(out)))
     table = read_table(book, sheet=getattr(args, "sheet", None))

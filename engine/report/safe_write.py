@@ -100,6 +100,31 @@ def check_writable(path: str | Path) -> None:
         raise WriteProblem(f"cannot write '{path}': the folder '{folder}' is read-only", place)
 
 
+def tamis_sheets(path: str | Path) -> list[str]:
+    """Names of the sheets Tamis writes ("TM ...") in the workbook at ``path`` ([] when it
+    has none or is not a readable workbook): tells a file of ours from one of the user's."""
+    import re
+    import zipfile
+
+    try:
+        with zipfile.ZipFile(path) as z:
+            text = z.read("xl/workbook.xml").decode("utf-8", "replace")
+    except (OSError, KeyError, zipfile.BadZipFile):
+        return []
+    return re.findall(r'<(?:\w+:)?sheet\b[^>]*\bname="(TM [^"]*)"', text)
+
+
+def refuse_to_replace_users_file(path: str | Path, option: str = "--out") -> None:
+    """A command-line output may replace an earlier output of Tamis, never another file."""
+    path = Path(path)
+    if path.is_file() and not tamis_sheets(path):
+        raise WriteProblem(
+            f"'{path}' already exists and was not written by Tamis; choose another {option} "
+            "(Tamis replaces only its own earlier outputs)",
+            Place(file=str(path)),
+        )
+
+
 def _fsync_dir(folder: Path) -> None:
     if os.name != "posix":
         return

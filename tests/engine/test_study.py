@@ -113,6 +113,11 @@ def test_more_columns_than_rows_runs_and_skips_least_squares_with_a_note(tmp_pat
     doc = json.loads(out)
     assert [m["method"] for m in doc["models"]] == ["lasso"]
     assert any("least squares left out" in w for w in doc["warnings"])
+    # least squares alone has nothing to show: refused before any work, saying what to change
+    code, out, err = _fit(_fit_json_argv(book, 5, "ols"), tmp_path)
+    assert code == 2 and out == ""
+    assert "least squares, the only method chosen, needs more rows" in err
+    assert "(30 rows, 60 columns in sheet 'wide')" in err and "choose a penalized method" in err
 
 
 @pytest.mark.parametrize(
@@ -242,3 +247,23 @@ def test_a_workbook_column_can_be_named_by_its_letter(tmp_path):
     wb.save(book)
     by_letter = run_study(StudySpec(source=str(book), response="D", methods=("lasso",)))
     assert by_letter.to_json()["spec"]["response"] == "target"
+
+
+def test_fit_out_replaces_its_own_output_but_never_a_users_file(tmp_path):
+    import openpyxl
+
+    X, y, _ = _sparse_problem(n=40, p=4)
+    book = _write_csv(tmp_path / "b.csv", X, y)
+    users = tmp_path / "plan.xlsx"
+    wb = openpyxl.Workbook()
+    wb.active["A1"] = "my plan"
+    wb.save(users)
+    before = users.read_bytes()
+    argv = ["fit", str(book), "--response", "y", "--methods", "lasso", "--folds", "4"]
+    code, out, err = _fit([*argv, "--out", str(users)], tmp_path)
+    assert code == 2 and "plan.xlsx' already exists and was not written by Tamis" in err
+    assert users.read_bytes() == before
+    ours = tmp_path / "results.xlsx"
+    for _ in range(2):  # the second run replaces the first run's results
+        code, out, err = _fit([*argv, "--out", str(ours)], tmp_path)
+        assert code == 0, err

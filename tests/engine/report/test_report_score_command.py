@@ -62,6 +62,32 @@ def test_score_refuses_to_overwrite_the_book(setup):
         )
 
 
+def test_score_never_replaces_the_results_book_or_a_users_file(setup, tmp_path):
+    from engine.errors import WriteProblem
+
+    _, results, new = setup
+    before = results.read_bytes()
+    with pytest.raises(InputProblem, match="results workbook that holds the model"):
+        score.run(
+            SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(results)),
+            _ctx(),
+        )
+    assert results.read_bytes() == before
+    users = tmp_path / "budget.xlsx"
+    users.write_bytes(new.read_bytes())  # a workbook of the user's, no sheet of ours
+    with pytest.raises(WriteProblem, match="already exists and was not written by Tamis"):
+        score.run(
+            SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(users)),
+            _ctx(),
+        )
+    assert users.read_bytes() == new.read_bytes()
+    # an earlier output of ours is replaced
+    ours = tmp_path / "scored.xlsx"
+    for _ in range(2):
+        args = SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(ours))
+        assert score.run(args, _ctx()) == 0
+
+
 def test_score_with_a_book_that_is_not_results(setup):
     _, _, new = setup
     with pytest.raises(InputProblem, match="TM Settings"):

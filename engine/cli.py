@@ -84,21 +84,23 @@ def build_parser() -> argparse.ArgumentParser:
         + " (default: %(default)s)",
         default=",".join(DEFAULT_METHODS),
     )
-    f.add_argument(
-        "--folds", type=int, default=10, help="cross-validation folds (default: %(default)s)"
-    )
+    f.add_argument("--folds", type=int, help="cross-validation folds (default: 10)")
     f.add_argument(
         "--scheme",
-        default="kfold",
         choices=["kfold", "repeated", "grouped", "time", "loo"],
-        help="how rows are split for validation (default: %(default)s)",
+        help="how rows are split for validation (default: kfold; grouped with --group, "
+        "time with --time-order)",
     )
-    f.add_argument("--repeats", type=int, default=1, help="repetitions for --scheme repeated")
+    f.add_argument("--repeats", type=int, help="repetitions for --scheme repeated (default: 5)")
     f.add_argument(
-        "--group", metavar="COLUMN", help="rows sharing this column's value stay in one fold"
+        "--group",
+        metavar="COLUMN",
+        help="rows sharing this column's value stay in one fold (implies --scheme grouped)",
     )
     f.add_argument(
-        "--time-order", metavar="COLUMN", help="column giving the time order for --scheme time"
+        "--time-order",
+        metavar="COLUMN",
+        help="column giving the time order for blocked folds (implies --scheme time)",
     )
     f.add_argument(
         "--choose",
@@ -114,6 +116,21 @@ def build_parser() -> argparse.ArgumentParser:
         type=int,
         default=100,
         help="penalty values on each path (default: %(default)s)",
+    )
+    f.add_argument(
+        "--penalty-ratio",
+        type=float,
+        metavar="RATIO",
+        help="smallest over largest penalty on each path (default: 1e-4 with more rows than "
+        "columns, else 1e-2); smaller reaches weaker penalties",
+    )
+    f.add_argument(
+        "--exact-subset-limit",
+        type=int,
+        default=40,
+        metavar="N",
+        help="best subset searches exactly up to this many candidates, above it a labelled "
+        "approximate search (default: %(default)s)",
     )
     f.add_argument(
         "--mix",

@@ -138,6 +138,18 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     warnings: list[str] = []
     dropped_columns: dict[str, str] = {}
+    if spec.focal and spec.focal == spec.response:
+        raise InputProblem(
+            f"the focal column '{spec.focal}' in {where} is the response; choose another "
+            "focal column",
+            place(spec.focal),
+        )
+    if spec.focal and spec.focal in spec.exclude:
+        raise InputProblem(
+            f"the focal column '{spec.focal}' in {where} is also excluded; keep it in or "
+            "choose another focal column",
+            place(spec.focal),
+        )
     explicit = spec.candidates is not None
     if explicit:
         chosen = [table.column(n) for n in spec.candidates or ()]

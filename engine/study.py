@@ -222,9 +222,10 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
             order=design.order,
         )
     except InputProblem as exc:
-        col = spec.group if spec.scheme == "grouped" else spec.time_order
+        col = {"grouped": spec.group, "time": spec.time_order}.get(spec.scheme)
+        where = f"column '{col}' in sheet '{design.sheet}'" if col else f"sheet '{design.sheet}'"
         raise InputProblem(
-            f"{exc.message} (column '{col}' in sheet '{design.sheet}')",
+            f"{exc.message} ({where})",
             Place(file=design.source, sheet=design.sheet, column=col),
         ) from None
 
@@ -397,7 +398,7 @@ class _MethodRunner:
         notes = list(notes or []) + list(getattr(path, "notes", None) or [])
         if idx == len(path) - 1:
             notes.append(
-                "the chosen penalty is the smallest on the grid; a wider grid (smaller penalty ratio) may fit better"
+                "the chosen penalty is the smallest on the grid; a wider grid (a smaller penalty ratio: --penalty-ratio) may fit better"
             )
         return self._model(
             method,

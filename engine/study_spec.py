@@ -76,6 +76,21 @@ class StudySpec:
             raise InputProblem(f"the elastic-net mix must lie between 0 and 1 (got {self.mix})")
         if self.n_penalties < 2:
             raise InputProblem("at least 2 penalty values are needed on a path")
+        if self.seed < 0:
+            raise InputProblem(f"the seed must be 0 or more (got {self.seed})")
+        if self.workers is not None and self.workers < 1:
+            raise InputProblem(f"workers must be at least 1 (got {self.workers})")
+        if self.repeats < 1:
+            raise InputProblem(f"repeats must be at least 1 (got {self.repeats})")
+        if self.penalty_ratio is not None and not 0.0 < self.penalty_ratio < 1.0:
+            raise InputProblem(
+                f"the penalty ratio (smallest over largest penalty) must lie between 0 and 1 "
+                f"(got {self.penalty_ratio})"
+            )
+        if self.max_exact_subset < 1:
+            raise InputProblem(
+                f"the exact best-subset limit must be at least 1 (got {self.max_exact_subset})"
+            )
         if self.scheme == "grouped" and not self.group:
             raise InputProblem("grouped folds need a group column (--group COLUMN)")
         if self.scheme == "time" and not self.time_order:

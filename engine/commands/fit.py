@@ -5,12 +5,36 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from engine.commands.terminal import summary_text, terminal_progress
+from engine.commands.terminal import CAUTIONS, summary_text, terminal_progress
 from engine.errors import InputProblem
 from engine.study_spec import StudySpec
 
+# repetitions of repeated k-fold when not given (common practice: 5 to 10)
+_DEFAULT_REPEATS = 5
+
+
+def _scheme_of(args) -> str:
+    """The validation scheme: as given, else implied by --group or --time-order; options that
+    the scheme would ignore are refused rather than silently dropped."""
+    scheme = args.scheme or ("grouped" if args.group else "time" if args.time_order else "kfold")
+    if args.group and scheme != "grouped":
+        raise InputProblem(
+            f"--group is used by grouped folds only (--scheme grouped), not by --scheme {scheme}"
+        )
+    if args.time_order and scheme != "time":
+        raise InputProblem(
+            f"--time-order is used by time-ordered folds only (--scheme time), not by "
+            f"--scheme {scheme}"
+        )
+    if args.repeats is not None and scheme != "repeated":
+        raise InputProblem(f"--repeats applies to --scheme repeated only, not to --scheme {scheme}")
+    if args.folds is not None and scheme == "loo":
+        raise InputProblem("leave-one-out uses one fold per row: leave --folds out")
+    return scheme
+
 
 def spec_from_args(args) -> StudySpec:
+    scheme = _scheme_of(args)
     return StudySpec(
         source=str(args.book),
         response=args.response,
@@ -24,12 +48,14 @@ def spec_from_args(args) -> StudySpec:
         time_order=args.time_order,
         methods=args.methods,
         mix=args.mix,
-        folds=args.folds,
-        scheme=args.scheme,
-        repeats=args.repeats,
+        folds=args.folds if args.folds is not None else 10,
+        scheme=scheme,
+        repeats=args.repeats if args.repeats is not None else _DEFAULT_REPEATS,
         choose=args.choose,
         seed=args.seed,
         n_penalties=args.penalties,
+        penalty_ratio=args.penalty_ratio,
+        max_exact_subset=args.exact_subset_limit,
         missing=args.missing,
         date_parts=args.date_parts,
         stability_runs=args.stability,
@@ -66,7 +92,9 @@ def finish(result, args, ctx) -> int:
         result.output = str(written)
         ctx.written.append(result.output)
     if args.json:
-        json.dump(result.to_json(), ctx.stdout, indent=2, allow_nan=False)
+        json.dump(
+            {**result.to_json(), "cautions": list(CAUTIONS)}, ctx.stdout, indent=2, allow_nan=False
+        )
         ctx.stdout.write("\n")
         if result.output:
             print(f"results written to {result.output}", file=ctx.stderr)

@@ -108,7 +108,7 @@ def best_subset(
     elif p > exact_limit:
         reason = (
             f"{p} candidate columns is above the exact-search limit of {exact_limit}"
-            " (raise the limit to search exactly; the time can grow quickly)"
+            " (raise the limit, --exact-subset-limit, to search exactly; the time can grow quickly)"
         )
     else:
         eig = np.linalg.eigvalsh(G)

@@ -257,6 +257,9 @@ def _build_table(
             day_first=day_first,
             from_text_file=fmt == "csv",
         )
+        for note in col.notes:  # a value that depends on the decimal mark is worth a look
+            if "could also be read" in note or "as most of them are written" in note:
+                warnings.append(f"column '{name}' ({letter}): {note}")
         if dup_of is not None:
             col.duplicate_of = dup_of
             col.notes.insert(

@@ -87,6 +87,9 @@ def test_fit_json_contract_and_truth_recovered(tmp_path):
     ridge = doc["models"][1]
     assert len(ridge["selected"]) == 12  # ridge shrinks but keeps every column (common practice)
     assert doc["output"] is None
+    # the cautions travel with the numbers (selection is not causation, ...)
+    assert any("not causation" in c for c in doc["cautions"])
+    assert any("extrapolation" in c for c in doc["cautions"])
 
 
 def test_same_seed_same_output_to_the_last_digit(tmp_path):
@@ -126,6 +129,16 @@ def test_more_columns_than_rows_runs_and_skips_least_squares_with_a_note(tmp_pat
         (["--folds", "50"], "50 folds were asked"),
         (["--response", "name"], "not numbers"),
         (["--scheme", "grouped", "--group", "team", "--folds", "5"], "group"),
+        (["--group", "team"], "only 3 groups"),  # --group alone means grouped folds
+        (["--group", "team", "--scheme", "kfold"], "--group is used by grouped folds only"),
+        (["--repeats", "3"], "--repeats applies to --scheme repeated only"),
+        (["--scheme", "loo", "--folds", "5"], "leave --folds out"),
+        (["--seed", "-1"], "the seed must be 0 or more"),
+        (["--focal", "y"], "the focal column 'y' in sheet 'b' is the response"),
+        (
+            ["--focal", "x1", "--exclude", "x1"],
+            "the focal column 'x1' in sheet 'b' is also excluded",
+        ),
     ],
 )
 def test_bad_input_exit_2_says_what_to_change(tmp_path, extra_args, fragment):

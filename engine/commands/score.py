@@ -44,7 +44,9 @@ def run(args, ctx) -> int:
         raise InputProblem(f"--out must name an .xlsx file (got '{out}')", Place(file=str(out)))
     table = read_table(book, sheet=getattr(args, "sheet", None))
     preds, notes = model.predict_with_notes(table)
-    written = write_predictions(table, model, preds, notes, book, out, str(args.results))
+    cautions = model.range_cautions(table)
+    shown = [n or c for n, c in zip(notes, cautions)]  # a row without a prediction needs none
+    written = write_predictions(table, model, preds, shown, book, out, str(args.results))
     ctx.written.append(str(written))
     unscored = sum(1 for n in notes if n)
     print(
@@ -58,6 +60,17 @@ def run(args, ctx) -> int:
             f"{unscored} {'row' if unscored == 1 else 'rows'} left without a prediction "
             f"(first: row {int(table.row_numbers[first])}, "
             f"{notes[first]})",
+            file=ctx.stderr,
+        )
+    beyond = [i for i, (n, c) in enumerate(zip(notes, cautions)) if c and not n]
+    if beyond:
+        first = beyond[0]
+        one = len(beyond) == 1
+        print(
+            f"{len(beyond)} {'row lies' if one else 'rows lie'} outside the range the model was "
+            f"fitted on: {'its prediction is an extrapolation' if one else 'their predictions are extrapolations'}, "
+            f"not supported by the data (first: row {int(table.row_numbers[first])}, "
+            f"{cautions[first][len('extrapolation: ') :]})",
             file=ctx.stderr,
         )
     print(f"predictions written to {written}", file=ctx.stdout)

@@ -75,6 +75,9 @@ class ScoringModel:
     sds: np.ndarray  # (k,)
     category_levels: dict[str, list[str]] = field(default_factory=dict)
     cv_error: float | None = None
+    # (k,) smallest and largest value of each model column on the rows used; NaN unknown
+    lows: np.ndarray | None = None
+    highs: np.ndarray | None = None
 
     @classmethod
     def from_parts(
@@ -88,8 +91,11 @@ class ScoringModel:
         sds: dict[str, float],
         category_levels: dict[str, list[str]],
         cv_error: float | None = None,
+        ranges: dict[str, tuple[float, float]] | None = None,
     ) -> ScoringModel:
         used = [e for e in encodings if float(coefficients.get(e.name, 0.0)) != 0.0]
+        ranges = ranges or {}
+        nan = (math.nan, math.nan)
         return cls(
             method=method,
             response=response,
@@ -102,6 +108,8 @@ class ScoringModel:
                 s: list(v) for s, v in category_levels.items() if any(e.source == s for e in used)
             },
             cv_error=cv_error,
+            lows=np.array([ranges.get(e.name, nan)[0] for e in used], dtype=float),
+            highs=np.array([ranges.get(e.name, nan)[1] for e in used], dtype=float),
         )
 
     @classmethod
@@ -118,6 +126,12 @@ class ScoringModel:
             dict(zip(d.names, d.sds)),
             d.category_levels,
             m.cv_error,
+            {
+                name: (float(np.min(d.X[:, j])), float(np.max(d.X[:, j])))
+                for j, name in enumerate(d.names)
+            }
+            if d.n_rows
+            else None,
         )
 
     # -- the centred and standardized form written in the sheet
@@ -164,6 +178,32 @@ class ScoringModel:
             for m in missing_in
         ]
         return np.asarray(pred, dtype=float), notes
+
+    def range_cautions(self, table) -> list[str]:
+        """Per row, the model columns whose value lies outside the range of the rows the model
+        was fitted on ("" when none): the prediction there is an extrapolation."""
+        n = table.n_rows
+        out: list[list[str]] = [[] for _ in range(n)]
+        if self.lows is None or self.highs is None:
+            return ["" for _ in range(n)]
+        for j, enc in enumerate(self.encodings):
+            lo, hi = float(self.lows[j]), float(self.highs[j])
+            if enc.kind not in ("number", "trend") or not (math.isfinite(lo) and math.isfinite(hi)):
+                continue
+            v = self._encode(enc, self._find_column(table, enc.source), table)
+            slack = 1e-9 * max(1.0, abs(lo), abs(hi))
+
+            def shown(x: float, enc: Encoding = enc) -> str:
+                if enc.kind == "trend" and enc.origin:  # days since the origin date
+                    day = _dt.date.fromisoformat(str(enc.origin)[:10])
+                    return (day + _dt.timedelta(days=round(x))).isoformat()
+                return f"{x:.6g}"
+
+            for i in np.flatnonzero(np.isfinite(v) & ((v < lo - slack) | (v > hi + slack))):
+                out[i].append(
+                    f"'{enc.source}' {shown(v[i])} outside the fitted {shown(lo)} to {shown(hi)}"
+                )
+        return ["extrapolation: " + "; ".join(o) if o else "" for o in out]
 
     def _find_column(self, table, source: str):
         for c in table.columns:

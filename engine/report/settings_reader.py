@@ -36,6 +36,7 @@ class SettingsRecord:
     coefficients: dict[str, dict[str, float]] = field(
         default_factory=dict
     )  # method -> name -> value
+    ranges: dict[str, tuple[float, float]] = field(default_factory=dict)  # name -> (low, high)
 
     def scoring_model(self, method: str | None = None, place: Place | None = None) -> ScoringModel:
         chosen = method or str(self.about.get("scoring model") or next(iter(self.models)))
@@ -58,6 +59,7 @@ class SettingsRecord:
             self.sds,
             self.levels,
             cv_error if isinstance(cv_error, float) else None,
+            self.ranges,
         )
 
 
@@ -128,9 +130,9 @@ def read_settings_v1(rows: list[tuple], place: Place | None = None) -> SettingsR
         study = {r[0]: joined(r) for r in sections.get("study", [])}
         design = {r[0]: joined(r) for r in sections.get("design", [])}
         enc_rows = sections.get("encodings", [])[1:]
-        encodings, means, sds = [], {}, {}
+        encodings, means, sds, ranges = [], {}, {}, {}
         for r in enc_rows:
-            r = tuple(r) + (None,) * 10
+            r = tuple(r) + (None,) * 12
             e = Encoding(
                 name=str(r[0]),
                 source=str(r[1]),
@@ -144,6 +146,8 @@ def read_settings_v1(rows: list[tuple], place: Place | None = None) -> SettingsR
             encodings.append(e)
             means[e.name] = float(r[8])
             sds[e.name] = float(r[9])
+            if r[10] is not None and r[11] is not None:  # workbooks before ranges have none
+                ranges[e.name] = (float(r[10]), float(r[11]))
         levels = {str(r[0]): list(joined(r) or []) for r in sections.get("levels", [])}
         model_rows = sections.get("models", [])
         heads = [str(h) for h in model_rows[0]] if model_rows else []
@@ -166,7 +170,9 @@ def read_settings_v1(rows: list[tuple], place: Place | None = None) -> SettingsR
             "damaged: write the results again with `tamis fit`",
             place,
         ) from exc
-    return SettingsRecord(spec, about, design, encodings, means, sds, levels, models, coefficients)
+    return SettingsRecord(
+        spec, about, design, encodings, means, sds, levels, models, coefficients, ranges
+    )
 
 
 def read_settings(results_book: str | Path) -> StudySpec:

@@ -19,6 +19,8 @@ are JSON; a JSON text longer than one cell holds is split over consecutive cells
 
 from __future__ import annotations
 
+import numpy as np
+
 __all__ = ["write", "LAYOUT_VERSION", "TITLE", "CHUNK"]
 
 import datetime as _dt
@@ -91,8 +93,11 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     text(ws, r, 0, "[encodings]", fm.label)
     r += 1
     for c, h in enumerate(
-        ("name", "source", "letter", "kind", "level", "fill", "origin", "reference", "mean", "sd")
-    ):
+        (
+            "name", "source", "letter", "kind", "level", "fill", "origin", "reference", "mean",
+            "sd", "low", "high",
+        )
+    ):  # fmt: skip
         text(ws, r, c, h, fm.heading)
     r += 1
     for j, e in enumerate(d.encodings):
@@ -106,6 +111,9 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         text(ws, r, 7, json.dumps(e.reference))
         number(ws, r, 8, d.means[j])
         number(ws, r, 9, d.sds[j])
+        if d.n_rows:  # the range of the rows used: new rows beyond it are extrapolation
+            number(ws, r, 10, float(np.min(d.X[:, j])))
+            number(ws, r, 11, float(np.max(d.X[:, j])))
         r += 1
     text(ws, r, 0, "[levels]", fm.label)
     r += 1

@@ -104,3 +104,38 @@ def test_score_through_the_command_line(setup, tmp_path):
     code = main(["score", str(new), "--results", str(results), "--out", str(out)], ctx)
     assert code == 0, ctx.stderr.getvalue()
     assert Path(out).exists()
+
+
+def test_rows_beyond_the_fitted_range_are_scored_with_an_extrapolation_caution(setup, tmp_path):
+    # common practice: a linear model says nothing about values outside the rows it was fitted
+    # on; the prediction is kept but marked, and the model's stored range matches the study's
+    result, results, new = setup
+    model = load_scoring_model(results)
+    fresh = type(model).from_result(result, model.method)
+    # (cells keep 15-16 significant digits)
+    np.testing.assert_allclose(model.lows, fresh.lows, rtol=1e-15)
+    np.testing.assert_allclose(model.highs, fresh.highs, rtol=1e-15)
+    j = next(k for k, e in enumerate(model.encodings) if e.kind == "number")
+    source, high = model.encodings[j].source, float(model.highs[j])
+    wb = openpyxl.load_workbook(new)
+    ws = wb.worksheets[0]
+    col = next(c for c in range(1, ws.max_column + 1) if ws.cell(1, c).value == source)
+    ws.cell(3, col).value = high + 10.0 * (high - float(model.lows[j]))
+    far = tmp_path / "far.xlsx"
+    wb.save(far)
+
+    def notes_of(book, name):
+        ctx = _ctx()
+        out = tmp_path / name
+        args = SimpleNamespace(book=str(book), results=str(results), sheet=None, out=str(out))
+        assert score.run(args, ctx) == 0
+        assert "scored 30 of 30" in ctx.stdout.getvalue()  # still predicted
+        sheet = openpyxl.load_workbook(out)["TM Predictions"]
+        return [r[-1] for r in sheet.iter_rows(min_row=5, values_only=True)], ctx
+
+    before, _ = notes_of(new, "plain.xlsx")  # new rows may already cross the range a little
+    after, ctx = notes_of(far, "far-scored.xlsx")
+    assert "outside the range the model was fitted on" in ctx.stderr.getvalue()
+    assert f"'{source}' {high + 10.0 * (high - float(model.lows[j])):.6g} outside" in after[1]
+    assert after[1].startswith("extrapolation: ")
+    assert after[:1] + after[2:] == before[:1] + before[2:]

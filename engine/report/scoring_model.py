@@ -173,10 +173,24 @@ class ScoringModel:
             if len(self.encodings)
             else np.full(n, self.intercept)
         )
-        notes = [
-            "" if not m else "no usable value in " + ", ".join(f"'{s}'" for s in m)
-            for m in missing_in
-        ]
+        unseen: dict[int, list[str]] = {}
+        for source in self.sources:
+            known = self.category_levels.get(source)
+            if known is None or source_kind(self.encodings, source) != "category":
+                continue
+            for i, lab in enumerate(_labels(self._find_column(table, source))):
+                if lab not in known and lab != "":
+                    unseen.setdefault(i, []).append(
+                        f"level '{lab}' of '{source}' not seen in fitting"
+                    )
+        notes = []
+        for i, m in enumerate(missing_in):
+            said = unseen.get(i, [])
+            rest = [s for s in m if not any(f"of '{s}'" in u for u in said)]
+            parts = said + (
+                ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
+            )
+            notes.append("; ".join(parts))
         return np.asarray(pred, dtype=float), notes
 
     def range_cautions(self, table) -> list[str]:
@@ -243,25 +257,14 @@ class ScoringModel:
         if enc.kind == "level":
             labels = _labels(col)
             known = self.category_levels.get(enc.source)
-            if known is not None:
-                for i, lab in enumerate(labels):
-                    if lab not in known and lab != "":
-                        raise InputProblem(
-                            f"column '{enc.source}' holds the level '{lab}' in row "
-                            f"{int(table.row_numbers[i])}, which the model never saw; known levels: "
-                            + ", ".join(repr(k) for k in known if k != "")
-                            + "; correct the cell or leave those rows out",
-                            Place(
-                                file=str(table.source),
-                                sheet=table.sheet,
-                                column=enc.source,
-                                row=int(table.row_numbers[i]),
-                            ),
-                        )
+            unseen = np.zeros(len(labels), dtype=bool)
+            if known is not None:  # no coefficient for such a level: that row gets none
+                unseen = np.array([lab not in known and lab != "" for lab in labels], dtype=bool)
             blank_known = known is not None and "" in known
             out = np.array([float(lab == (enc.level or "")) for lab in labels])
             if not blank_known:
                 out[np.array([lab == "" for lab in labels], dtype=bool)] = np.nan
+            out[unseen] = np.nan
             return out
         if enc.kind in ("trend", "month", "weekday"):
             days = _as_days(col)

@@ -114,6 +114,27 @@ def lo(tmp_path_factory):
             ws.cell(r, cols[s]).value = v
     wb.save(pasted)
 
+    # edge rows: a category level the fit never saw, and a number far beyond the fitted range
+    edge_rows = simulate_rows(2, seed=22)
+    level_source = next(e.source for e in model.encodings if e.kind == "level")
+    j_num = next(k for k, e in enumerate(model.encodings) if e.kind == "number")
+    num_source = model.encodings[j_num].source
+    edge_rows[0][level_source] = "a level never seen"
+    span = float(model.highs[j_num] - model.lows[j_num])
+    edge_rows[1][num_source] = float(model.highs[j_num]) + 5.0 * span
+    edge = tmp / "edge.xlsx"
+    wb = openpyxl.load_workbook(results)
+    ws = wb["TM Scoring"]
+    for i, row in enumerate(edge_rows):
+        for s in model.sources:
+            v = row[s]
+            if isinstance(v, dt.date):
+                v = dt.datetime(v.year, v.month, v.day)
+            ws.cell(head + 1 + n_examples + i, cols[s]).value = v
+    wb.save(edge)
+    edge_book = tmp / "edge-rows.xlsx"
+    write_rows(edge_book, edge_rows)
+
     planted = tmp / "planted.xlsx"
     _plant_wrong_cached_value(results, planted)
 
@@ -124,7 +145,7 @@ def lo(tmp_path_factory):
 
     profile = make_profile(tmp)
     outdir = tmp / "recalculated"
-    converted = convert([results, pasted, planted, rich], "xlsx", outdir, profile)
+    converted = convert([results, pasted, planted, rich, edge], "xlsx", outdir, profile)
     pdf = convert([results], "pdf", tmp / "pdf", profile)[0]
 
     from engine.commands import score
@@ -143,7 +164,9 @@ def lo(tmp_path_factory):
         model=model,
         new_book=new_book,
         new_rows=new_rows,
-        converted=dict(zip(["results", "pasted", "planted", "rich"], converted)),
+        converted=dict(zip(["results", "pasted", "planted", "rich", "edge"], converted)),
+        edge_book=edge_book,
+        num_source=num_source,
         pdf=pdf,
         scored=scored,
         n_examples=n_examples,
@@ -180,6 +203,27 @@ def test_pasted_rows_recalculated_equal_engine_and_score_command(lo):
     # the direct route from the study's coefficients agrees as well
     direct = ScoringModel.from_result(lo.result, lo.model.method).predict(read_table(lo.new_book))
     np.testing.assert_allclose(direct, engine, rtol=1e-12)
+
+
+def test_unseen_levels_get_no_prediction_and_far_numbers_a_range_check(lo):
+    # the sheet must not predict a level the model has no coefficient for (it would silently
+    # be the reference level), and must flag a number beyond the fitted range, as the engine does
+    ws = openpyxl.load_workbook(lo.converted["edge"], data_only=True)["TM Scoring"]
+    head, cols = _layout(ws)
+    pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
+    r0 = head + 1 + lo.n_examples
+    assert ws.cell(r0, pc).value == "#N/A"
+    assert "unseen level in" in ws.cell(r0, cols["Check"]).value
+    assert "outside the fitted range in" in ws.cell(r0 + 1, cols["Check"]).value
+    engine = lo.model.predict(read_table(lo.edge_book))
+    assert ws.cell(r0 + 1, pc).value == pytest.approx(engine[1], rel=1e-9)
+    # the engine (and so `tamis score`) agrees: no prediction for the unseen level, a
+    # prediction with an extrapolation caution for the far number
+    assert np.isnan(engine[0])
+    _, notes = lo.model.predict_with_notes(read_table(lo.edge_book))
+    assert "level 'a level never seen' of " in notes[0] and notes[1] == ""
+    cautions = lo.model.range_cautions(read_table(lo.edge_book))
+    assert cautions[1].startswith(f"extrapolation: '{lo.num_source}'")
 
 
 def test_rich_in_place_workbook_opens_in_libreoffice(lo):

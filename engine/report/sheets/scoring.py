@@ -39,6 +39,8 @@ _PARAM_ROWS = (
     "date origin",
     "mean",
     "standard deviation",
+    "lowest value fitted",
+    "highest value fitted",
     "standardized coefficient",
     "coefficient (original units)",
 )
@@ -250,6 +252,11 @@ def write(
                         number(ws, row, c, model.means[j], fm.param)
                     elif name == "standard deviation":
                         number(ws, row, c, model.sds[j], fm.param)
+                    elif name in ("lowest value fitted", "highest value fitted"):
+                        bound = model.lows if name.startswith("lowest") else model.highs
+                        if bound is not None and math.isfinite(float(bound[j])):
+                            fmt = fm.days if enc.kind == "trend" else fm.param
+                            number(ws, row, c, float(bound[j]), fmt)
                     elif name == "standardized coefficient":
                         number(ws, row, c, model.std_coefficients[j], fm.param)
                     elif name == "coefficient (original units)":
@@ -340,8 +347,12 @@ def write(
             pcached: object = "#N/A" if not np.isfinite(pv) else pv
         else:
             pcached = ""
+        check_cell = cell_ref(r, check_col)
+        if cat_sources:  # a level the model never saw has no coefficient: no prediction
+            body = f'IF({check_cell}<>"",IF(ISERROR(SEARCH("unseen",{check_cell})),{body},NA()),{body})'
         ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
-        # check: unseen category levels (exact comparison, as the model does)
+        # check: unseen category levels (exact comparison, as the model does), and numbers or
+        # dates outside the range of the rows the model was fitted on (extrapolation)
         checks = []
         for s in cat_sources:
             cell = cell_ref(r, sources.index(s), False, True)
@@ -351,6 +362,18 @@ def write(
             checks.append(
                 f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT({cell},{lv_rng}))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
+            )
+        for j, enc in enumerate(encs):
+            lows, highs = model.lows, model.highs
+            if enc.kind not in ("number", "trend") or lows is None or highs is None:
+                continue
+            if not (math.isfinite(float(lows[j])) and math.isfinite(float(highs[j]))):
+                continue
+            e_cell = cell_ref(r, enc0 + j)
+            lo, hi = ref("lowest value fitted", j), ref("highest value fitted", j)
+            checks.append(
+                f"IF(ISNUMBER({e_cell}),IF(OR({e_cell}<{lo},{e_cell}>{hi}),"
+                f'"outside the fitted range in {col_name(sources.index(enc.source))}; ",""),"")'
             )
         if checks:
             ws.write_formula(r, check_col, "=" + "&".join(checks), None, "")

@@ -102,18 +102,19 @@ def test_renamed_column_is_named_with_close_matches(study, tmp_path):
     assert err.value.place.column == "altitude"
 
 
-def test_unseen_level_names_column_level_and_row(study, tmp_path):
+def test_an_unseen_level_leaves_its_row_without_a_prediction(study, tmp_path):
     result, _, out, _ = study
     rows = simulate_rows(12, seed=3, gaps=False)
     rows[4]["process"] = "anaerobic"
     new = tmp_path / "new.xlsx"
     write_rows(new, rows)
     model = load_scoring_model(out, "lasso")
-    with pytest.raises(InputProblem) as err:
-        model.predict(read_table(new))
-    msg = err.value.message
-    assert "process" in msg and "anaerobic" in msg and "row 6" in msg
-    assert err.value.place.row == 6
+    # a level without a coefficient leaves its row without a prediction (not the reference
+    # level's), with a note naming column and level; the other rows are scored
+    preds, notes = model.predict_with_notes(read_table(new))
+    assert np.isnan(preds[4]) and np.isfinite(np.delete(preds, 4)).all()
+    assert notes[4] == "level 'anaerobic' of 'process' not seen in fitting"
+    assert notes[:4] + notes[5:] == [""] * 11
 
 
 def test_headings_match_the_source(study):

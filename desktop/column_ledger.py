@@ -91,7 +91,7 @@ class ColumnLedger(QWidget):
         self.none_button.clicked.connect(self.clear_roles)
 
         self.set_role_box = QComboBox()
-        self.set_role_box.addItem("Set role of selected…", None)
+        self.set_role_box.addItem("Set role…", None)
         for r in Role:
             self.set_role_box.addItem(r.value, r.value)
             self.set_role_box.setItemData(
@@ -124,21 +124,22 @@ class ColumnLedger(QWidget):
         self.view.customContextMenuRequested.connect(self._context_menu)
         self.view.clicked.connect(self._on_clicked)
 
+        # two short rows rather than one long one: the ledger must fit beside the findings
+        # on a 1280-pixel screen
+        find = QHBoxLayout()
+        find.addWidget(self.filter, 1)
+        find.addWidget(self.set_role_box)
         actions = QHBoxLayout()
         actions.addWidget(self.numeric_button)
         actions.addWidget(self.none_button)
         actions.addStretch(1)
-        actions.addWidget(self.set_role_box)
-
-        top = QHBoxLayout()
-        top.addWidget(title)
-        top.addStretch(1)
-        top.addWidget(self.summary)
+        self.summary.setWordWrap(True)
 
         lay = QVBoxLayout(self)
         lay.setContentsMargins(6, 6, 6, 6)
-        lay.addLayout(top)
-        lay.addWidget(self.filter)
+        lay.addWidget(title)
+        lay.addWidget(self.summary)
+        lay.addLayout(find)
         lay.addLayout(actions)
         lay.addWidget(self.view, 1)
         self.model.roles_changed.connect(self._update_summary)

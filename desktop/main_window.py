@@ -11,6 +11,8 @@ to ``_on_task_failed`` and from there through ``desktop.messages.describe_failur
 
 from __future__ import annotations
 
+import html
+
 __all__ = ["MainWindow", "OPENABLE", "OPEN_FILTER"]
 
 from pathlib import Path
@@ -43,6 +45,7 @@ from PySide6.QtWidgets import (
 
 from desktop.about import about_html
 from desktop.column_ledger import ColumnLedger
+from desktop.elided_label import ElidedLabel
 from desktop.engine_calls import EngineCalls, LoadedBook, load_book
 from desktop.messages import UserMessage, describe_failure
 from desktop.result_view import ResultView
@@ -241,10 +244,13 @@ class MainWindow(QMainWindow):
 
     def _build_body(self) -> None:
         # source strip
-        self.file_label = QLabel("No workbook open")
+        self.file_label = ElidedLabel("No workbook open")
         self.file_label.setObjectName("headline")
         self.sheet_box = QComboBox()
-        self.sheet_box.setMinimumContentsLength(18)
+        self.sheet_box.setMinimumContentsLength(10)
+        self.sheet_box.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon
+        )
         self.sheet_box.setToolTip("The sheet to analyse. Hidden sheets are marked.")
         self.sheet_box.activated.connect(self._on_sheet_chosen)
         self.header_spin = QSpinBox()
@@ -254,7 +260,7 @@ class MainWindow(QMainWindow):
             "table are skipped); change it if the guess is wrong."
         )
         self.header_spin.valueChanged.connect(self._on_header_changed)
-        self.shape_label = QLabel("")
+        self.shape_label = ElidedLabel("")
         self.shape_label.setObjectName("caption")
         src = QHBoxLayout()
         src.addWidget(self.file_label, 1)
@@ -264,7 +270,7 @@ class MainWindow(QMainWindow):
         src.addWidget(QLabel("Headings in row"))
         src.addWidget(self.header_spin)
         src.addSpacing(12)
-        src.addWidget(self.shape_label)
+        src.addWidget(self.shape_label, 1)
         self.source_strip = QWidget()
         self.source_strip.setLayout(src)
 
@@ -491,6 +497,12 @@ class MainWindow(QMainWindow):
             for n, r in memory["roles"].items():
                 if n in roles and r in {x.value for x in Role}:
                     roles[n] = Role(r)
+        if self.result is not None:
+            if previous is None or previous.path != loaded.path:
+                self.result = None  # another file: its findings are not these
+                self.results.clear()
+            else:
+                self.results.set_outdated(True)
         self.ledger.model.set_table(t, roles)
         if self._pending_spec is not None:
             self.settings_panel.set_values(settings_from_spec(self._pending_spec))
@@ -568,10 +580,16 @@ class MainWindow(QMainWindow):
     def _on_roles_changed(self, _roles: dict) -> None:
         self._check()
         self._remember_timer.start()
+        self._mark_findings_outdated()
 
     def _on_settings_changed(self) -> None:
         self._check()
         self._remember_timer.start()
+        self._mark_findings_outdated()
+
+    def _mark_findings_outdated(self) -> None:
+        if self.result is not None and not self.runner.busy:
+            self.results.set_outdated(True)
 
     def _check(self) -> list:
         if self.book is None:
@@ -591,8 +609,15 @@ class MainWindow(QMainWindow):
                 per_column.setdefault(p.column, p.message)
         self.ledger.model.set_problems(per_column)
         if general or per_column:
-            lines = general + (
-                [f"{len(per_column)} column(s) need attention (see Check)."] if per_column else []
+            first = next(iter(per_column.items()), None)
+            lines = [html.escape(g) for g in general] + (
+                [
+                    f"{len(per_column)} column{'s' if len(per_column) > 1 else ''} "
+                    f"need{'' if len(per_column) > 1 else 's'} attention; "
+                    f"'{html.escape(first[0])}': {html.escape(first[1])}"
+                ]
+                if first
+                else []
             )
             self.readiness.setText(
                 f"<span style='color:{PROBLEM}'>" + "<br>".join(lines) + "</span>"
@@ -704,7 +729,17 @@ class MainWindow(QMainWindow):
         if label == "open":
             self._apply_book(value)  # type: ignore[arg-type]
         elif label == "run":
-            self.result = cast(StudyResult, value)  # what the "run" task returns
+            result = cast(StudyResult, value)  # what the "run" task returns
+            if not result.models and result.focal is None:
+                self._say(
+                    UserMessage(
+                        "problem",
+                        "No method could be fitted with these settings.",
+                        " ".join(result.warnings[:3]) or "Choose other methods or columns.",
+                    )
+                )
+                return
+            self.result = result
             self.results.show_result(self.result)
             self.pages.setCurrentIndex(PAGE_FINDINGS)
             secs = getattr(value, "seconds", 0.0)

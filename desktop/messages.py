@@ -52,10 +52,17 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
         return UserMessage(
             "problem", f"A file could not be read or written{what}: {exc.strerror or exc}."
         )
+    import traceback
+
+    from engine.context import Context, write_error_log
+
+    log = write_error_log(Context(), "".join(traceback.format_exception(exc)))
     return UserMessage(
         "fault",
         f"Something unexpected went wrong during {doing}; nothing was written.",
-        f"{type(exc).__name__}: {exc}",
+        f"{type(exc).__name__}: {exc}. This is a fault in Tamis, not in your data: the details "
+        f"are in {log}; please pass that file on with the workbook if you can. Your files are "
+        "as they were; trying again or restarting Tamis may help.",
     )
 
 

@@ -15,14 +15,12 @@ import numpy as np
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QAbstractItemView,
-    QButtonGroup,
     QComboBox,
     QFileDialog,
     QHBoxLayout,
     QHeaderView,
     QLabel,
     QPushButton,
-    QRadioButton,
     QSplitter,
     QTableView,
     QTabWidget,
@@ -39,6 +37,7 @@ from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
 from desktop.rows_model import RowsModel, fmt
 from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
+from desktop.theme import MUTED, PROBLEM
 from engine.fitting.path import PenaltyPath
 from engine.methods import method_info
 from engine.study_result import ModelResult, StudyResult
@@ -68,7 +67,7 @@ def _table(model: RowsModel) -> QTableView:
 
 
 def _export_button(parent: QWidget, chart_widget, name: str) -> QPushButton:
-    b = QPushButton("Save chart as picture…")
+    b = QPushButton("Save picture…")
     b.setToolTip("Write this chart as a PNG picture or an SVG drawing (choose by the file ending).")
 
     def go() -> None:
@@ -93,6 +92,12 @@ class ResultView(QWidget):
         self.summary = QLabel("Run a study to see its findings here.")
         self.summary.setObjectName("headline")
         self.summary.setWordWrap(True)
+        self.outdated_note = QLabel(
+            f"<span style='color:{PROBLEM}'>These findings are from the last run; roles or "
+            "settings have changed since. Run again to update them.</span>"
+        )
+        self.outdated_note.setWordWrap(True)
+        self.outdated_note.hide()
         self.method_box = QComboBox()
         self.method_box.setToolTip("The method whose path and validation curve are drawn.")
         self.method_box.currentIndexChanged.connect(self._on_method)
@@ -120,34 +125,36 @@ class ResultView(QWidget):
         lay = QVBoxLayout(self)
         lay.setContentsMargins(8, 8, 8, 8)
         lay.addLayout(head)
+        lay.addWidget(self.outdated_note)
         lay.addWidget(self.tabs, 1)
 
     # tabs -------------------------------------------------------------------------------
     def _build_path_tab(self) -> QWidget:
         self.path_chart = PathChart()
         self.path_chart.index_changed.connect(self._on_cursor)
-        self.axis_penalty = QRadioButton("Against the penalty")
-        self.axis_penalty.setToolTip(
-            "Horizontal axis: the penalty on a log scale, strongest on the left."
+        self.axis_box = QComboBox()
+        self.axis_box.addItem("Against the penalty", AXIS_PENALTY)
+        self.axis_box.addItem("Against the budget t", AXIS_BUDGET)
+        self.axis_box.setItemData(
+            0,
+            "Horizontal axis: the penalty on a log scale, strongest on the left.",
+            Qt.ItemDataRole.ToolTipRole,
         )
-        self.axis_budget = QRadioButton("Against the budget t")
-        self.axis_budget.setToolTip(
-            "Horizontal axis: the sum of absolute standardized coefficients, the 'budget' of the equivalent "
-            "constrained problem. It grows as the penalty weakens."
+        self.axis_box.setItemData(
+            1,
+            "Horizontal axis: the sum of absolute standardized coefficients, the 'budget' of "
+            "the equivalent constrained problem. It grows as the penalty weakens.",
+            Qt.ItemDataRole.ToolTipRole,
         )
-        self.axis_penalty.setChecked(True)
-        group = QButtonGroup(self)
-        group.addButton(self.axis_penalty)
-        group.addButton(self.axis_budget)
-        self.axis_budget.toggled.connect(
-            lambda on: self.path_chart.set_axis(AXIS_BUDGET if on else AXIS_PENALTY)
+        self.axis_box.setToolTip("What the horizontal axis of the path shows.")
+        self.axis_box.currentIndexChanged.connect(
+            lambda _i: self.path_chart.set_axis(self.axis_box.currentData())
         )
-        self.back_button = QPushButton("Back to the chosen point")
+        self.back_button = QPushButton("Chosen point")
         self.back_button.setToolTip("Return the cursor to the penalty the choice rule picked.")
         self.back_button.clicked.connect(self.reset_cursor)
         bar = QHBoxLayout()
-        bar.addWidget(self.axis_penalty)
-        bar.addWidget(self.axis_budget)
+        bar.addWidget(self.axis_box)
         bar.addStretch(1)
         bar.addWidget(self.back_button)
         bar.addWidget(_export_button(self, self.path_chart, "tamis-path"))
@@ -164,7 +171,14 @@ class ResultView(QWidget):
             ],
         )
         self.coef_view = _table(self.coef_model)
-        self.coef_view.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Stretch)
+        # names get the room and lose their middle when short of it ("promotion=...none"
+        # keeps the level); the numbers are always shown whole
+        heads = self.coef_view.horizontalHeader()
+        heads.setStretchLastSection(False)
+        heads.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
+        heads.setSectionResizeMode(1, QHeaderView.ResizeMode.ResizeToContents)
+        heads.setSectionResizeMode(2, QHeaderView.ResizeMode.ResizeToContents)
+        self.coef_view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
         self.coef_view.clicked.connect(
             lambda idx: self.highlight(self.coef_model.rows[idx.row()][0])
         )
@@ -186,7 +200,7 @@ class ResultView(QWidget):
         ll.addWidget(self.path_chart, 1)
         split.addWidget(left)
         split.addWidget(side)
-        side.setMinimumWidth(280)
+        side.setMinimumWidth(200)
         split.setStretchFactor(0, 3)
         split.setStretchFactor(1, 2)
         split.setSizes([620, 340])
@@ -297,6 +311,32 @@ class ResultView(QWidget):
         return w
 
     # filling ----------------------------------------------------------------------------
+    def clear(self) -> None:
+        """Forget the shown result (another file was opened): empty views, no method."""
+        self.result = None
+        self.current = None
+        self.summary.setText("Run a study to see its findings here.")
+        self.outdated_note.hide()
+        self.method_box.blockSignals(True)
+        self.method_box.clear()
+        self.method_box.blockSignals(False)
+        self.path_chart.set_path(None, [], None)
+        self.coef_model.set_rows([])
+        self.readout.setText("")
+        self.curve_chart.set_curve(None, None)
+        self.curve_note.setText("")
+        self.compare_model.set_rows([])
+        self.sizes_box.clear()
+        self._fill_sizes()
+        self.share_chart.set_stability(None)
+        self.focal_chart.set_focal(None)
+        self._stale = {}
+        self.cautions.setHtml(cautions_html())
+
+    def set_outdated(self, outdated: bool) -> None:
+        """Say under the heading that roles or settings changed since this result was made."""
+        self.outdated_note.setVisible(outdated and self.result is not None)
+
     def show_result(self, result: StudyResult) -> None:
         self.result = result
         d = result.design
@@ -305,6 +345,7 @@ class ResultView(QWidget):
         self.summary.setText(
             f"{d.response} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"
         )
+        self.outdated_note.hide()
         self.method_box.blockSignals(True)
         self.method_box.clear()
         for m in result.models:
@@ -509,8 +550,12 @@ class ResultView(QWidget):
         )
         self.focal_text.setText(
             f"<b>Effect of {f.column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, {f.covariance}); "
-            f"interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.<br>"
-            f"{len(f.controls)} controls: {', '.join(f.controls) or 'none'}.{naive}"
+            f"95% interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.<br>"
+            f"{len(f.controls)} controls: {', '.join(f.controls) or 'none'}.{naive}<br>"
+            f"<span style='color:{MUTED}'>Read this as the effect of {f.column} only if every "
+            "column that drives both it and the response is among the candidates: double "
+            "selection chooses controls from them, it cannot supply missing ones. Check the "
+            "design with your own review practice before acting on it.</span>"
         )
 
     def export_current_path(self, path: Path | str) -> Path:

@@ -11,7 +11,6 @@ from __future__ import annotations
 __all__ = ["main", "build_parser"]
 
 import argparse
-import datetime as _dt
 import importlib
 import os
 import sys
@@ -19,7 +18,7 @@ import traceback
 from collections.abc import Sequence
 
 from engine import __version__
-from engine.context import Context, default_context, tune_own_process
+from engine.context import Context, default_context, tune_own_process, write_error_log
 from engine.errors import TamisError
 from engine.methods import DEFAULT_METHODS, METHODS
 
@@ -257,12 +256,5 @@ def _silence_stdout() -> None:
 
 
 def _write_log(ctx: Context, text: str) -> str:
-    try:
-        ctx.config_dir.mkdir(parents=True, exist_ok=True)
-        with open(ctx.log_file, "a", encoding="utf-8") as fh:
-            fh.write(
-                f"--- {_dt.datetime.now().isoformat(timespec='seconds')} tamis {__version__}\n{text}\n"
-            )
-        return str(ctx.log_file)
-    except OSError:
-        return "(the log file could not be written; run again with --traceback)"
+    where = write_error_log(ctx, text)
+    return where if not where.startswith("(") else where[:-1] + "; run again with --traceback)"

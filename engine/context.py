@@ -42,6 +42,23 @@ class Context:
         return self.config_dir / "tamis-error.log"
 
 
+def write_error_log(ctx: Context, text: str) -> str:
+    """Append an unexpected failure's traceback to the log file; where it is, in words."""
+    import datetime as _dt
+
+    from engine import __version__
+
+    try:
+        ctx.config_dir.mkdir(parents=True, exist_ok=True)
+        with open(ctx.log_file, "a", encoding="utf-8") as fh:
+            fh.write(
+                f"--- {_dt.datetime.now().isoformat(timespec='seconds')} tamis {__version__}\n{text}\n"
+            )
+        return str(ctx.log_file)
+    except OSError:
+        return "(the log file could not be written)"
+
+
 def default_context() -> Context:
     return Context(interactive=sys.stderr.isatty(), own_process=True)
 

@@ -53,6 +53,12 @@ def no_thread_left_running(request):
     assert not extra, f"{request.node.name} left threads running: {[t.name for t in extra]}"
 
 
+@pytest.fixture(autouse=True)
+def own_config_folder(tmp_path: Path, monkeypatch):
+    """Error logs of unexpected failures go to the test's folder, not the user's."""
+    monkeypatch.setenv("TAMIS_CONFIG_DIR", str(tmp_path / "config"))
+
+
 @pytest.fixture
 def store(tmp_path: Path) -> SettingsStore:
     return SettingsStore(tmp_path / "profile")

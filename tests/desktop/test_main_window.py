@@ -348,3 +348,34 @@ def test_every_setting_has_a_plain_tooltip_and_defaults_match_the_spec(qtbot):
     default = StudySpec(source="x", response="y")
     for k, v in p.values().items():
         assert v == getattr(default, k), k
+
+
+def test_findings_follow_their_workbook_and_say_when_settings_changed(qtbot, store, book, tmp_path):
+    # findings of one file must not be shown (or saved) under another; after a role changes
+    # they say they are from the last run
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        w.run_action.trigger()
+    wait_idle(qtbot, w)
+    assert w.result is not None and not w.results.outdated_note.isVisibleTo(w)
+    roles = w.ledger.model.roles()
+    other = next(n for n, r in roles.items() if r is Role.CANDIDATE)
+    w.ledger.model.set_roles({other: Role.IGNORE})
+    assert w.results.outdated_note.isVisibleTo(w)
+    copy = tmp_path / "another.xlsx"
+    copy.write_bytes(Path(book).read_bytes())
+    open_and_wait(qtbot, w, copy)
+    assert w.result is None and w.results.result is None
+    assert not w.save_as_action.isEnabled() and w.results.method_box.count() == 0
+
+
+def test_the_window_fits_a_small_laptop_screen(qtbot, store, book):
+    # common practice: 1280 x 720 is the smallest screen office laptops still have
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    assert w.minimumSizeHint().width() <= 1000
+    w.resize(1280, 720)
+    qtbot.wait(50)
+    assert w.width() == 1280

@@ -25,8 +25,13 @@ def test_write_problem_says_the_file_is_untouched():
     assert "left as it was" in msg.detail
 
 
-def test_unexpected_failure_names_the_type_without_a_traceback():
-    msg = describe_failure(ZeroDivisionError("division by zero"))
+def test_unexpected_failure_names_the_type_and_where_the_details_went(tmp_path):
+    try:
+        1 / 0  # noqa: B018 - a real traceback to log
+    except ZeroDivisionError as exc:
+        msg = describe_failure(exc)
     assert (
         msg.tone == "fault" and "ZeroDivisionError" in msg.detail and "Traceback" not in msg.detail
     )
+    log = tmp_path / "config" / "tamis-error.log"  # TAMIS_CONFIG_DIR of this test
+    assert str(log) in msg.detail and "1 / 0" in log.read_text()

@@ -83,12 +83,36 @@ def test_cursor_drag_with_the_mouse(view, qtbot):
 
 def test_budget_axis_is_the_l1_budget(view):
     m = _lasso(view)
-    view.axis_budget.setChecked(True)
+    view.axis_box.setCurrentIndex(1)  # against the budget t
     np.testing.assert_allclose(view.path_chart.x_values(), np.abs(m.path.std_coefs).sum(axis=1))
     view.path_chart.move_cursor_to(float(m.path.l1_budget[5]))
     assert view.path_chart.index == 5
-    view.axis_penalty.setChecked(True)
+    view.axis_box.setCurrentIndex(0)
     np.testing.assert_allclose(view.path_chart.x_values(), np.log10(m.path.penalties))
+    assert view.path_chart.index == 5  # the cursor stays at its point when the axis changes
+    view.axis_box.setCurrentIndex(1)
+    assert view.path_chart.index == 5 and "point 6 of" in view.readout.text()
+
+
+def test_changing_the_method_puts_the_cursor_at_its_chosen_point(view):
+    # in either order: a path of another length or range must not drag the old position along
+    for order in (range(view.method_box.count()), reversed(range(view.method_box.count()))):
+        for k in order:
+            view.method_box.setCurrentIndex(k)
+            chosen = view._chosen_index(view.current)
+            if chosen is not None:
+                assert view.path_chart.index == chosen
+                assert "(the chosen point)" in view.readout.text()
+
+
+def test_clear_and_outdated_mark(view):
+    view.set_outdated(True)
+    assert view.outdated_note.isVisibleTo(view) and "Run again" in view.outdated_note.text()
+    view.set_outdated(False)
+    assert not view.outdated_note.isVisibleTo(view)
+    view.clear()
+    assert view.result is None and view.method_box.count() == 0
+    assert view.coef_model.rows == [] and view.path_chart.path is None
 
 
 def test_hover_names_the_line_and_click_highlights_it(view):

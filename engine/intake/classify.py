@@ -299,10 +299,10 @@ def _classify_mixed(
 
     n_uncached = int(counts[_NOFORMULA])
     if n_uncached:
-        first = cell_at(int(np.flatnonzero(codes == _NOFORMULA)[0]))
+        first_cell = cell_at(int(np.flatnonzero(codes == _NOFORMULA)[0]))
         notes.append(
             f"{n_uncached} formula cell{'s' if n_uncached > 1 else ''} without a stored result "
-            f"(e.g. {first}) read as missing: the file was saved without calculating them"
+            f"(e.g. {first_cell}) read as missing: the file was saved without calculating them"
         )
 
     def unusable_note(keep: np.ndarray, what: str) -> int:

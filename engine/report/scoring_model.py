@@ -178,14 +178,14 @@ class ScoringModel:
             known = self.category_levels.get(source)
             if known is None or source_kind(self.encodings, source) != "category":
                 continue
-            for i, lab in enumerate(_labels(self._find_column(table, source))):
+            for row, lab in enumerate(_labels(self._find_column(table, source))):
                 if lab not in known and lab != "":
-                    unseen.setdefault(i, []).append(
+                    unseen.setdefault(row, []).append(
                         f"level '{lab}' of '{source}' not seen in fitting"
                     )
         notes = []
-        for i, m in enumerate(missing_in):
-            said = unseen.get(i, [])
+        for row, m in enumerate(missing_in):
+            said = unseen.get(row, [])
             rest = [s for s in m if not any(f"of '{s}'" in u for u in said)]
             parts = said + (
                 ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []

@@ -572,12 +572,24 @@ class _MethodRunner:
         sizes = np.array([len(sub) for sub in found.subsets])
         bic = size_bic(found.rss, sizes, d.n_rows)
         k_bic = int(sizes[int(np.argmin(bic))])
-        notes = [f"size {k} chosen by validation ({spec.choose}); BIC would choose size {k_bic}"]
+        if 2 * k_bic >= d.n_rows:  # near saturation the residual sum, and BIC, fall to nothing
+            notes = [
+                f"size {k} chosen by validation ({spec.choose}); BIC is no guide here: it "
+                f"falls all the way to {k_bic} columns for {d.n_rows} rows, where the fit "
+                "reproduces the rows (in-sample R squared near 1)"
+            ]
+        else:
+            notes = [
+                f"size {k} chosen by validation ({spec.choose}); BIC would choose size {k_bic}"
+            ]
         if found.warning:
             notes.append(found.warning)
         if diag.get("approximate_parts"):
+            count = int(diag["approximate_parts"])
             notes.append(
-                f"{diag['approximate_parts']} validation parts used the approximate search"
+                f"{count} validation part{'s' if count > 1 else ''} used the approximate search "
+                "(on its training rows some candidates were dependent on others, as a rare "
+                "category level can be, or too many for the rows)"
             )
         if found.approximate:
             self.notes.append(f"{search}: {found.warning}")

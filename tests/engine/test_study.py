@@ -280,3 +280,17 @@ def test_fit_out_replaces_its_own_output_but_never_a_users_file(tmp_path):
     for _ in range(2):  # the second run replaces the first run's results
         code, out, err = _fit([*argv, "--out", str(ours)], tmp_path)
         assert code == 0, err
+
+
+def test_bic_near_saturation_is_called_no_guide(tmp_path):
+    # common practice: with nearly as many columns as rows the residual sum falls to zero and
+    # BIC with it, so a size chosen that way means nothing; the note says so instead
+    rng = np.random.default_rng(12)
+    X = rng.normal(size=(24, 40))
+    y = X[:, 0] + rng.normal(scale=0.5, size=24)
+    book = _write_csv(tmp_path / "w.csv", X, y)
+    res = run_study(
+        StudySpec(source=str(book), response="y", methods=("forward-stepwise",), folds=4)
+    )
+    (note,) = [n for n in res.models[0].notes if "BIC" in n]
+    assert "BIC is no guide here" in note and "for 24 rows" in note

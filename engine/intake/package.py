@@ -40,6 +40,9 @@ _CELL_REF = re.compile(r"([A-Z]+)(\d+)")
 class PackageFacts:
     errors: dict[tuple[int, int], str] = field(default_factory=dict)  # position -> "#DIV/0!"
     uncached: list[tuple[int, int]] = field(default_factory=list)  # formulas with no result
+    # merged ranges (first row, first column, last row, last column), 0-based inclusive:
+    # only the first cell holds the value, the others read as blanks
+    merged: list[tuple[int, int, int, int]] = field(default_factory=list)
 
 
 def guard_parts(path: Path) -> None:
@@ -88,7 +91,7 @@ def _scan_xlsx(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
     part = _sheet_part(zf, sheet, place)
     if part is None or part not in zf.namelist():
         return facts
-    if not _contains(zf, part, (b"<f", b't="e"', b"t='e'", b":f")):
+    if not _contains(zf, part, (b"<f", b't="e"', b"t='e'", b":f", b"mergeCell")):
         return facts
     with zf.open(part) as fh:
         for el in iterparse_xml(fh, part, place):
@@ -109,6 +112,18 @@ def _scan_xlsx(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
                 el.clear()
             elif tag == f"{_MAIN}row":
                 el.clear()
+            elif tag == f"{_MAIN}mergeCell":
+                a, _, b = el.get("ref", "").partition(":")
+                ma, mb = _CELL_REF.fullmatch(a), _CELL_REF.fullmatch(b)
+                if ma and mb:
+                    facts.merged.append(
+                        (
+                            int(ma.group(2)) - 1,
+                            column_index(ma.group(1)),
+                            int(mb.group(2)) - 1,
+                            column_index(mb.group(1)),
+                        )
+                    )
     return facts
 
 
@@ -144,7 +159,7 @@ def _scan_ods(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
 
 
 def scan_sheet(path: Path, fmt: str, sheet: str) -> PackageFacts:
-    """Error cells and formulas saved without a result in one sheet of an xlsx/xlsm/ods file."""
+    """Error cells, formulas saved without a result and (xlsx) merged ranges in one sheet."""
     place = Place(file=str(path), sheet=sheet)
     try:
         with zipfile.ZipFile(path) as zf:

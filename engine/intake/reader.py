@@ -386,8 +386,28 @@ def _apply_facts(
     sheet: str,
     warnings: list[str],
 ) -> None:
-    """Put error values and formulas without results back where the cell reader left blanks."""
+    """Put error values and formulas without results back where the cell reader left blanks,
+    and the value of a range merged down a column into each of its rows."""
     n_rows, n_cols = block.shape
+    filled = []
+    for r0, c0, r1, c1 in sorted(facts.merged, key=lambda m: (m[1], m[0])):
+        i0, i1 = r0 - h - 1, r1 - h - 1
+        # down one column, inside the data: a label typed once for several rows ("North"
+        # merged over ten rows) means that label in each
+        if c0 != c1 or i0 < 0 or i1 >= n_rows or c0 >= n_cols or empty[i0, c0]:
+            continue
+        for i in range(i0 + 1, i1 + 1):
+            if empty[i, c0]:
+                block[i, c0] = block[i0, c0]
+                empty[i, c0] = False
+        filled.append(f"{column_letter(c0)}{r0 + 1}:{column_letter(c1)}{r1 + 1}")
+    if filled:
+        more = f" and {len(filled) - NAMED_CELLS} more" if len(filled) > NAMED_CELLS else ""
+        warnings.append(
+            f"{len(filled)} merged range{'s' if len(filled) > 1 else ''} down a column in sheet "
+            f"'{sheet}' ({', '.join(filled[:NAMED_CELLS])}{more}) read with the first cell's "
+            "value in every row of the range"
+        )
     for (r, c), code in facts.errors.items():
         i = r - h - 1
         if 0 <= i < n_rows and 0 <= c < n_cols and empty[i, c]:

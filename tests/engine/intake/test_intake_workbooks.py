@@ -415,3 +415,26 @@ def test_the_decimal_mark_of_numbers_written_as_text_is_decided_for_the_sheet(tm
     assert any("decimal comma" in n and "could also" in n for n in leit.notes)
     # and the fit's warnings carry it too (a value that depends on the mark deserves a look)
     assert any(w.startswith("column 'Leitwert' (C): ") for w in table.warnings)
+
+
+def test_a_label_merged_down_a_column_counts_for_every_row_of_its_range(tmp_path):
+    # common spreadsheet practice: a site typed once and merged over its rows (ECMA-376 Part 1,
+    # 18.3.1.55 mergeCell: only the top-left cell of a merged range holds a value)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Trial"
+    ws.append(["site", "dose", "response"])
+    for i in range(9):
+        ws.append([["North", "South", "East"][i // 3] if i % 3 == 0 else None, i, 2.0 * i])
+    for top in (2, 5, 8):
+        ws.merge_cells(f"A{top}:A{top + 2}")
+    path = tmp_path / "merged.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    site = table.column("site")
+    assert site.kind.value == "category" and site.missing == 0
+    assert list(site.values) == ["North"] * 3 + ["South"] * 3 + ["East"] * 3
+    assert any(
+        "3 merged ranges down a column in sheet 'Trial' (A2:A4, A5:A7, A8:A10)" in w
+        for w in table.warnings
+    )

@@ -43,6 +43,8 @@ class PackageFacts:
     # merged ranges (first row, first column, last row, last column), 0-based inclusive:
     # only the first cell holds the value, the others read as blanks
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)
+    hidden_rows: list[int] = field(default_factory=list)  # 0-based sheet rows hidden in xlsx
+    hidden_cols: list[int] = field(default_factory=list)  # 0-based columns hidden in xlsx
 
 
 def guard_parts(path: Path) -> None:
@@ -86,12 +88,18 @@ def _contains(zf: zipfile.ZipFile, part: str, needles: tuple[bytes, ...]) -> boo
     return False
 
 
-def _scan_xlsx(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
+_HIDDEN = (b'hidden="1"', b'hidden="true"', b"hidden='1'", b"hidden='true'")
+
+
+def _scan_xlsx(
+    zf: zipfile.ZipFile, sheet: str, place: Place, hidden_only: bool = False
+) -> PackageFacts:
     facts = PackageFacts()
     part = _sheet_part(zf, sheet, place)
     if part is None or part not in zf.namelist():
         return facts
-    if not _contains(zf, part, (b"<f", b't="e"', b"t='e'", b":f", b"mergeCell")):
+    needles = _HIDDEN if hidden_only else (b"<f", b't="e"', b"t='e'", b":f", b"mergeCell", *_HIDDEN)
+    if not _contains(zf, part, needles):
         return facts
     with zf.open(part) as fh:
         for el in iterparse_xml(fh, part, place):
@@ -111,7 +119,13 @@ def _scan_xlsx(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
                         facts.uncached.append(pos)
                 el.clear()
             elif tag == f"{_MAIN}row":
+                if el.get("hidden") in ("1", "true") and el.get("r", "").isdigit():
+                    facts.hidden_rows.append(int(el.get("r", "0")) - 1)
                 el.clear()
+            elif tag == f"{_MAIN}col":
+                lo, hi = el.get("min", ""), el.get("max", "")
+                if el.get("hidden") in ("1", "true") and lo.isdigit() and hi.isdigit():
+                    facts.hidden_cols.extend(range(int(lo) - 1, min(int(hi), 16384)))
             elif tag == f"{_MAIN}mergeCell":
                 a, _, b = el.get("ref", "").partition(":")
                 ma, mb = _CELL_REF.fullmatch(a), _CELL_REF.fullmatch(b)
@@ -158,13 +172,17 @@ def _scan_ods(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
     return PackageFacts()
 
 
-def scan_sheet(path: Path, fmt: str, sheet: str) -> PackageFacts:
-    """Error cells, formulas saved without a result and (xlsx) merged ranges in one sheet."""
+def scan_sheet(path: Path, fmt: str, sheet: str, hidden_only: bool = False) -> PackageFacts:
+    """Error cells, formulas saved without a result and (xlsx) merged ranges and hidden rows
+    and columns in one sheet; with ``hidden_only`` just the hidden ones (a quick byte search
+    first: the sheet is parsed only when it has any)."""
     place = Place(file=str(path), sheet=sheet)
     try:
         with zipfile.ZipFile(path) as zf:
             if fmt in ("xlsx", "xlsm"):
-                return _scan_xlsx(zf, sheet, place)
+                return _scan_xlsx(zf, sheet, place, hidden_only)
+            if hidden_only:
+                return PackageFacts()
             if fmt == "ods":
                 return _scan_ods(zf, sheet, place)
     except (zipfile.BadZipFile, KeyError, OSError) as exc:

@@ -172,6 +172,7 @@ def _build_table(
     warnings: list[str] = []
     block: np.ndarray | None = None
     empty: np.ndarray | None = None
+    facts: PackageFacts | None = None
     numeric_cols: np.ndarray | None = None
     if (
         fmt != "csv"
@@ -220,6 +221,11 @@ def _build_table(
         row_numbers = (keep_rows + h + 2).astype(np.int64)
         col_has: np.ndarray = ~np.asarray(empty.all(axis=0))
         keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
+
+    if facts_source in ("xlsx", "xlsm"):
+        if facts is None:  # no full scan was needed: look for hidden rows and columns only
+            facts = scan_sheet(path, facts_source, sheet, hidden_only=True)
+        _hidden_warning(facts, h, len(data_rows), width, sheet, warnings)
 
     columns: list[Column] = []
     seen: dict[str, str] = {}  # casefolded name -> first column's name
@@ -376,6 +382,32 @@ def _totals_rows(
             break
         found.insert(0, (i, label))
     return found
+
+
+def _hidden_warning(
+    facts: PackageFacts, h: int, n_rows: int, n_cols: int, sheet: str, warnings: list[str]
+) -> None:
+    """Hidden rows in the data and hidden columns are read like the others: say so."""
+    rows = [r + 1 for r in facts.hidden_rows if 0 <= r - h - 1 < n_rows]
+    cols = [column_letter(c) for c in facts.hidden_cols if c < n_cols]
+    if rows or cols:  # hidden is not deleted: say that they count, the user may not know
+        parts = []
+        if rows:
+            more = f" and {len(rows) - NAMED_CELLS} more" if len(rows) > NAMED_CELLS else ""
+            parts.append(
+                f"{len(rows)} hidden row{'s' if len(rows) > 1 else ''} "
+                f"({', '.join(map(str, rows[:NAMED_CELLS]))}{more})"
+            )
+        if cols:
+            more = f" and {len(cols) - NAMED_CELLS} more" if len(cols) > NAMED_CELLS else ""
+            parts.append(
+                f"{len(cols)} hidden column{'s' if len(cols) > 1 else ''} "
+                f"({', '.join(cols[:NAMED_CELLS])}{more})"
+            )
+        warnings.append(
+            f"sheet '{sheet}' has {' and '.join(parts)}; they are read like the others (leave "
+            "hidden columns out as candidates, and delete hidden rows that are not data)"
+        )
 
 
 def _apply_facts(

@@ -438,3 +438,25 @@ def test_a_label_merged_down_a_column_counts_for_every_row_of_its_range(tmp_path
         "3 merged ranges down a column in sheet 'Trial' (A2:A4, A5:A7, A8:A10)" in w
         for w in table.warnings
     )
+
+
+@pytest.mark.parametrize("with_blank", [False, True])  # both reading routes (all numbers or not)
+def test_hidden_rows_and_columns_are_read_and_named(tmp_path, with_blank):
+    # ECMA-376 Part 1, 18.3.1.73 row@hidden and 18.3.1.13 col@hidden: hidden, not deleted
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Hidden"
+    ws.append(["x1", "old_x", "y"])
+    for i in range(8):
+        ws.append([float(i), float(i * i), None if with_blank and i == 3 else 2.0 * i + 0.5])
+    ws.row_dimensions[5].hidden = True
+    ws.column_dimensions["B"].hidden = True
+    path = tmp_path / "hidden.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert table.n_rows == 8 and [c.name for c in table.columns] == ["x1", "old_x", "y"]
+    assert any(
+        "sheet 'Hidden' has 1 hidden row (5) and 1 hidden column (B); they are read like the others"
+        in w
+        for w in table.warnings
+    )

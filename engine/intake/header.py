@@ -1,7 +1,9 @@
 """Find the row that holds the column headings.
 
 Workbooks often carry a title, a few lines of notes or a blank line above the headings. The
-rule: among the first 60 rows that hold anything, take the first row that
+rule: among the first 60 rows that hold anything, the row of words nearest above the first row
+holding numbers or dates (not a row of units such as "kg" or "(mm)": the row above it then);
+when the data hold no numbers or dates, the first row that
 
 - is about as wide as the table (at least half the widest row, and at least 2 cells when the
   table has 2 or more columns), and
@@ -53,6 +55,16 @@ def detect_header_row(rows: list[list]) -> int | None:
         return None
     widest = max(f for _, f, _ in sample)
     need = 1 if widest < 2 else max(2, math.ceil(0.5 * widest))
+    # the row of words nearest above the first row that holds numbers or dates: notes, a
+    # title or group labels above the headings are words too, but never sit right on the data
+    last = None
+    for i, f, w in sample:
+        if f < need:
+            continue
+        if w < f and last is not None:  # data: some cells are numbers or dates
+            return _above_units(rows, sample, last)
+        if w >= 0.6 * f:
+            last = i
     candidates = [(i, f) for i, f, w in sample if f >= need and w >= 0.6 * f]
     for i, f in candidates:
         if f >= 0.8 * widest:
@@ -64,3 +76,27 @@ def detect_header_row(rows: list[list]) -> int | None:
         if f >= max(need, 0.8 * widest):
             return i
     return sample[0][0]
+
+
+# what a row of units under the headings holds (common practice in lab and engineering sheets)
+_UNITS = frozenset(
+    """% kg g mg t m cm mm km l ml h min s ms °c c degc k pa kpa bar pct ppm ppb units pcs
+    eur usd gbp chf € $ £ kwh mwh w kw v a hz db""".split()
+)
+
+
+def _is_unit(value: object) -> bool:
+    s = str(value).strip().lower()
+    return s[:1] in "([" or s in _UNITS
+
+
+def _above_units(rows: list[list], sample: list[tuple[int, int, int]], i: int) -> int:
+    """``i``, or the row of words right above it when row ``i`` only holds units ("kg",
+    "(mm)"): the names are there, the units row then reads as a row of text in the data."""
+    k = next(t for t, (j, _, _) in enumerate(sample) if j == i)
+    cells = [v for v in rows[i] if _filled(v)]
+    if k > 0 and cells and all(_is_unit(v) for v in cells):
+        j, f, w = sample[k - 1]
+        if j == i - 1 and w >= 0.6 * f and f >= len(cells):
+            return j
+    return i

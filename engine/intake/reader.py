@@ -207,12 +207,13 @@ def _build_table(
         totals = _totals_rows(block, empty, keep_rows)
         if totals:
             keep_rows = keep_rows[: -len(totals)]
-            for i, (j, label) in totals:
+            for i, (j, label, kind) in totals:
                 row = i + h + 2
                 cell = f"column {j + 1}" if fmt == "csv" else f"cell {column_letter(j)}{row}"
+                shown = label if len(label) <= 60 else label[:57] + "..."
                 warnings.append(
-                    f"row {row} left out: it looks like a totals or summary row ('{label}' in "
-                    f"{cell}), not data"
+                    f"row {row} left out: it looks like a {kind} row ('{shown}' in {cell}), "
+                    "not data"
                 )
         block = block[keep_rows]
         empty = empty[keep_rows]
@@ -350,21 +351,30 @@ def _sheet_decimal_mark(block: np.ndarray, default: str) -> str:
 
 def _totals_rows(
     block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray
-) -> list[tuple[int, tuple[int, str]]]:
+) -> list[tuple[int, tuple[int, str, str]]]:
     """The trailing non-blank rows that label themselves as totals or summaries ("Total",
-    "Summe", "Average", ...):
-    [(row index in the sheet part below the headings, (column, label)), ...], topmost first.
+    "Summe", "Average", ...), or hold one note alone: [(row index in the sheet part below
+    the headings, (column, label, "totals or summary" / "note")), ...], topmost first.
 
     A row counts when one of its text cells is such a label, no row above uses that label in
     the same column (a category that happens to be called "Total" stays data), its other
     cells hold numbers or nothing (no other text, as data rows with categories have), and
     only such rows follow it. Summed into the data, a totals row would be one huge outlier.
     """
-    found: list[tuple[int, tuple[int, str]]] = []
+    found: list[tuple[int, tuple[int, str, str]]] = []
     body = keep_rows
     for back in range(1, min(_TOTALS_AT_FOOT, body.size - 3) + 1):  # leave 3 rows of data
         i = int(body[-back])
         label = None
+        filled = np.flatnonzero(~empty[i])
+        if block.shape[1] >= 3 and filled.size == 1 and _is_note(block[i, filled[0]]):
+            # one sentence alone under a table of three or more columns: a note, not data
+            j = int(filled[0])
+            above = block[body[:-back], j]
+            text = str(block[i, j]).strip()
+            if not any(isinstance(a, str) and a.strip() == text for a in above):
+                found.insert(0, (i, (j, text, "note")))
+                continue
         for j in range(block.shape[1]):
             v = block[i, j]
             if empty[i, j] or not _is_total_label(v):
@@ -373,7 +383,7 @@ def _totals_rows(
             if not any(
                 isinstance(a, str) and a.strip().casefold() == v.strip().casefold() for a in above
             ):
-                label = (j, v.strip())
+                label = (j, v.strip(), "totals or summary")
                 break
         if label is None or any(
             k != label[0] and not empty[i, k] and _is_text(block[i, k])
@@ -382,6 +392,11 @@ def _totals_rows(
             break
         found.insert(0, (i, label))
     return found
+
+
+def _is_note(value: object) -> bool:
+    """Text of several words (a remark, a source line, "Exported rows: 30")."""
+    return isinstance(value, str) and _is_text(value) and len(value.split()) >= 2
 
 
 def _hidden_warning(

@@ -460,3 +460,26 @@ def test_hidden_rows_and_columns_are_read_and_named(tmp_path, with_blank):
         in w
         for w in table.warnings
     )
+
+
+def test_notes_under_the_table_are_left_out(tmp_path):
+    # common spreadsheet practice: a source line or a remark typed under the data
+    path = _book_with_foot(
+        tmp_path, [[None, None, None], ["Source: stock system, exported 2024-03-02", None, None]]
+    )
+    table = read_table(path)
+    assert table.n_rows == 10
+    assert any(
+        "row 13 left out: it looks like a note row ('Source: stock system, exported "
+        "2024-03-02' in cell A13)" in w
+        for w in table.warnings
+    )
+
+
+def test_a_footer_line_of_a_text_export_is_left_out(tmp_path):
+    lines = ["site,units,price,weight"] + [f"S{i},{100 + i},2.5,{i}" for i in range(8)]
+    path = tmp_path / "export.csv"
+    path.write_text("\n".join([*lines, "Exported rows: 8"]) + "\n", encoding="utf-8")
+    table = read_table(path)
+    assert table.n_rows == 8
+    assert any("'Exported rows: 8' in column 1" in w for w in table.warnings)

@@ -146,6 +146,7 @@ def _build_table(
         raise InputProblem(
             f"{where}: the sheet is empty; choose the sheet that holds the data", place
         )
+    lengths = [_used_length(r) for r in rows]  # before padding: a text file's ragged lines
     if any(len(r) != width for r in rows):
         rows = [list(r) + [""] * (width - len(r)) for r in rows]
 
@@ -170,6 +171,8 @@ def _build_table(
     data_rows = rows[h + 1 :]
     headings = [format_heading(v) for v in rows[h]]
     warnings: list[str] = []
+    if fmt == "csv":
+        _ragged_warning(lengths, h, warnings)
     block: np.ndarray | None = None
     empty: np.ndarray | None = None
     facts: PackageFacts | None = None
@@ -397,6 +400,32 @@ def _totals_rows(
 def _is_note(value: object) -> bool:
     """Text of several words (a remark, a source line, "Exported rows: 30")."""
     return isinstance(value, str) and _is_text(value) and len(value.split()) >= 2
+
+
+def _used_length(row: list) -> int:
+    """Fields up to the last one that holds anything."""
+    n = len(row)
+    while n and isinstance(row[n - 1], str) and not row[n - 1].strip():
+        n -= 1
+    return n
+
+
+def _ragged_warning(lengths: list[int], h: int, warnings: list[str]) -> None:
+    """Rows of a text file with more or fewer fields than the heading row, named."""
+    width = lengths[h]
+    longer = [i + 1 for i, k in enumerate(lengths) if i > h and k > width]
+    shorter = [i + 1 for i, k in enumerate(lengths) if i > h and 0 < k < width]
+    for rows, fewer_more, then in (
+        (longer, "more", "the extra values are read into columns without a heading"),
+        (shorter, "fewer", "the missing ones at the end read as empty"),
+    ):
+        if rows:
+            more = f" and {len(rows) - NAMED_CELLS} more" if len(rows) > NAMED_CELLS else ""
+            warnings.append(
+                f"row{'s' if len(rows) > 1 else ''} {', '.join(map(str, rows[:NAMED_CELLS]))}"
+                f"{more} {'have' if len(rows) > 1 else 'has'} {fewer_more} fields than the "
+                f"{width} of the heading row; {then}"
+            )
 
 
 def _hidden_warning(

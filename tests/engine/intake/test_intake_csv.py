@@ -118,3 +118,16 @@ def test_csv_sheet_option(tmp_path):
 
     with pytest.raises(InputProblem, match="single sheet, 'one'"):
         read_table(path, sheet="Data")
+
+
+def test_rows_with_more_or_fewer_fields_than_the_headings_are_named(tmp_path):
+    # RFC 4180 section 2: each record should hold the same number of fields as the header
+    lines = ["site,units,price"] + [f"S{i},{100 + i},2.5" for i in range(6)]
+    lines[3] = "S2,102,2.5,extra"
+    lines[5] = "S4,104"
+    path = tmp_path / "ragged.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    table = read_table(path)
+    assert table.n_rows == 6
+    assert any("row 4 has more fields than the 3 of the heading row" in w for w in table.warnings)
+    assert any("row 6 has fewer fields than the 3 of the heading row" in w for w in table.warnings)

@@ -137,6 +137,15 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         table.column(name)  # unknown names are an error, not silently ignored
 
     warnings: list[str] = []
+    for role, name in (("response", spec.response), ("focal column", spec.focal)):
+        twins = [c for c in table.columns if name and c.duplicate_of == name]
+        if twins:  # two columns share the heading: say which one the role took
+            first = table.column(name)
+            others = ", ".join(f"{c.letter} (read as '{c.name}')" for c in twins)
+            warnings.append(
+                f"the {role} '{name}' is column {first.letter}; the same heading is also on "
+                f"column {others}"
+            )
     dropped_columns: dict[str, str] = {}
     if spec.focal and spec.focal == spec.response:
         raise InputProblem(

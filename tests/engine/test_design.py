@@ -265,3 +265,18 @@ def test_a_response_of_formulas_without_stored_results_says_so(tmp_path):
     assert "'y' in sheet 'Calc' holds no values" in text
     assert "12 formula cells without a stored result (e.g. C2)" in text
     assert "save it to store the formula results" in text
+
+
+def test_a_response_whose_heading_is_used_twice_says_which_column_it_took(tmp_path):
+    # common in hand-made sheets: the same heading typed over two columns
+    from engine.intake import read_table
+
+    lines = ["sales,x,sales,z"] + [f"{i},{i * 2},{i + 1},{i % 3}" for i in range(12)]
+    path = tmp_path / "dup.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    design = build_design(read_table(path), _spec(source=str(path), response="sales"))
+    assert any(
+        "the response 'sales' is column 1; the same heading is also on column 3 (read as "
+        "'sales (2)')" in w
+        for w in design.warnings
+    )

@@ -132,6 +132,7 @@ class MainWindow(QMainWindow):
         self.result: StudyResult | None = None
         self.last_message: UserMessage | None = None
         self.problems: list = []
+        self._readiness_before = ""
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
@@ -712,6 +713,9 @@ class MainWindow(QMainWindow):
 
     # task signals (the one place outcomes arrive) ---------------------------------------
     def _on_task_started(self, label: str) -> None:
+        if label == "run":
+            self._readiness_before = self.readiness.text()
+            self.readiness.setText(_RUNNING)
         self.progress_bar.setValue(0)
         self.progress_bar.show()
         self.stop_button.show()
@@ -743,12 +747,16 @@ class MainWindow(QMainWindow):
             self.results.show_result(self.result)
             self.pages.setCurrentIndex(PAGE_FINDINGS)
             secs = getattr(value, "seconds", 0.0)
+            drag = (
+                "Drag the cursor on the path to see other column sets. "
+                if any(m.path is not None for m in result.models)
+                else ""
+            )
             self._say(
                 UserMessage(
                     "info",
                     f"Study finished in {secs:.1f} s.",
-                    "Drag the cursor on the path to see other column sets. "
-                    "Read the cautions before acting on the result.",
+                    drag + "Read the cautions before acting on the result.",
                 ),
                 ("Read before use", self.show_cautions),
             )
@@ -773,7 +781,9 @@ class MainWindow(QMainWindow):
         )
         self._show_failure(msg)
 
-    def _on_task_finished(self, _label: str) -> None:
+    def _on_task_finished(self, label: str) -> None:
+        if label == "run" and self.readiness.text() == _RUNNING:
+            self.readiness.setText(self._readiness_before)  # unless roles changed meanwhile
         self.progress_bar.hide()
         self.stop_button.hide()
         self.step_label.setText("")
@@ -855,6 +865,9 @@ class MainWindow(QMainWindow):
             self._remember()
         self.runner.shutdown()
         super().closeEvent(event)
+
+
+_RUNNING = "Running the study…"
 
 
 def _run_with_table(calls: EngineCalls, spec: StudySpec, table, progress):

@@ -246,7 +246,10 @@ class ResultView(QWidget):
         w = QWidget()
         lay = QVBoxLayout(w)
         note = QLabel(
-            "Compare held-out error, not R squared: R squared on the rows used always favours more columns."
+            "Compare held-out error, not R squared: R squared on the rows used always favours "
+            "more columns. Penalties are on each method's own scale (the elastic net splits "
+            "its penalty, the adaptive lasso weights each column), so compare them within a "
+            "method only."
         )
         note.setObjectName("caption")
         note.setWordWrap(True)
@@ -521,6 +524,7 @@ class ResultView(QWidget):
         assert self.result is not None
         s = self.result.stability
         self.share_chart.set_stability(s)
+        self.share_chart.setVisible(s is not None)  # no empty axes when there is nothing
         if s is None:
             self.share_note.setText(
                 "Stability was not run. Set 'Stability half-samples' in Run settings to see "
@@ -537,6 +541,7 @@ class ResultView(QWidget):
         assert self.result is not None
         f = self.result.focal
         self.focal_chart.set_focal(f)
+        self.focal_chart.setVisible(f is not None)
         if f is None:
             self.focal_text.setText(
                 "No focal column. Give one column the role 'focal' to estimate its own effect "

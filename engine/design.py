@@ -137,9 +137,13 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         table.column(name)  # unknown names are an error, not silently ignored
 
     warnings: list[str] = []
-    for role, name in (("response", spec.response), ("focal column", spec.focal)):
+    named: list[tuple[str, str | None]] = [
+        ("response", spec.response),
+        ("focal column", spec.focal),
+    ]
+    for role, name in named:
         twins = [c for c in table.columns if name and c.duplicate_of == name]
-        if twins:  # two columns share the heading: say which one the role took
+        if name and twins:  # two columns share the heading: say which one the role took
             first = table.column(name)
             others = ", ".join(f"{c.letter} (read as '{c.name}')" for c in twins)
             warnings.append(

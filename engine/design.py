@@ -141,13 +141,13 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         ("response", spec.response),
         ("focal column", spec.focal),
     ]
-    for role, name in named:
-        twins = [c for c in table.columns if name and c.duplicate_of == name]
-        if name and twins:  # two columns share the heading: say which one the role took
-            first = table.column(name)
+    for role, given in named:
+        twins = [c for c in table.columns if given and c.duplicate_of == given]
+        if given and twins:  # two columns share the heading: say which one the role took
+            first = table.column(given)
             others = ", ".join(f"{c.letter} (read as '{c.name}')" for c in twins)
             warnings.append(
-                f"the {role} '{name}' is column {first.letter}; the same heading is also on "
+                f"the {role} '{given}' is column {first.letter}; the same heading is also on "
                 f"column {others}"
             )
     dropped_columns: dict[str, str] = {}

@@ -15,6 +15,7 @@ import numpy as np
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (
     QAbstractItemView,
+    QCheckBox,
     QComboBox,
     QFileDialog,
     QHBoxLayout,
@@ -212,9 +213,20 @@ class ResultView(QWidget):
         self.curve_note.setWordWrap(True)
         w = QWidget()
         lay = QVBoxLayout(w)
+        self.close_up_box = QCheckBox("Close-up of the lowest error")
+        self.close_up_box.setToolTip(
+            "Show the errors near the lowest one, where the choice is made, instead of the "
+            "whole curve (whose strongest penalties have far larger errors)."
+        )
+        self.close_up_box.setChecked(True)
+        self.curve_chart.set_close_up(True)
+        self.close_up_box.toggled.connect(self.curve_chart.set_close_up)
         bar = QHBoxLayout()
         bar.addWidget(self.curve_note, 1)
-        bar.addWidget(_export_button(self, self.curve_chart, "tamis-validation"))
+        side = QVBoxLayout()
+        side.addWidget(_export_button(self, self.curve_chart, "tamis-validation"))
+        side.addWidget(self.close_up_box)
+        bar.addLayout(side)
         lay.addLayout(bar)
         lay.addWidget(self.curve_chart, 1)
         return w

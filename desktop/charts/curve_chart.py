@@ -34,6 +34,7 @@ class CurveChart(QWidget):
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(self.plot)
         self.curve: ValidationCurve | None = None
+        self.close_up = False
         self._x = np.zeros(0)
         self.marks: dict[str, float] = {}  # "min" / "one-se" -> view x
 
@@ -88,8 +89,8 @@ class CurveChart(QWidget):
                 angle=90,
                 pen=pg.mkPen(colour, width=width, style=Qt.PenStyle.DashLine),
                 label=words + (" (chosen)" if rule == chosen_rule else ""),
-                labelOpts={
-                    "position": 0.88 if rule == "min" else 0.72,
+                labelOpts={  # mid-height: clear of the legend in the top corner
+                    "position": 0.6 if rule == "min" else 0.45,
                     "color": colour,
                     "fill": pg.mkBrush(255, 255, 255, 210),
                     "anchors": [(0.5, 0), (0.5, 0)],
@@ -107,7 +108,34 @@ class CurveChart(QWidget):
                 name=words,
             )
             dot.setZValue(10)
+        self._apply_range()
+
+    def set_close_up(self, on: bool) -> None:
+        """Show the neighbourhood of the lowest error (on) or the whole curve (off)."""
+        self.close_up = on
+        self._apply_range()
+
+    def close_up_range(self) -> tuple[float, float] | None:
+        """The error range of the close-up: from the lowest error bar to four of its widths
+        above the lowest error plus its standard error, or None when there is no curve."""
+        c = self.curve
+        if c is None or len(c.grid) == 0:
+            return None
+        y = np.asarray(c.mean_error, dtype=float)
+        se = np.where(np.isfinite(c.se), c.se, 0.0)
+        ok = np.isfinite(y)
+        if not ok.any():
+            return None
+        lo = float(np.min((y - se)[ok]))
+        top = float(y[c.index_min] + se[c.index_min])
+        hi = top + 3.0 * max(top - lo, 1e-12 * max(abs(top), 1.0))
+        return lo, min(hi, float(np.max((y + se)[ok])))
+
+    def _apply_range(self) -> None:
+        span = self.close_up_range() if self.close_up else None
         self.item.enableAutoRange()
+        if span is not None and span[1] > span[0]:
+            self.item.setYRange(*span, padding=0.05)
 
     def _beam(self) -> float:
         if self._x.size < 2:

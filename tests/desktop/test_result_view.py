@@ -167,3 +167,16 @@ def test_charts_export_to_png_and_svg(view, tmp_path: Path, suffix, magic):
         out = export_plot(chart.plot, tmp_path / f"{type(chart).__name__}{suffix}")
         assert out.read_bytes()[: len(magic)] == magic
         assert out.stat().st_size > 1000
+
+
+def test_validation_close_up_shows_the_lowest_error_and_its_band(view):
+    m = _lasso(view)
+    chart = view.curve_chart
+    assert view.close_up_box.isChecked() and chart.close_up
+    c = m.curve
+    lo, hi = chart.close_up_range()
+    assert lo == pytest.approx(float(np.min(c.mean_error - c.se)))
+    assert hi >= c.mean_error[c.index_min] + c.se[c.index_min]
+    assert hi <= float(np.max(c.mean_error + c.se))
+    view.close_up_box.setChecked(False)  # the whole curve again
+    assert not chart.close_up

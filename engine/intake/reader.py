@@ -7,6 +7,7 @@ from __future__ import annotations
 
 __all__ = ["list_sheets", "read_table"]
 
+from collections import Counter
 from itertools import chain
 from pathlib import Path
 
@@ -171,6 +172,10 @@ def _build_table(
     data_rows = rows[h + 1 :]
     headings = [format_heading(v) for v in rows[h]]
     warnings: list[str] = []
+    if h > 0:
+        headings = _with_group_labels(
+            headings, [format_heading(v) for v in rows[h - 1]], h, warnings
+        )
     if fmt == "csv":
         _ragged_warning(lengths, h, warnings)
     block: np.ndarray | None = None
@@ -400,6 +405,39 @@ def _totals_rows(
 def _is_note(value: object) -> bool:
     """Text of several words (a remark, a source line, "Exported rows: 30")."""
     return isinstance(value, str) and _is_text(value) and len(value.split()) >= 2
+
+
+def _with_group_labels(
+    headings: list[str], above: list[str], h: int, warnings: list[str]
+) -> list[str]:
+    """Headings under a row of group labels (two heading rows): a heading that repeats
+    ("mean", "sd" under each of several measures) takes the label written above it, carried
+    right over the blank cells of a label merged or centred across its columns ("Temperature"
+    over "mean" and "sd": "Temperature mean"); a blank heading takes the label right above it
+    (a name merged down over both rows)."""
+    if sum(1 for a in above if a) < 2:  # a title line above the table, not group labels
+        return headings
+    seen = Counter(x.casefold() for x in headings if x)
+    carried, label = [], ""
+    for j in range(len(headings)):
+        label = (above[j] if j < len(above) else "") or label
+        carried.append(label)
+    out = []
+    for j, x in enumerate(headings):
+        if x and seen[x.casefold()] > 1 and carried[j]:
+            out.append(f"{carried[j]} {x}")
+        elif not x and j < len(above) and above[j]:
+            out.append(above[j])
+        else:
+            out.append(x)
+    if out == headings or len({x.casefold() for x in out if x}) < len([x for x in out if x]):
+        return headings  # nothing gained, or the labels would make new repeats
+    changed = next(x for x, y in zip(out, headings) if x != y)
+    warnings.append(
+        f"headings of row {h + 1} are completed with the labels of row {h} above them "
+        f"(e.g. '{changed}')"
+    )
+    return out
 
 
 def _used_length(row: list) -> int:

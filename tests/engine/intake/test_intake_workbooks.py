@@ -483,3 +483,29 @@ def test_a_footer_line_of_a_text_export_is_left_out(tmp_path):
     table = read_table(path)
     assert table.n_rows == 8
     assert any("'Exported rows: 8' in column 1" in w for w in table.warnings)
+
+
+def test_two_heading_rows_give_combined_names(tmp_path):
+    # common practice in lab sheets: a measure's name merged over its statistics, and the
+    # single columns' names merged down over both heading rows
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Runs"
+    ws.append(["run", "Temperature", None, "Pressure", None, "purity"])
+    ws.append([None, "mean", "sd", "mean", "sd", None])
+    for i in range(6):
+        ws.append([f"R{i}", 20.0 + i, 1.0 + i / 10, 3.0 - i / 10, 0.2, 95.0 + i / 3])
+    ws.merge_cells("B1:C1")
+    ws.merge_cells("D1:E1")
+    ws.merge_cells("A1:A2")
+    ws.merge_cells("F1:F2")
+    path = tmp_path / "runs.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert table.header_row == 2
+    assert [c.name for c in table.columns] == [
+        "run", "Temperature mean", "Temperature sd", "Pressure mean", "Pressure sd", "purity",
+    ]  # fmt: skip
+    assert any(
+        "headings of row 2 are completed with the labels of row 1" in w for w in table.warnings
+    )

@@ -36,6 +36,8 @@ class EngineCalls:
         return read_table(path, sheet=sheet, header_row=header_row, progress=progress)
 
     def run_study(self, spec: StudySpec, progress: Progress) -> Any:
+        if not _warmed:
+            progress.step(0.0, "loading the fitting code (first run after start only)")
         from engine.study import run_study
 
         _warm_up_engine()
@@ -43,6 +45,8 @@ class EngineCalls:
 
     def run_study_on_table(self, spec: StudySpec, table: Table, progress: Progress) -> Any:
         """Run on the table the window already read (same file, sheet and header row as ``spec``)."""
+        if not _warmed:  # a run started right after launch: say what the first seconds do
+            progress.step(0.0, "loading the fitting code (first run after start only)")
         from engine.study import run_study
 
         _warm_up_engine()

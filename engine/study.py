@@ -76,7 +76,7 @@ def run_study(
     progress = _monotone(progress or silent())
     started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
     t0 = time.perf_counter()
-    progress.step(0.0, "reading the sheet")
+    progress.step(0.0, "reading the sheet" if table is None else "checking the file")
     fingerprint = _fingerprint(spec.source)  # before reading: a later change must be noticed
     if table is None:
         table = load_table(spec, progress.part(0.0, 0.04))

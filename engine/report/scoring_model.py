@@ -316,7 +316,9 @@ class ScoringModel:
             levels = self.category_levels.get(enc.source, [])
             if raw is None or raw == "":
                 return (1.0 if (enc.level or "") == "" else 0.0) if "" in levels else math.nan
-            return 1.0 if _plain(raw) == (enc.level or "") else 0.0
+            # as the sheet's TRIM: outer spaces off, inner runs of spaces as one
+            trimmed = " ".join(part for part in _plain(raw).split(" ") if part)
+            return 1.0 if trimmed == (enc.level or "") else 0.0
         if enc.kind == "trend":
             if num is None:
                 return miss

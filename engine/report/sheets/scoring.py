@@ -131,7 +131,8 @@ def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> st
     if enc.kind == "level":
         blank_known = "" in model.category_levels.get(enc.source, [])
         blank = f"IF(LEN({level})=0,1,0)" if blank_known else "NA()"
-        return f"IF(OR(ISBLANK({src}),ISERROR({src})),{blank},IF(EXACT({src},{level}),1,0))"
+        # TRIM: spaces around a label, or doubled inside it, count as intake counts them
+        return f"IF(OR(ISBLANK({src}),ISERROR({src})),{blank},IF(EXACT(TRIM({src}),{level}),1,0))"
     if enc.kind == "trend":
         return f"IF(ISNUMBER({src}),INT({src})-{origin},{miss})"
     if enc.kind == "month":
@@ -360,7 +361,7 @@ def write(
             n_lv = max(len(model.category_levels.get(s, [])), 1)
             lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
             checks.append(
-                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT({cell},{lv_rng}))=0,'
+                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(TRIM({cell}),{lv_rng}))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
             )
         for j, enc in enumerate(encs):

@@ -282,6 +282,8 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                 fill = float(np.nanmedian(v)) if np.isfinite(v).any() else 0.0
                 v = np.where(np.isfinite(v), v, fill)
             kind = "number" if c.kind == ColumnKind.NUMBER else "flag"
+            if c.blank_means is not None:  # a check-mark column: a blank new cell means no
+                fill = c.blank_means
             add(Encoding(c.name, c.name, c.letter, kind, fill=fill), v)
         elif c.kind == ColumnKind.CATEGORY:
             raw = np.asarray(c.values, dtype=object)[keep]

@@ -15,6 +15,7 @@ from __future__ import annotations
 __all__ = [
     "FLAG_TRUE",
     "FLAG_FALSE",
+    "CHECK_MARKS",
     "ERROR_VALUES",
     "column_letter",
     "column_index",
@@ -35,6 +36,9 @@ import re
 # Text a yes/no column may hold, lower case; spreadsheet booleans TRUE/FALSE and the numbers 1/0
 # count too. Common practice in survey and operations workbooks.
 FLAG_TRUE: tuple[str, ...] = ("yes", "y", "true", "1")
+# marks a person ticks a box with (common spreadsheet practice); a column of one of them beside
+# blank cells is a yes/no column whose blanks mean no
+CHECK_MARKS: tuple[str, ...] = ("x", "\u2713", "\u2714", "\u2611", "\u221a")
 FLAG_FALSE: tuple[str, ...] = ("no", "n", "false", "0")
 
 # The error values spreadsheet programs show in a cell (common practice; the same seven in every

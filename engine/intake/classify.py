@@ -38,6 +38,7 @@ from collections import Counter
 import numpy as np
 
 from engine.intake.cells import (
+    CHECK_MARKS,
     ERROR_VALUES,
     FLAG_FALSE,
     FLAG_TRUE,
@@ -105,6 +106,18 @@ def classify_column(
         return Column(name, heading, letter, ColumnKind.EMPTY, np.full(n, np.nan), missing=n)
 
     types = set(map(type, present))
+    if types == {str} and present.size < n:
+        mark = _check_mark(present)
+        if mark is not None:  # "x" or a tick beside blanks: a yes/no column
+            values = np.zeros(n)
+            values[present_idx] = 1.0
+            col = Column(name, heading, letter, ColumnKind.FLAG, values, blank_means=0.0)
+            _fill_numeric_summary(col, np.unique(values))
+            col.notes.append(
+                f"read as yes/no: '{mark}' = yes ({present.size} rows), a blank cell = no "
+                f"({n - present.size} rows)"
+            )
+            return col
     if types <= {float, int}:
         values = np.full(n, np.nan)
         values[present_idx] = present.astype(np.float64)
@@ -128,6 +141,14 @@ def classify_column(
         day_first,
         from_text_file,
     )
+
+
+def _check_mark(texts: np.ndarray) -> str | None:
+    """The one check mark every text is (ignoring case and outer spaces), or None."""
+    seen = {t.strip().lower() for t in texts.tolist()}
+    if len(seen) == 1 and next(iter(seen)) in CHECK_MARKS:
+        return str(texts[0]).strip()
+    return None
 
 
 def _plain_number_texts(texts: np.ndarray, decimal: str) -> np.ndarray | None:

@@ -49,6 +49,9 @@ class Column:
     near_duplicate_of: str | None = None  # values (almost) equal to this earlier column
     text_numbers: int = 0  # numbers that were stored as text and parsed ("1,234.5", "12%")
     levels: list[str] = field(default_factory=list)  # category levels, most frequent first
+    # a check-mark column ("x" or a tick beside blanks): its blank cells mean no (0.0), so
+    # they are values, not missing, wherever the column is read (fit, scoring)
+    blank_means: float | None = None
     notes: list[str] = field(default_factory=list)  # per-column warnings in plain words
 
     @property

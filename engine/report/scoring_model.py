@@ -37,9 +37,9 @@ def date_serial(iso: str) -> float:
 
 
 def _flag_tokens() -> tuple[tuple[str, ...], tuple[str, ...]]:
-    from engine.intake.cells import FLAG_FALSE, FLAG_TRUE
+    from engine.intake.cells import CHECK_MARKS, FLAG_FALSE, FLAG_TRUE
 
-    return tuple(FLAG_TRUE), tuple(FLAG_FALSE)
+    return tuple(FLAG_TRUE) + tuple(CHECK_MARKS), tuple(FLAG_FALSE)
 
 
 def source_kind(encodings: list[Encoding], source: str) -> str:
@@ -249,6 +249,8 @@ class ScoringModel:
                 v = np.array(
                     [1.0 if _low(x) in yes else 0.0 if _low(x) in no else np.nan for x in values]
                 )
+            elif kind == ColumnKind.EMPTY:  # nothing typed: every cell takes the fill, if any
+                v = np.full(len(values), np.nan)
             else:
                 raise self._wrong_kind(enc, col, table, "numbers")
             if enc.kind == "flag":

@@ -294,3 +294,50 @@ def test_bic_near_saturation_is_called_no_guide(tmp_path):
     )
     (note,) = [n for n in res.models[0].notes if "BIC" in n]
     assert "BIC is no guide here" in note and "for 24 rows" in note
+
+
+def test_a_check_mark_column_is_a_yes_no_candidate_in_the_fit_and_in_scoring(tmp_path):
+    # common spreadsheet practice: "x" in the rows that have the feature, blank elsewhere. The
+    # blanks mean no, in the fit and for new rows (the stored fill is 0), also when a batch of
+    # new rows is all "x" or all blank
+    import openpyxl
+
+    from engine.intake import read_table
+    from engine.report import load_scoring_model, write_results
+
+    rng = np.random.default_rng(3)
+    n = 60
+    x1 = rng.normal(size=n)
+    mark = rng.random(n) < 0.4
+    y = 5.0 + 2.0 * x1 + 3.0 * mark + rng.normal(scale=0.3, size=n)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Lots"
+    ws.append(["y", "x1", "organic"])
+    for i in range(n):
+        ws.append([float(y[i]), float(x1[i]), "x" if mark[i] else None])
+    book = tmp_path / "lots.xlsx"
+    wb.save(book)
+    organic = read_table(book).column("organic")
+    assert organic.kind.value == "flag" and organic.missing == 0 and organic.blank_means == 0.0
+    res = run_study(StudySpec(source=str(book), response="y", methods=("ols",), folds=5))
+    m = res.models[0]
+    assert m.coefficients["organic"] == pytest.approx(3.0, abs=0.3)  # the simulated effect
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    model = load_scoring_model(results)
+    for marks in (["x", None, "X", None], ["x"] * 4, [None] * 4):
+        new = openpyxl.Workbook()
+        sheet = new.active
+        sheet.append(["x1", "organic"])
+        for k, v in enumerate(marks):
+            sheet.append([0.5 * k, v])
+        path = tmp_path / "new.xlsx"
+        new.save(path)
+        got = model.predict(read_table(path))
+        want = [
+            m.intercept
+            + m.coefficients["x1"] * 0.5 * k
+            + m.coefficients["organic"] * (v is not None)
+            for k, v in enumerate(marks)
+        ]
+        np.testing.assert_allclose(got, want, rtol=1e-12)

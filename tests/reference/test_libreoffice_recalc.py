@@ -249,3 +249,44 @@ def test_pdf_export_shows_the_charts(lo):
         "Cross-validation: forward-stepwise",
     ):
         assert title in text
+
+
+def test_check_mark_column_on_the_recalculated_scoring_sheet(tmp_path):
+    # a yes/no column written as "x" and blanks: on the sheet a blank cell takes the stored fill
+    # (0, no) and "x" counts as yes, as in the engine; LibreOffice recalculates the formulas
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(4)
+    n = 40
+    x1 = rng.normal(size=n)
+    mark = rng.random(n) < 0.5
+    y = 1.0 + x1 + 2.0 * mark + rng.normal(scale=0.2, size=n)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y", "x1", "checked"])
+    for i in range(n):
+        ws.append([float(y[i]), float(x1[i]), "x" if mark[i] else None])
+    book = tmp_path / "marks.xlsx"
+    wb.save(book)
+    res = run_study(StudySpec(source=str(book), response="y", methods=("ols",), folds=4))
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    model = load_scoring_model(results)
+    new = [(0.3, "x"), (0.3, None), (-1.0, " X "), (2.0, None)]
+    wb = openpyxl.load_workbook(results)
+    ws = wb["TM Scoring"]
+    head, cols = _layout(ws)
+    for i, (a, b) in enumerate(new):
+        ws.cell(head + 6 + i, cols["x1"]).value = a
+        ws.cell(head + 6 + i, cols["checked"]).value = b
+    pasted = tmp_path / "pasted.xlsx"
+    wb.save(pasted)
+    (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
+    got = _predictions(out, 6, len(new))
+    m = res.models[0]
+    want = [
+        m.intercept + m.coefficients["x1"] * a + m.coefficients["checked"] * (b is not None)
+        for a, b in new
+    ]
+    np.testing.assert_allclose(got, want, rtol=1e-9)
+    assert model.encodings[[e.name for e in model.encodings].index("checked")].fill == 0.0

@@ -128,3 +128,25 @@ def test_fast_and_careful_number_reading_agree():
 def test_csv_style_columns_with_a_code_stay_text():
     col = _col(["0123", "4567", "0042", "9999"], from_text_file=True)
     assert col.kind == ColumnKind.IDENTIFIER and col.values[0] == "0123"
+
+
+@pytest.mark.parametrize("mark", ["x", "X", " x ", "\u2713", "\u2714"])
+def test_a_check_mark_beside_blanks_is_a_yes_no_column(mark):
+    # common spreadsheet practice: a box ticked with "x" or a tick, left blank otherwise
+    col = _col([mark, "", "", mark, ""])
+    assert col.kind == ColumnKind.FLAG and col.blank_means == 0.0 and col.missing == 0
+    assert col.values.tolist() == [1.0, 0.0, 0.0, 1.0, 0.0]
+    assert any("a blank cell = no (3 rows)" in n for n in col.notes)
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        ["x", "x", "x"],  # no blank: nothing says what "no" looks like
+        ["x", "", "ok"],  # another text beside the mark
+        ["x", "", "y"],  # two different marks
+    ],
+)
+def test_what_is_not_a_check_mark_column(cells):
+    col = _col(cells)
+    assert col.blank_means is None

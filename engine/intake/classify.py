@@ -202,25 +202,46 @@ def _value_record(v: object) -> _Record:
     return (_NOFORMULA, _NAN, _NAN, "", None)
 
 
+def _fits_range(texts: list[str], mark: str, lo: float, hi: float) -> int:
+    """How many of ``texts`` read with ``mark`` land within [lo, hi]."""
+    got = (parse_number_text(t, mark) for t in texts)
+    return sum(1 for v in got if v is not None and lo <= v <= hi)
+
+
 def _text_records(
-    unique: list[str], decimal: str, day_first: bool
+    unique: list[str], decimal: str, day_first: bool, stored: np.ndarray | None = None
 ) -> tuple[dict[str, _Record], str | None, str | None]:
     """Records of distinct texts, a note when the day/month order of dates was a guess, and
-    one saying which decimal mark was used when some texts read either way."""
+    one saying which decimal mark was used when some texts read either way. ``stored``: the
+    column's cells that are numbers; when the texts' votes tie, the mark that puts more of
+    them within those numbers' range decides ("9,548" among 7,979 to 23,724 is 9548)."""
     if not unique:
         return {}, None, None
-    point, comma = decimal_mark_votes(unique[:_CONVENTION_SAMPLE])
+    sample = unique[:_CONVENTION_SAMPLE]
+    point, comma = decimal_mark_votes(sample)
     conv = decimal if point == comma else ("." if point > comma else ",")
+    by_range = False
+    if point and point == comma and stored is not None and stored.size >= 5:
+        lo, hi = float(np.min(stored)), float(np.max(stored))
+        in_point, in_comma = _fits_range(sample, ".", lo, hi), _fits_range(sample, ",", lo, hi)
+        if in_point != in_comma:
+            conv, by_range = ("." if in_point > in_comma else ","), True
     # texts whose value depends on the mark ("1,234": 1234 or 1.234), said in the notes
     mark_note = None
     if point and comma:
         mark, other = ("comma", "point") if conv == "," else ("point", "comma")
-        mark_note = (
-            f"read with a decimal {mark} (the sheet's usual one); each of them could also "
-            f"be read with a decimal {other}"
-            if point == comma
-            else f"read with a decimal {mark}, as most of them are written"
-        )
+        if by_range:
+            mark_note = (
+                f"read with a decimal {mark}, which puts them among the column's numbers "
+                "stored as numbers"
+            )
+        elif point == comma:
+            mark_note = (
+                f"read with a decimal {mark} (the sheet's usual one); each of them could "
+                f"also be read with a decimal {other}"
+            )
+        else:
+            mark_note = f"read with a decimal {mark}, as most of them are written"
     date_like = [u for u in unique if looks_like_date(u)]
     parsed_dates: dict[str, dt.datetime | None] = {}
     date_note = None
@@ -292,7 +313,8 @@ def _classify_mixed(
 
     # Texts are classified once per distinct text (labels repeat a lot).
     unique = list(dict.fromkeys(v for v in present if type(v) is str))
-    info, date_note, mark_note = _text_records(unique, decimal, day_first)
+    stored = np.array([float(v) for v in present if type(v) in (float, int)], dtype=float)
+    info, date_note, mark_note = _text_records(unique, decimal, day_first, stored)
     any_code = any(_is_code(u) for u in unique)
     records = [info[v] if type(v) is str else _value_record(v) for v in present]
     code_list, number_list, flag_list, shown, date_list = zip(*records)

@@ -211,6 +211,7 @@ def _build_table(
                 Place(file=str(path), sheet=sheet, row=h + 1),
             )
         keep_rows = np.flatnonzero(row_has)
+        keep_rows = _without_stray_cells(block, empty, keep_rows, h, fmt, warnings)
         blank_skipped = int(keep_rows[-1] + 1 - keep_rows.size)
         totals = _totals_rows(block, empty, keep_rows)
         if totals:
@@ -230,6 +231,8 @@ def _build_table(
         row_numbers = (keep_rows + h + 2).astype(np.int64)
         col_has: np.ndarray = ~np.asarray(empty.all(axis=0))
         keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
+        if fmt != "csv":
+            _side_by_side_warning(keep_cols, sheet, warnings)
 
     if facts_source in ("xlsx", "xlsm"):
         if facts is None:  # no full scan was needed: look for hidden rows and columns only
@@ -438,6 +441,43 @@ def _with_group_labels(
         f"(e.g. '{changed}')"
     )
     return out
+
+
+# a last row this far below the one before it, holding a single cell, is a stray cell
+_STRAY_GAP_ROWS = 5
+
+
+def _without_stray_cells(
+    block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray, h: int, fmt: str,
+    warnings: list[str],
+) -> np.ndarray:  # fmt: skip
+    """``keep_rows`` less trailing rows that hold one cell far below the table (a value
+    typed out of the way, or left over): read as data it would add a row of blanks."""
+    while keep_rows.size > 3 and keep_rows[-1] - keep_rows[-2] > _STRAY_GAP_ROWS:
+        i = int(keep_rows[-1])
+        filled = np.flatnonzero(~empty[i])
+        if filled.size != 1:
+            break
+        j, row = int(filled[0]), i + h + 2
+        cell = f"column {j + 1}" if fmt == "csv" else f"cell {column_letter(j)}{row}"
+        warnings.append(
+            f"row {row} left out: its only value ({cell}) lies {int(keep_rows[-1] - keep_rows[-2]) - 1} "
+            "blank rows below the table"
+        )
+        keep_rows = keep_rows[:-1]
+    return keep_rows
+
+
+def _side_by_side_warning(keep_cols: list[int], sheet: str, warnings: list[str]) -> None:
+    """A wholly empty column between columns in use: perhaps two tables side by side."""
+    gaps = [b for a, b in zip(keep_cols, keep_cols[1:]) if b - a > 1]
+    if gaps:
+        first = column_letter(keep_cols[keep_cols.index(gaps[0]) - 1] + 1)
+        warnings.append(
+            f"sheet '{sheet}' has an empty column ({first}) between columns in use; they are "
+            "read as one table. If they are two tables side by side, choose the columns of "
+            "one (the others as ignored) or move the other table to its own sheet"
+        )
 
 
 def _used_length(row: list) -> int:

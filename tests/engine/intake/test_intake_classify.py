@@ -150,3 +150,15 @@ def test_a_check_mark_beside_blanks_is_a_yes_no_column(mark):
 def test_what_is_not_a_check_mark_column(cells):
     col = _col(cells)
     assert col.blank_means is None
+
+
+def test_texts_that_read_either_way_follow_the_numbers_stored_beside_them():
+    # "9,548" could be 9548 or 9.548; among numbers from 7,979 to 23,724 stored as numbers it
+    # is 9548 (common practice: a person reads it by the column's other values)
+    stored = [7979.0, 12000.0, 23724.0, 15000.0, 9000.0, 11000.0]
+    col = _col(stored + ["9,548", "10,200"], decimal=",")
+    assert col.values[-2:].tolist() == [9548.0, 10200.0]
+    assert any("among the column's numbers stored as numbers" in n for n in col.notes)
+    small = [1.2, 3.4, 2.2, 9.9, 5.5, 4.1]
+    col = _col(small + ["9,548", "1,200"], decimal=".")
+    assert col.values[-2:].tolist() == [9.548, 1.2]

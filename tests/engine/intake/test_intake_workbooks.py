@@ -509,3 +509,37 @@ def test_two_heading_rows_give_combined_names(tmp_path):
     assert any(
         "headings of row 2 are completed with the labels of row 1" in w for w in table.warnings
     )
+
+
+def test_a_stray_cell_far_below_the_table_is_left_out(tmp_path):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Data"
+    ws.append(["a", "b", "y"])
+    for i in range(8):
+        ws.append([float(i), float(i % 3), 2.0 * i])
+    ws["E60"] = 7  # typed out of the way, long after the data
+    path = tmp_path / "stray.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert table.n_rows == 8 and [c.name for c in table.columns] == ["a", "b", "y"]
+    assert any(
+        "row 60 left out: its only value (cell E60) lies 50 blank rows below" in w
+        for w in table.warnings
+    )
+
+
+def test_two_tables_side_by_side_are_pointed_out(tmp_path):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Two"
+    ws.append(["x1", "y", None, "month", "budget"])
+    for i in range(6):
+        ws.append([float(i), 2.0 * i, None, f"M{i}", float(i % 4)])
+    path = tmp_path / "two.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert [c.name for c in table.columns] == ["x1", "y", "month", "budget"]
+    assert any(
+        "sheet 'Two' has an empty column (C) between columns in use" in w for w in table.warnings
+    )

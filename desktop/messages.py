@@ -57,12 +57,16 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
     from engine.context import Context, write_error_log
 
     log = write_error_log(Context(), "".join(traceback.format_exception(exc)))
+    details = (
+        f"the details are in {log}; please pass that file on with the workbook if you can"
+        if log
+        else "its details could not be written to a log file"
+    )
     return UserMessage(
         "fault",
         f"Something unexpected went wrong during {doing}; nothing was written.",
-        f"{type(exc).__name__}: {exc}. This is a fault in Tamis, not in your data: the details "
-        f"are in {log}; please pass that file on with the workbook if you can. Your files are "
-        "as they were; trying again or restarting Tamis may help.",
+        f"{type(exc).__name__}: {exc}. This is a fault in Tamis, not in your data: {details}. "
+        "Your files are as they were; trying again or restarting Tamis may help.",
     )
 
 

@@ -256,5 +256,6 @@ def _silence_stdout() -> None:
 
 
 def _write_log(ctx: Context, text: str) -> str:
-    where = write_error_log(ctx, text)
-    return where if not where.startswith("(") else where[:-1] + "; run again with --traceback)"
+    return write_error_log(ctx, text) or (
+        "(the log file could not be written; run again with --traceback)"
+    )

@@ -42,8 +42,9 @@ class Context:
         return self.config_dir / "tamis-error.log"
 
 
-def write_error_log(ctx: Context, text: str) -> str:
-    """Append an unexpected failure's traceback to the log file; where it is, in words."""
+def write_error_log(ctx: Context, text: str) -> str | None:
+    """Append an unexpected failure's traceback to the log file; its path, or None when it
+    could not be written."""
     import datetime as _dt
 
     from engine import __version__
@@ -56,7 +57,7 @@ def write_error_log(ctx: Context, text: str) -> str:
             )
         return str(ctx.log_file)
     except OSError:
-        return "(the log file could not be written)"
+        return None
 
 
 def default_context() -> Context:

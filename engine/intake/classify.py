@@ -209,19 +209,22 @@ def _fits_range(texts: list[str], mark: str, lo: float, hi: float) -> int:
 
 
 def _text_records(
-    unique: list[str], decimal: str, day_first: bool, stored: np.ndarray | None = None
+    unique: list[str], decimal: str, day_first: bool, present: list | None = None
 ) -> tuple[dict[str, _Record], str | None, str | None]:
     """Records of distinct texts, a note when the day/month order of dates was a guess, and
-    one saying which decimal mark was used when some texts read either way. ``stored``: the
-    column's cells that are numbers; when the texts' votes tie, the mark that puts more of
-    them within those numbers' range decides ("9,548" among 7,979 to 23,724 is 9548)."""
+    one saying which decimal mark was used when some texts read either way. ``present``: the
+    column's cells; when the texts' votes tie, the mark that puts more of them within the
+    range of the cells stored as numbers decides ("9,548" among 7,979 to 23,724 is 9548)."""
     if not unique:
         return {}, None, None
     sample = unique[:_CONVENTION_SAMPLE]
     point, comma = decimal_mark_votes(sample)
     conv = decimal if point == comma else ("." if point > comma else ",")
     by_range = False
-    if point and point == comma and stored is not None and stored.size >= 5:
+    stored = np.zeros(0)
+    if point and point == comma and present is not None:  # only then: a pass over the cells
+        stored = np.array([float(v) for v in present if type(v) in (float, int)])
+    if stored.size >= 5:
         lo, hi = float(np.min(stored)), float(np.max(stored))
         in_point, in_comma = _fits_range(sample, ".", lo, hi), _fits_range(sample, ",", lo, hi)
         if in_point != in_comma:
@@ -313,8 +316,7 @@ def _classify_mixed(
 
     # Texts are classified once per distinct text (labels repeat a lot).
     unique = list(dict.fromkeys(v for v in present if type(v) is str))
-    stored = np.array([float(v) for v in present if type(v) in (float, int)], dtype=float)
-    info, date_note, mark_note = _text_records(unique, decimal, day_first, stored)
+    info, date_note, mark_note = _text_records(unique, decimal, day_first, present)
     any_code = any(_is_code(u) for u in unique)
     records = [info[v] if type(v) is str else _value_record(v) for v in present]
     code_list, number_list, flag_list, shown, date_list = zip(*records)

@@ -34,6 +34,12 @@ from engine.progress import Progress, silent
 NAMED_CELLS = 5  # how many cells a warning names before it gives only a count
 
 
+def _listed(items: list) -> str:
+    """The first NAMED_CELLS items, then how many more: "5, 9, 12 and 4 more"."""
+    head = ", ".join(map(str, items[:NAMED_CELLS]))
+    return head + (f" and {len(items) - NAMED_CELLS} more" if len(items) > NAMED_CELLS else "")
+
+
 def list_sheets(path: str | Path) -> list[SheetInfo]:
     """The sheets of a workbook in order, hidden ones flagged; a CSV file has one sheet."""
     path = Path(path)
@@ -498,10 +504,9 @@ def _ragged_warning(lengths: list[int], h: int, warnings: list[str]) -> None:
         (shorter, "fewer", "the missing ones at the end read as empty"),
     ):
         if rows:
-            more = f" and {len(rows) - NAMED_CELLS} more" if len(rows) > NAMED_CELLS else ""
             warnings.append(
-                f"row{'s' if len(rows) > 1 else ''} {', '.join(map(str, rows[:NAMED_CELLS]))}"
-                f"{more} {'have' if len(rows) > 1 else 'has'} {fewer_more} fields than the "
+                f"row{'s' if len(rows) > 1 else ''} {_listed(rows)} "
+                f"{'have' if len(rows) > 1 else 'has'} {fewer_more} fields than the "
                 f"{width} of the heading row; {then}"
             )
 
@@ -515,16 +520,10 @@ def _hidden_warning(
     if rows or cols:  # hidden is not deleted: say that they count, the user may not know
         parts = []
         if rows:
-            more = f" and {len(rows) - NAMED_CELLS} more" if len(rows) > NAMED_CELLS else ""
-            parts.append(
-                f"{len(rows)} hidden row{'s' if len(rows) > 1 else ''} "
-                f"({', '.join(map(str, rows[:NAMED_CELLS]))}{more})"
-            )
+            parts.append(f"{len(rows)} hidden row{'s' if len(rows) > 1 else ''} ({_listed(rows)})")
         if cols:
-            more = f" and {len(cols) - NAMED_CELLS} more" if len(cols) > NAMED_CELLS else ""
             parts.append(
-                f"{len(cols)} hidden column{'s' if len(cols) > 1 else ''} "
-                f"({', '.join(cols[:NAMED_CELLS])}{more})"
+                f"{len(cols)} hidden column{'s' if len(cols) > 1 else ''} ({_listed(cols)})"
             )
         warnings.append(
             f"sheet '{sheet}' has {' and '.join(parts)}; they are read like the others (leave "
@@ -556,11 +555,10 @@ def _apply_facts(
                 empty[i, c0] = False
         filled.append(f"{column_letter(c0)}{r0 + 1}:{column_letter(c1)}{r1 + 1}")
     if filled:
-        more = f" and {len(filled) - NAMED_CELLS} more" if len(filled) > NAMED_CELLS else ""
         warnings.append(
             f"{len(filled)} merged range{'s' if len(filled) > 1 else ''} down a column in sheet "
-            f"'{sheet}' ({', '.join(filled[:NAMED_CELLS])}{more}) read with the first cell's "
-            "value in every row of the range"
+            f"'{sheet}' ({_listed(filled)}) read with the first cell's value in every row of "
+            "the range"
         )
     for (r, c), code in facts.errors.items():
         i = r - h - 1
@@ -574,13 +572,10 @@ def _apply_facts(
             empty[i, c] = False
     if facts.uncached:
         cells = sorted(facts.uncached)
-        named = ", ".join(
-            f"{sheet}!{cell_name(column_letter(c), r + 1)}" for r, c in cells[:NAMED_CELLS]
-        )
-        more = f" and {len(cells) - NAMED_CELLS} more" if len(cells) > NAMED_CELLS else ""
+        named = _listed([f"{sheet}!{cell_name(column_letter(c), r + 1)}" for r, c in cells])
         warnings.append(
             f"{len(cells)} formula cell{'s' if len(cells) > 1 else ''} in sheet '{sheet}' "
-            f"{'have' if len(cells) > 1 else 'has'} no stored result ({named}{more}); the file was "
+            f"{'have' if len(cells) > 1 else 'has'} no stored result ({named}); the file was "
             "saved by a program that does not calculate formulas, so these cells read as missing. "
             "Open the file in a spreadsheet program and save it to store the results"
         )

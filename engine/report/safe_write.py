@@ -101,17 +101,17 @@ def check_writable(path: str | Path) -> None:
 
 
 def tamis_sheets(path: str | Path) -> list[str]:
-    """Names of the sheets Tamis writes ("TM ...") in the workbook at ``path`` ([] when it
-    has none or is not a readable workbook): tells a file of ours from one of the user's."""
-    import re
-    import zipfile
+    """Our sheets (names with the result prefix) in the workbook at ``path``; [] when it has
+    none or is not a readable workbook: tells a file of ours from one of the user's."""
+    from engine.report.names import PREFIX
+    from engine.report.package_merge import read_sheet_list
+    from engine.report.zip_parts import ZipSource
 
     try:
-        with zipfile.ZipFile(path) as z:
-            text = z.read("xl/workbook.xml").decode("utf-8", "replace")
-    except (OSError, KeyError, zipfile.BadZipFile):
+        with ZipSource(path) as src:
+            return [s.name for s in read_sheet_list(src) if s.name.startswith(PREFIX)]
+    except Exception:  # noqa: BLE001 - anything unreadable is not a workbook of ours
         return []
-    return re.findall(r'<(?:\w+:)?sheet\b[^>]*\bname="(TM [^"]*)"', text)
 
 
 def refuse_to_replace_users_file(path: str | Path, option: str = "--out") -> None:

@@ -310,6 +310,21 @@ def test_macro_enabled_name_and_content_decide_the_format(tmp_path):
     assert read_table(renamed).file_format == "xlsx"
 
 
+def _saved_sheet(tmp_path, title, rows, name="book.xlsx", edit=None):
+    """A one-sheet workbook of ``rows`` (None: an empty cell), ``edit(ws)`` applied before
+    saving (merged ranges, hidden rows); returns its path."""
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = title
+    for row in rows:
+        ws.append(row)
+    if edit is not None:
+        edit(ws)
+    path = tmp_path / name
+    wb.save(path)
+    return path
+
+
 def _book_with_foot(tmp_path, foot_rows, name="foot.xlsx"):
     """Ten data rows (region, units, price) under headings, then the given foot rows."""
     wb = openpyxl.Workbook()
@@ -399,14 +414,8 @@ def test_the_decimal_mark_of_numbers_written_as_text_is_decided_for_the_sheet(tm
     # common practice in decimal-comma locales: a lab sheet of values exported as text. "0,325"
     # can only be a decimal comma; "1,250" reads either way and follows the sheet's other
     # numbers ("6,02": decimal comma), so it is 1.25, not 1250
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Analysen"
-    ws.append(["pH", "Nitrat", "Leitwert"])
-    for i in range(12):
-        ws.append([f"6,{10 + i:02d}", f"0,{300 + 7 * i}", f"1,{250 + i * 11}"])
-    path = tmp_path / "lab.xlsx"
-    wb.save(path)
+    rows = [[f"6,{10 + i:02d}", f"0,{300 + 7 * i}", f"1,{250 + i * 11}"] for i in range(12)]
+    path = _saved_sheet(tmp_path, "Analysen", [["pH", "Nitrat", "Leitwert"], *rows])
     table = read_table(path)
     nitrat = table.column("Nitrat")
     assert nitrat.values[0] == pytest.approx(0.3) and nitrat.maximum == pytest.approx(0.377)
@@ -420,16 +429,15 @@ def test_the_decimal_mark_of_numbers_written_as_text_is_decided_for_the_sheet(tm
 def test_a_label_merged_down_a_column_counts_for_every_row_of_its_range(tmp_path):
     # common spreadsheet practice: a site typed once and merged over its rows (ECMA-376 Part 1,
     # 18.3.1.55 mergeCell: only the top-left cell of a merged range holds a value)
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Trial"
-    ws.append(["site", "dose", "response"])
-    for i in range(9):
-        ws.append([["North", "South", "East"][i // 3] if i % 3 == 0 else None, i, 2.0 * i])
-    for top in (2, 5, 8):
-        ws.merge_cells(f"A{top}:A{top + 2}")
-    path = tmp_path / "merged.xlsx"
-    wb.save(path)
+    rows = [
+        [["North", "South", "East"][i // 3] if i % 3 == 0 else None, i, 2.0 * i] for i in range(9)
+    ]
+
+    def merge(ws):
+        for top in (2, 5, 8):
+            ws.merge_cells(f"A{top}:A{top + 2}")
+
+    path = _saved_sheet(tmp_path, "Trial", [["site", "dose", "response"], *rows], edit=merge)
     table = read_table(path)
     site = table.column("site")
     assert site.kind.value == "category" and site.missing == 0
@@ -443,16 +451,15 @@ def test_a_label_merged_down_a_column_counts_for_every_row_of_its_range(tmp_path
 @pytest.mark.parametrize("with_blank", [False, True])  # both reading routes (all numbers or not)
 def test_hidden_rows_and_columns_are_read_and_named(tmp_path, with_blank):
     # ECMA-376 Part 1, 18.3.1.73 row@hidden and 18.3.1.13 col@hidden: hidden, not deleted
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Hidden"
-    ws.append(["x1", "old_x", "y"])
-    for i in range(8):
-        ws.append([float(i), float(i * i), None if with_blank and i == 3 else 2.0 * i + 0.5])
-    ws.row_dimensions[5].hidden = True
-    ws.column_dimensions["B"].hidden = True
-    path = tmp_path / "hidden.xlsx"
-    wb.save(path)
+    rows = [
+        [float(i), float(i * i), None if with_blank and i == 3 else 2.0 * i + 0.5] for i in range(8)
+    ]
+
+    def hide(ws):
+        ws.row_dimensions[5].hidden = True
+        ws.column_dimensions["B"].hidden = True
+
+    path = _saved_sheet(tmp_path, "Hidden", [["x1", "old_x", "y"], *rows], edit=hide)
     table = read_table(path)
     assert table.n_rows == 8 and [c.name for c in table.columns] == ["x1", "old_x", "y"]
     assert any(
@@ -488,19 +495,17 @@ def test_a_footer_line_of_a_text_export_is_left_out(tmp_path):
 def test_two_heading_rows_give_combined_names(tmp_path):
     # common practice in lab sheets: a measure's name merged over its statistics, and the
     # single columns' names merged down over both heading rows
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Runs"
-    ws.append(["run", "Temperature", None, "Pressure", None, "purity"])
-    ws.append([None, "mean", "sd", "mean", "sd", None])
-    for i in range(6):
-        ws.append([f"R{i}", 20.0 + i, 1.0 + i / 10, 3.0 - i / 10, 0.2, 95.0 + i / 3])
-    ws.merge_cells("B1:C1")
-    ws.merge_cells("D1:E1")
-    ws.merge_cells("A1:A2")
-    ws.merge_cells("F1:F2")
-    path = tmp_path / "runs.xlsx"
-    wb.save(path)
+    heads = [
+        ["run", "Temperature", None, "Pressure", None, "purity"],
+        [None, "mean", "sd", "mean", "sd", None],
+    ]
+    rows = [[f"R{i}", 20.0 + i, 1.0 + i / 10, 3.0 - i / 10, 0.2, 95.0 + i / 3] for i in range(6)]
+
+    def merge(ws):
+        for cells in ("B1:C1", "D1:E1", "A1:A2", "F1:F2"):
+            ws.merge_cells(cells)
+
+    path = _saved_sheet(tmp_path, "Runs", [*heads, *rows], edit=merge)
     table = read_table(path)
     assert table.header_row == 2
     assert [c.name for c in table.columns] == [
@@ -512,15 +517,12 @@ def test_two_heading_rows_give_combined_names(tmp_path):
 
 
 def test_a_stray_cell_far_below_the_table_is_left_out(tmp_path):
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Data"
-    ws.append(["a", "b", "y"])
-    for i in range(8):
-        ws.append([float(i), float(i % 3), 2.0 * i])
-    ws["E60"] = 7  # typed out of the way, long after the data
-    path = tmp_path / "stray.xlsx"
-    wb.save(path)
+    rows = [[float(i), float(i % 3), 2.0 * i] for i in range(8)]
+
+    def stray(ws):
+        ws["E60"] = 7  # typed out of the way, long after the data
+
+    path = _saved_sheet(tmp_path, "Data", [["a", "b", "y"], *rows], edit=stray)
     table = read_table(path)
     assert table.n_rows == 8 and [c.name for c in table.columns] == ["a", "b", "y"]
     assert any(
@@ -530,14 +532,8 @@ def test_a_stray_cell_far_below_the_table_is_left_out(tmp_path):
 
 
 def test_two_tables_side_by_side_are_pointed_out(tmp_path):
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Two"
-    ws.append(["x1", "y", None, "month", "budget"])
-    for i in range(6):
-        ws.append([float(i), 2.0 * i, None, f"M{i}", float(i % 4)])
-    path = tmp_path / "two.xlsx"
-    wb.save(path)
+    rows = [[float(i), 2.0 * i, None, f"M{i}", float(i % 4)] for i in range(6)]
+    path = _saved_sheet(tmp_path, "Two", [["x1", "y", None, "month", "budget"], *rows])
     table = read_table(path)
     assert [c.name for c in table.columns] == ["x1", "y", "month", "budget"]
     assert any(

@@ -26,6 +26,7 @@ from types import SimpleNamespace
 import numpy as np
 import openpyxl
 import pytest
+from openpyxl.utils import get_column_letter
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine" / "report"))
 
@@ -133,6 +134,12 @@ def lo(tmp_path_factory):
             if isinstance(v, dt.date):
                 v = dt.datetime(v.year, v.month, v.day)
             ws.cell(head + 1 + n_examples + i, cols[s]).value = v
+    # and a number typed as text, on the sheet only (the check must name it)
+    for s in model.sources:
+        v = "about 12" if s == num_source else edge_rows[1][s]
+        if isinstance(v, dt.date):
+            v = dt.datetime(v.year, v.month, v.day)
+        ws.cell(head + 1 + n_examples + len(edge_rows), cols[s]).value = v
     wb.save(edge)
     edge_book = tmp / "edge-rows.xlsx"
     write_rows(edge_book, edge_rows)
@@ -222,6 +229,10 @@ def test_unseen_levels_get_no_prediction_and_far_numbers_a_range_check(lo):
     # spaces around a known level count for nothing, on the sheet as in the engine's intake
     assert ws.cell(r0 + 2, pc).value == pytest.approx(engine[2], rel=1e-9)
     assert not ws.cell(r0 + 2, cols["Check"]).value
+    # text where a number belongs is named, not silently taken as a missing cell
+    num_letter = get_column_letter(cols[lo.num_source])
+    assert f"not a number in {num_letter}" in ws.cell(r0 + 3, cols["Check"]).value
+    assert "not a number" not in (ws.cell(r0 + 1, cols["Check"]).value or "")
     # the engine (and so `tamis score`) agrees: no prediction for the unseen level, a
     # prediction with an extrapolation caution for the far number
     assert np.isnan(engine[0])

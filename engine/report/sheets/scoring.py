@@ -298,6 +298,13 @@ def write(
         else ""
     )
     n_rows = len(examples) + n_blank
+    # a number or date column's cell holding text counts as missing in the formulas (the fill,
+    # or no prediction): the check column says so rather than leaving it silent
+    typed_sources = [
+        (s_i, kind)
+        for s_i, s in enumerate(sources)
+        if (kind := source_kind(encs, s)) in ("number", "date")
+    ]
     for t in range(n_rows):
         r = first + t
         ex = examples[t] if t < len(examples) else None
@@ -363,6 +370,11 @@ def write(
             checks.append(
                 f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(TRIM({cell}),{lv_rng}))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
+            )
+        for s_i, kind in typed_sources:  # text typed where a number or date belongs
+            cell = cell_ref(r, s_i, False, True)
+            checks.append(
+                f'IF(OR(ISBLANK({cell}),ISNUMBER({cell})),"","not a {kind} in {col_name(s_i)}; ")'
             )
         for j, enc in enumerate(encs):
             lows, highs = model.lows, model.highs

@@ -99,7 +99,11 @@ class TaskRunner(QObject):
         # direct: the QThread object lives on the GUI thread, so a queued quit would wait for the
         # GUI event loop, which is blocked while the window waits for this thread at closing time
         worker.done.connect(thread.quit, Qt.ConnectionType.DirectConnection)
-        thread.finished.connect(worker.deleteLater)
+        # no worker.deleteLater here: it would destroy the worker in its own thread as that
+        # thread ends, and the binding's destructor waits for the interpreter lock while holding
+        # a Qt lock the GUI thread may be waiting for with the interpreter lock held (a deadlock
+        # seen once in some dozens of runs); the worker goes on the GUI thread, in
+        # _on_thread_finished, once its thread has ended
         thread.finished.connect(self._on_thread_finished)
         self._thread, self._worker = thread, worker
         self.started.emit(label)
@@ -138,7 +142,7 @@ class TaskRunner(QObject):
             return
         thread.wait()
         self._thread = None
-        self._worker = None
+        self._worker = None  # the last reference: the worker object is destroyed here
         self._token = None
         label, self.label = self.label, ""
         thread.deleteLater()

@@ -72,8 +72,8 @@ from sklearn.linear_model._cd_fast import (
     enet_coordinate_descent,
     enet_coordinate_descent_gram,
 )
-from threadpoolctl import ThreadpoolController
 
+from engine.blas_threads import one_blas_thread
 from engine.fitting import gram_kernel
 from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
@@ -117,17 +117,6 @@ def normalize_penalty_factors(penalty_factors: np.ndarray | None, p: int) -> np.
     if total <= 0:
         raise ValueError("at least one column must be penalized (all penalty factors are 0)")
     return v * (p / total)
-
-
-_CONTROLLER: ThreadpoolController | None = None
-
-
-def one_blas_thread():
-    """Context limiting BLAS to one thread (the library scan is done once and cached)."""
-    global _CONTROLLER
-    if _CONTROLLER is None:
-        _CONTROLLER = ThreadpoolController()
-    return _CONTROLLER.limit(limits=1, user_api="blas")
 
 
 # --------------------------------------------------------------------------------------------

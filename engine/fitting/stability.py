@@ -26,8 +26,8 @@ from dataclasses import dataclass
 
 import numpy as np
 from joblib import Parallel, delayed
-from threadpoolctl import threadpool_limits
 
+from engine.blas_threads import one_blas_thread
 from engine.errors import InputProblem
 from engine.fitting.coordinate import elastic_net_path, penalty_grid, penalty_max
 from engine.progress import Progress, silent
@@ -124,7 +124,7 @@ def stability_selection(
     done = 0
     progress.step(0.0, "stability selection")
     batch = max(1, 2 * workers)  # short batches so a cancel is seen between them
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         with Parallel(n_jobs=workers, backend="threading") as pool:
             for start in range(0, runs, batch):
                 progress.step(done / runs, f"stability selection: run {done + 1} of {runs}")

@@ -15,8 +15,8 @@ from __future__ import annotations
 __all__ = ["NEAR_DUPLICATE_CORRELATION", "mark_near_duplicates", "pairwise_correlation"]
 
 import numpy as np
-from threadpoolctl import threadpool_limits
 
+from engine.blas_threads import one_blas_thread
 from engine.intake.table import Column, ColumnKind
 
 NEAR_DUPLICATE_CORRELATION = 0.9999
@@ -104,7 +104,7 @@ def mark_near_duplicates(columns: list[Column]) -> None:
     p = x.shape[1]
     # These tall, thin products are fastest on one thread; several BLAS threads on a busy
     # machine were measured 30-100x slower.
-    with threadpool_limits(limits=1, user_api="blas"):
+    with one_blas_thread():
         centred = _Centred(x)
         for j0 in range(0, p, _BLOCK_COLUMNS):
             block = np.arange(j0, min(p, j0 + _BLOCK_COLUMNS))

@@ -44,8 +44,8 @@ from typing import Any, TypeVar
 import numpy as np
 from joblib import Parallel, delayed, parallel_config
 
+from engine.blas_threads import one_blas_thread
 from engine.errors import Cancelled
-from engine.fitting.coordinate import one_blas_thread
 from engine.progress import Progress
 
 T = TypeVar("T")

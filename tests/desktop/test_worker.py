@@ -38,3 +38,28 @@ def test_a_finished_task_reports_success_on_the_gui_thread(qtbot):
         runner.start("sum", lambda p: 1 + 1)
     assert sig.args == ["sum", 2]
     qtbot.waitUntil(lambda: not runner.busy, timeout=3000)
+
+
+def test_the_worker_object_is_destroyed_on_the_gui_thread(qtbot):
+    """Destroying the worker in its own thread as that thread ends waits for the interpreter
+    lock while holding a Qt lock; the GUI thread, holding the interpreter lock, can be waiting
+    for that Qt lock (seen: a hang in QLabel.setText after a cancel). So it must die on the GUI
+    thread."""
+    import threading
+
+    from PySide6.QtCore import Qt
+
+    release = threading.Event()
+    runner = TaskRunner()
+    runner.start("wait", lambda p: release.wait(5))
+    worker = runner._worker
+    assert worker is not None
+    where: list[str] = []
+    worker.destroyed.connect(
+        lambda *_: where.append(threading.current_thread().name), Qt.ConnectionType.DirectConnection
+    )
+    del worker
+    release.set()
+    qtbot.waitUntil(lambda: not runner.busy, timeout=5000)
+    qtbot.waitUntil(lambda: bool(where), timeout=3000)
+    assert where == [threading.main_thread().name]

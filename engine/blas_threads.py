@@ -1,0 +1,26 @@
+"""One BLAS thread for a stretch of work, without scanning the loaded libraries each time.
+
+``threadpoolctl.threadpool_limits`` looks for the BLAS libraries anew at every use (a walk over
+every loaded shared library, opening each match); the controller made here does it once per
+process and is reused.
+"""
+
+from __future__ import annotations
+
+__all__ = ["one_blas_thread"]
+
+import threading
+
+from threadpoolctl import ThreadpoolController
+
+_controller: ThreadpoolController | None = None
+_made = threading.Lock()
+
+
+def one_blas_thread():
+    """Context limiting BLAS to one thread (the library scan is done once and cached)."""
+    global _controller
+    with _made:
+        if _controller is None:
+            _controller = ThreadpoolController()
+    return _controller.limit(limits=1, user_api="blas")

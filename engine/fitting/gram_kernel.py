@@ -14,7 +14,8 @@ l2 = n*lambda*(1-mix)*v_j:
    elastic net, whose shift n*lambda*(1-mix) moves with every penalty, by conjugate gradients
    preconditioned with the factor of an earlier shift s0 (eigenvalues between s/s0 and 1),
    refactored (at the shift of two penalties further on) when a solve needed more than a
-   few steps. Their first residual needs Z'Z_A x0 for the start x0: it follows from the
+   few steps; a solve stops early once a coefficient has certainly changed sign (that try is
+   repeated without the column anyway). Their first residual needs Z'Z_A x0 for the start x0: it follows from the
    gradients of the last two penalties (the start is extrapolated from them) or from the
    last try's product, corrected on the few columns where the start differs.
 2. Otherwise cyclic coordinate descent with covariance updates on the strong set
@@ -479,8 +480,9 @@ def _product_of_start(Q, pos, k, x, prod_of, prod_ok, full):
 
 @njit(cache=_CACHE)
 def _conjugate_gradients(
-    Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enough_abs, work, full, have_product
-):
+    Q, R, order, k, rhs, shift_v, delta_v, x, tol_abs, enough_abs, work, full, have_product,
+    sgn_v,
+):  # fmt: skip
     """Solve (Z_A'Z_A + diag(shift_v)) x = rhs from x, preconditioned by the factor R'R = M.
 
     The operator is M + diag(delta_v) (delta_v: the current shift minus the factor's), so
@@ -491,6 +493,13 @@ def _conjugate_gradients(
     (rounding level). Returns (solved, iterations, fresh): fresh when ``full`` holds
     Z'Z_A x for the x returned (the last true residual was taken there), i.e. the gradient
     of every column is q - full without another product.
+
+    sgn_v: the signs of the factored set. The solve stops early (solved False, iterations
+    negative) once a coefficient has certainly taken the other sign: the exact step will drop
+    it and solve again, so the remaining digits of this one would be wasted. Certain: beyond
+    zero by ten times the error left, estimated as the largest change of the last step times
+    rho / (1 - rho), rho the contraction of the residual in that step (taken only when the
+    step at least halved it).
     """
     res = work[0]
     z = work[1]
@@ -529,14 +538,25 @@ def _conjugate_gradients(
             if not dad > 0.0:
                 break
             alpha = rz / dad
+            before = worst
             worst = 0.0
+            step = 0.0
             fresh = False
             for i in range(k):
                 x[i] += alpha * d[i]
                 res[i] -= alpha * ad[i]
                 worst = max(worst, abs(res[i]))
+                step = max(step, abs(alpha * d[i]))
             if worst <= tol_abs:
                 break
+            if worst < 0.5 * before:
+                # the error left is about the last step times rho / (1 - rho), rho the
+                # residual's contraction in that step; a sign change ten times beyond it
+                rho = worst / before
+                beyond = 10.0 * step * rho / (1.0 - rho)
+                for i in range(k):
+                    if x[i] * sgn_v[i] < -beyond:
+                        return False, -it, False
             if worst < 0.5 * best:
                 best = worst
                 stalled = 0
@@ -616,11 +636,18 @@ def _candidate(Q, q, R, order, pos, st, fs, sgn, lam, n, mix, v, start, x, accep
         prod_of = scratch.prod_of
         prod_ok = scratch.prod_ok
         known = _product_of_start(Q, pos, k, x, prod_of, prod_ok, scratch.full)
+        sgn_v = scratch.cand  # free here: the signs in factor order
+        for i in range(k):
+            sgn_v[i] = sgn[order[i]]
         ok, it, fresh = _conjugate_gradients(
             Q, R, order, k, rhs, shift_v, delta_v, x, _CG_TOL_SHARE * accept_abs,
-            0.1 * accept_abs, scratch.work, scratch.full, known,
+            0.1 * accept_abs, scratch.work, scratch.full, known, sgn_v,
         )  # fmt: skip
         prod_ok[0] = 1 if fresh else 0
+        if it < 0:  # stopped at a certain sign change: x holds it, the caller drops the column
+            st[1] = -it
+            st[2] -= it
+            return _SOLVED
         if fresh:  # full = Z'Z x: the next start's product follows from it
             for j in range(prod_of.shape[0]):
                 prod_of[j] = x[pos[j]] if pos[j] >= 0 else 0.0

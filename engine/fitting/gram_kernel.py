@@ -331,37 +331,53 @@ def _factor_delete(R, order, pos, st, m, carry):
     k = st[0]
     st[0] = k - 1
     pos[order[m]] = -1
-    for i in range(k):
-        start = m if i <= m else i - 1
+    for i in range(m):  # the rows above lose the column from m on
         row = R[i]
-        for c in range(start, k - 1):
+        for c in range(m, k - 1):
             row[c] = row[c + 1]
     for c in range(m, k - 1):
         order[c] = order[c + 1]
         pos[order[c]] = c
+    if m == k - 1:
+        return
+    top = R[m]
+    for c in range(m, k - 1):
+        top[c] = top[c + 1]
+    # rows m+1.. lose the column as they are read by the rotation that mixes them with the
+    # row above (one pass over them instead of a shift and then a rotation), through a copy
+    # so that the two rows of the rotation are distinct arrays (the loop then vectorizes)
+    shifted = np.empty(k)
     for jj in range(m, k - 1):
-        a = R[jj, jj]
-        b = R[jj + 1, jj]
+        top = R[jj]
+        bottom = R[jj + 1]
+        a = top[jj]
+        b = bottom[jj + 1]
         r = np.hypot(a, b)
         if r == 0.0:  # cannot happen for a positive definite block; keep the shape anyway
-            R[jj + 1, jj] = 0.0
+            for col in range(jj, k - 1):
+                bottom[col] = bottom[col + 1]
+            bottom[jj] = 0.0
             continue
         c = a / r
         s = b / r
-        R[jj, jj] = r
-        R[jj + 1, jj] = 0.0
+        top[jj] = r
+        bottom[jj] = 0.0
         for t in range(carry.shape[0]):
             x = carry[t, jj]
             y = carry[t, jj + 1]
             carry[t, jj] = c * x + s * y
             carry[t, jj + 1] = c * y - s * x
-        top = R[jj]
-        bottom = R[jj + 1]
-        for col in range(jj + 1, k - 1):
-            x = top[col]
-            y = bottom[col]
-            top[col] = c * x + s * y
-            bottom[col] = c * y - s * x
+        n_rest = k - 2 - jj
+        src = bottom[jj + 2 : k]
+        for i in range(n_rest):
+            shifted[i] = src[i]
+        upper = top[jj + 1 : k - 1]
+        lower = bottom[jj + 1 : k - 1]
+        for i in range(n_rest):
+            x = upper[i]
+            y = shifted[i]
+            upper[i] = c * x + s * y
+            lower[i] = c * y - s * x
 
 
 @njit(cache=_CACHE)

@@ -453,16 +453,27 @@ def _sync_factor(Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch):
 
 @njit(cache=_CACHE)
 def _shifted_matvec(Q, order, k, shift_v, x, out, full):
-    """out = (Z_A'Z_A + diag(shift_v)) x on the factored set (full: p-length scratch)."""
+    """out = (Z_A'Z_A + diag(shift_v)) x on the factored set, full = Z'Z_A x (out and full:
+    p-length)."""
     p = full.shape[0]
-    for i in range(p):
-        full[i] = 0.0
-    for i in range(k):
-        xi = x[i]
-        if xi != 0.0:
-            row = Q[order[i]]
-            for c in range(p):
-                full[c] += xi * row[c]
+    if 5 * k > 3 * p:
+        # with most columns factored, a dot of every row with x spread over all columns
+        # (Q is symmetric) beats adding up the k rows: measured 28 against 45 us at 490 of 500
+        for i in range(p):
+            out[i] = 0.0
+        for i in range(k):
+            out[order[i]] = x[i]
+        for j in range(p):
+            full[j] = _dot(Q[j], out, p)
+    else:
+        for i in range(p):
+            full[i] = 0.0
+        for i in range(k):
+            xi = x[i]
+            if xi != 0.0:
+                row = Q[order[i]]
+                for c in range(p):
+                    full[c] += xi * row[c]
     for i in range(k):
         out[i] = full[order[i]] + shift_v[i] * x[i]
 

@@ -322,6 +322,45 @@ def _refactor(Q, R, order, st, fs, v, shift):
 
 
 @njit(cache=_CACHE)
+def _refactor_set(Q, R, order, pos, st, fs, v, members, shift):
+    """Make the factored set equal ``members`` by factoring it afresh at ``shift``.
+
+    For a penalty whose elastic-net factor is due to be made afresh anyway: bordering the
+    entering columns and rotating out the leaving ones first would be thrown away. The kept
+    columns stay in their order, the entering ones follow; False (factor emptied) if the
+    factorization fails or an entering column is dependent (the test of the bordering).
+    """
+    p = members.shape[0]
+    k = 0
+    for i in range(st[0]):
+        j = order[i]
+        if members[j]:
+            order[k] = j
+            pos[j] = k
+            k += 1
+        else:
+            pos[j] = -1
+    kept = k
+    for j in range(p):
+        if members[j] and pos[j] < 0:
+            order[k] = j
+            pos[j] = k
+            k += 1
+    st[0] = k
+    ok = _refactor(Q, R, order, st, fs, v, shift)
+    for i in range(kept, k):
+        j = order[i]
+        if not ok or not R[i, i] * R[i, i] > _DEPENDENT_SHARE * (Q[j, j] + shift * v[j]):
+            ok = False
+            break
+    if not ok:
+        for i in range(k):
+            pos[order[i]] = -1
+        st[0] = 0
+    return ok
+
+
+@njit(cache=_CACHE)
 def _factor_delete(R, order, pos, st, m, carry):
     """Remove position m from the factor (Givens rotations restore the triangle).
 
@@ -928,9 +967,17 @@ def gram_path_chunk(
                         _set_sign(sgn, pos, j, _sign(guess), fwd_ok)
                         any_active = True
             g_before[j] = g[j]
-        synced = any_active and _sync_factor(
-            Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch
-        )
+        if any_active and mix < 1.0 and st[1] > _REFACTOR_AFTER and fs[1] > lam > 0.0:
+            # the factor is due to be made afresh (see _candidate): at once for the new set
+            st[1] = 0
+            st[3] += 1
+            fwd_ok[0] = 0
+            ahead = shift * (lam / fs[1]) ** _REFACTOR_AHEAD
+            synced = _refactor_set(Q, R, order, pos, st, fs, v, members, ahead)
+        else:
+            synced = any_active and _sync_factor(
+                Q, q, R, order, pos, st, fs, v, sgn, members, shift, scratch
+            )
         if any_active and not synced:  # a guessed column is dependent: the plain set
             for j in range(p):
                 members[j] = beta[j] != 0.0

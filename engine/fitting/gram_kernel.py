@@ -370,22 +370,26 @@ def _factor_delete(R, order, pos, st, m, carry):
     k = st[0]
     st[0] = k - 1
     pos[order[m]] = -1
-    for i in range(m):  # the rows above lose the column from m on
+    # every shift goes through a copy: a row moved onto itself one entry over is copied one
+    # entry at a time, through another array the loop vectorizes (2-3x faster here)
+    shifted = np.empty(k)
+    n_moved = k - 1 - m
+    for i in range(m + 1):  # the rows above and row m lose the column from m on
         row = R[i]
-        for c in range(m, k - 1):
-            row[c] = row[c + 1]
+        src = row[m + 1 : k]
+        for c in range(n_moved):
+            shifted[c] = src[c]
+        dst = row[m : k - 1]
+        for c in range(n_moved):
+            dst[c] = shifted[c]
     for c in range(m, k - 1):
         order[c] = order[c + 1]
         pos[order[c]] = c
     if m == k - 1:
         return
-    top = R[m]
-    for c in range(m, k - 1):
-        top[c] = top[c + 1]
     # rows m+1.. lose the column as they are read by the rotation that mixes them with the
-    # row above (one pass over them instead of a shift and then a rotation), through a copy
-    # so that the two rows of the rotation are distinct arrays (the loop then vectorizes)
-    shifted = np.empty(k)
+    # row above (one pass over them instead of a shift and then a rotation), through the
+    # copy so that the two rows of the rotation are distinct arrays
     for jj in range(m, k - 1):
         top = R[jj]
         bottom = R[jj + 1]

@@ -204,6 +204,41 @@ def test_factor_updates_match_a_fresh_cholesky_factorization():
     assert min(appended.values()) > 5 and carried > 250
 
 
+def test_refactoring_a_new_set_matches_a_fresh_cholesky_factorization():
+    # Source: numpy.linalg.cholesky of the new set's shifted submatrix. _refactor_set keeps the
+    # factored columns that stay (in their order), adds the entering ones after them and
+    # factors at the new shift; a dependent entering column empties the factor and says so
+    rng = np.random.default_rng(7)
+    p = 25
+    A = rng.normal(size=(60, p))
+    A[:, 24] = A[:, 3] - 2.0 * A[:, 5]  # dependent on columns 3 and 5
+    Q = np.ascontiguousarray(A.T @ A)
+    v = rng.uniform(0.5, 2.0, p)
+    R = np.zeros((p, p))
+    order = np.zeros(p, dtype=np.int64)
+    pos = np.full(p, -1, dtype=np.int64)
+    st = np.zeros(6, dtype=np.int64)
+    fs = np.array([0.0, 0.0])
+    members = np.zeros(p, dtype=np.bool_)
+    members[[9, 3, 5, 17, 1]] = True
+    assert gram_kernel._refactor_set(Q, R, order, pos, st, fs, v, members, 0.5)
+    members[[3, 17]] = False
+    members[[20, 2]] = True
+    assert gram_kernel._refactor_set(Q, R, order, pos, st, fs, v, members, 0.25)
+    k = int(st[0])
+    S = order[:k]
+    assert list(S) == [1, 5, 9, 2, 20] and fs[0] == 0.25
+    assert np.all(pos[S] == np.arange(k)) and np.count_nonzero(pos >= 0) == k
+    target = Q[np.ix_(S, S)] + np.diag(0.25 * v[S])
+    Rk = np.triu(R[:k, :k])
+    np.testing.assert_allclose(Rk.T @ Rk, target, rtol=1e-10, atol=1e-9 * Q.max())
+    # at shift 0 the set {3, 5, 24} is singular: refused, nothing left factored
+    members[:] = False
+    members[[3, 5, 24]] = True
+    assert not gram_kernel._refactor_set(Q, R, order, pos, st, fs, v, members, 0.0)
+    assert st[0] == 0 and np.all(pos < 0)
+
+
 def test_the_start_product_follows_from_a_known_one():
     # Source: numpy's matrix product Z'Z x of the same vectors. Conjugate gradients start from
     # a product carried from an earlier vector u (full = Z'Z u), corrected on the columns

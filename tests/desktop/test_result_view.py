@@ -180,3 +180,19 @@ def test_validation_close_up_shows_the_lowest_error_and_its_band(view):
     assert hi <= float(np.max(c.mean_error + c.se))
     view.close_up_box.setChecked(False)  # the whole curve again
     assert not chart.close_up
+
+
+def test_stability_bars_only_for_columns_ever_chosen(qtbot):
+    from desktop.charts.share_chart import ShareChart
+    from engine.study_result import StabilityResult
+
+    chart = ShareChart()
+    qtbot.addWidget(chart)
+    shares = {"a": 0.9, "b": 0.0, "c": 0.3, "d": 0.0}
+    chart.set_stability(StabilityResult(runs=60, shares=shares, threshold=0.6, stable=["a"]))
+    assert chart.shown == ["a", "c"]
+    assert chart.item.titleLabel.text.endswith("the 2 columns ever chosen (2 never)")
+    nothing = {k: 0.0 for k in shares}
+    chart.set_stability(StabilityResult(runs=60, shares=nothing, threshold=0.6, stable=[]))
+    assert chart.shown == []
+    assert "No column was chosen" in chart.item.titleLabel.text

@@ -105,5 +105,8 @@ def main(argv: list[str] | None = None) -> int:
 
 if __name__ == "__main__":
     code = main()
+    from desktop.engine_calls import stop_background_work
+
+    stop_background_work()  # os._exit below would leave the worker processes behind
     sys.stdout.flush()
     os._exit(code)  # skip interpreter tear-down (see desktop.app.run_and_exit)

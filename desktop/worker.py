@@ -101,8 +101,8 @@ class TaskRunner(QObject):
         worker.done.connect(thread.quit, Qt.ConnectionType.DirectConnection)
         # no worker.deleteLater here: it would destroy the worker in its own thread as that
         # thread ends, and the binding's destructor waits for the interpreter lock while holding
-        # a Qt lock the GUI thread may be waiting for with the interpreter lock held (a deadlock
-        # seen once in some dozens of runs); the worker goes on the GUI thread, in
+        # a Qt lock the GUI thread may be waiting for with the interpreter lock held (a rare
+        # deadlock, seen in CI); the worker goes on the GUI thread, in
         # _on_thread_finished, once its thread has ended
         thread.finished.connect(self._on_thread_finished)
         self._thread, self._worker = thread, worker

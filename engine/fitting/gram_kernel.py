@@ -15,9 +15,10 @@ l2 = n*lambda*(1-mix)*v_j:
    preconditioned with the factor of an earlier shift s0 (eigenvalues between s/s0 and 1),
    refactored (at the shift of two penalties further on) when a solve needed more than a
    few steps; a solve stops early once a coefficient has certainly changed sign (that try is
-   repeated without the column anyway). Their first residual needs Z'Z_A x0 for the start x0: it follows from the
-   gradients of the last two penalties (the start is extrapolated from them) or from the
-   last try's product, corrected on the few columns where the start differs.
+   repeated without the column anyway). Their first residual needs Z'Z_A x0 for the start
+   x0: it follows from the gradients of the last two penalties (the start is extrapolated
+   from them) or from the last try's product, corrected on the few columns where the start
+   differs.
 2. Otherwise cyclic coordinate descent with covariance updates on the strong set
    (Tibshirani et al. 2012), grown by the columns violating their condition outside it, then
    the exact step on the set descent found ("polish") if it improves the conditions.
@@ -277,7 +278,7 @@ def _factor_append(Q, R, order, pos, st, fs, v, cols, m, block):
             corner[a, b] = value
     for a in range(m):  # right-looking Cholesky of the corner (upper)
         d = corner[a, a]
-        if not d > _DEPENDENT_SHARE * (Q[cols[a], cols[a]] + fs[0] * v[cols[a]]):
+        if not _independent(d, Q, v, cols[a], fs[0]):
             return False
         d = np.sqrt(d)
         corner[a, a] = d
@@ -321,6 +322,13 @@ def _refactor(Q, R, order, st, fs, v, shift):
     return ints[2] == 0
 
 
+@njit(cache=_CACHE, inline="always")
+def _independent(remaining, Q, v, j, shift):
+    """Whether column j's variance left after the factored columns (``remaining``, a squared
+    pivot) is a large enough share of its own to factor it (see _DEPENDENT_SHARE)."""
+    return remaining > _DEPENDENT_SHARE * (Q[j, j] + shift * v[j])
+
+
 @njit(cache=_CACHE)
 def _refactor_set(Q, R, order, pos, st, fs, v, members, shift):
     """Make the factored set equal ``members`` by factoring it afresh at ``shift``.
@@ -350,7 +358,7 @@ def _refactor_set(Q, R, order, pos, st, fs, v, members, shift):
     ok = _refactor(Q, R, order, st, fs, v, shift)
     for i in range(kept, k):
         j = order[i]
-        if not ok or not R[i, i] * R[i, i] > _DEPENDENT_SHARE * (Q[j, j] + shift * v[j]):
+        if not ok or not _independent(R[i, i] * R[i, i], Q, v, j, shift):
             ok = False
             break
     if not ok:

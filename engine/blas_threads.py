@@ -22,5 +22,12 @@ def one_blas_thread():
     global _controller
     with _made:
         if _controller is None:
+            # the scan sees only libraries already loaded: numpy and scipy each bring their
+            # own OpenBLAS, and scipy's (coordinate descent, the compiled path loop) may not
+            # be loaded yet when the first caller (say, reading a sheet) gets here; a
+            # controller made then left it free to start threads inside every part thread
+            import numpy  # noqa: F401
+            import scipy.linalg  # noqa: F401
+
             _controller = ThreadpoolController()
     return _controller.limit(limits=1, user_api="blas")

@@ -81,3 +81,20 @@ def test_own_process_reuses_freed_blocks_without_fresh_pages():
     # 20 fresh 2 MB arrays touch 20 * 512 pages when each comes from the system (glibc's
     # moving threshold saves some of them: about 500 here); from the kept heap, almost none
     assert int(tuned) < 100 < int(untuned), (untuned, tuned)
+
+
+def test_one_blas_thread_limits_scipys_blas_even_when_made_before_scipy_loads():
+    # numpy and scipy each load their own OpenBLAS; reading a sheet takes the first
+    # one_blas_thread() before anything has loaded scipy's. threadpoolctl's own fresh scan
+    # (threadpool_info, its documented API) then says what a part thread would get
+    code = """
+        import sys
+        import engine.blas_threads as bt
+        assert "scipy" not in sys.modules, "the check needs scipy unloaded at this point"
+        with bt.one_blas_thread():
+            from threadpoolctl import threadpool_info
+            import scipy.linalg
+            blas = [i for i in threadpool_info() if i["user_api"] == "blas"]
+            print(len(blas), sorted({i["num_threads"] for i in blas}))
+    """
+    assert _run(code) == "2 [1]"

@@ -58,9 +58,10 @@ __all__ = [
 
 import os
 import warnings
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
+from functools import partial
 
 import numpy as np
 from scipy.linalg.blas import dtrsv as _dtrsv
@@ -226,6 +227,7 @@ class _ResidualProblem:
         if self.rows is None:
             xr = self.X.T @ r
         elif r.ndim == 1:
+            assert self._r_full is not None  # made with the rows
             self._r_full[self.rows] = r
             xr = self.X.T @ self._r_full
         else:
@@ -239,7 +241,7 @@ class _ResidualProblem:
     def columns(self, W: np.ndarray) -> np.ndarray:
         """Standardized working columns as a column-major array (what the solver reads)."""
         key = W.tobytes()
-        if key == self._cache_key:
+        if key == self._cache_key and self._cache_cols is not None:
             return self._cache_cols
         Zw = np.asfortranarray(self._zcols(W))
         self._cache_key, self._cache_cols = key, Zw
@@ -396,6 +398,7 @@ def cross_products(
         xy += xb.T @ yb
         sy += float(yb.sum())
         yy += float(yb @ yb)
+    assert G is not None  # the loop runs at least once (one empty block when n = 0)
     return CrossProducts(n, G, s, xy, sy, yy)
 
 
@@ -484,12 +487,13 @@ class SharedCrossProducts:
         m0, ybar0 = self.m0, self.ybar0
         threads = min(_SUM_THREADS, max(1, n // _MIN_ROWS_PER_THREAD))
         by_part = bool(tests) and len(tests) * p <= n and _partition(tests, n)
+        pieces: list[Callable[[], CrossProducts]]
         if by_part:
-            pieces = [lambda te=te: cross_products(X, y, m0, ybar0, te) for te in tests]
+            pieces = [partial(cross_products, X, y, m0, ybar0, te) for te in tests]
         else:  # the rows in as many contiguous ranges as threads
             cuts = np.linspace(0, n, threads + 1).astype(int)
             pieces = [
-                lambda a=a, b=b: cross_products(X[a:b], y[a:b], m0, ybar0)
+                partial(cross_products, X[a:b], y[a:b], m0, ybar0)
                 for a, b in zip(cuts[:-1], cuts[1:])
             ]
         if threads == 1:  # one piece at a time, the library free to thread each product
@@ -574,6 +578,7 @@ class _Partialled:
         self.pen = np.flatnonzero(~free)
         U = np.flatnonzero(free)
         self.U = U
+        self.inner: _GramProblem | _DenseProblem
         if isinstance(prob, _GramProblem):
             Quu = prob.Q[np.ix_(U, U)]
             self.M = np.linalg.pinv(Quu)
@@ -607,7 +612,7 @@ class _Partialled:
 
 @dataclass
 class _PathOut:
-    std_coefs: np.ndarray
+    std_coefs: np.ndarray | None  # None when the solutions went to a sink
     n_iter: np.ndarray
     kkt: np.ndarray  # (L,) scale-free violation at each penalty
     notes: list[str] = field(default_factory=list)
@@ -697,6 +702,7 @@ class _GrowingCholesky:
     def _block(self, A: np.ndarray) -> np.ndarray:
         C = self.prob.gram_block(A)
         if self.shift != 0.0:
+            assert self.diag_weights is not None  # only the shifted factor gets a shift
             C[np.diag_indices_from(C)] += self.shift * self.diag_weights[A]
         return C
 
@@ -790,6 +796,7 @@ class _GrowingCholesky:
                 H, _ = _dpotrs(LT, E, lower=0)
                 self._ghost = (H, np.linalg.inv(H[gi]))
                 self._ghost_key = key
+            assert self._ghost is not None
             H, Hdd_inv = self._ghost
             x = x - H @ (Hdd_inv @ x[gi])
         return x[idx]
@@ -911,6 +918,7 @@ class _ActiveSetSolver:
                 return None
             return self._chol.solve(A, rhs)
         shift = n * lam * (1.0 - mix)
+        assert self._shifted is not None  # made when mix < 1
         if not self._shifted.fit(A, shift):
             return None
         return self._shifted.solve(A, rhs)
@@ -999,6 +1007,7 @@ def solve_path(
         )
         if sink is not None:
             return sub
+        assert sub.std_coefs is not None
         full = np.vstack([part.full_beta(b, p) for b in sub.std_coefs])
         return _PathOut(full, sub.n_iter, sub.kkt, sub.notes)
 
@@ -1028,7 +1037,11 @@ def solve_path(
     direct = _ActiveSetSolver(prob, mix, v) if mix > 0 else None
     gram_route = isinstance(prob, _GramProblem)
     use_homotopy = use_homotopy and _USE_HOMOTOPY
-    homotopy = _LassoHomotopy(prob, v, direct._chol) if mix == 1.0 and use_homotopy else None
+    homotopy = (
+        _LassoHomotopy(prob, v, direct._chol)
+        if direct is not None and mix == 1.0 and use_homotopy
+        else None
+    )
 
     def descend(beta, strong, lam, tol_now):
         """Coordinate descent on the strong set, grown by the columns that violate their
@@ -1144,9 +1157,10 @@ def solve_path(
                 beta, g, it, _ = descend(beta, beta != 0, lam, tol * _RETRY_TOL_FACTOR)
                 total_it += it
         ever |= beta != 0
-        if sink is None:
+        if out is not None:
             out[k] = beta
         else:
+            assert sink is not None
             sink(k, beta)
         iters[k] = total_it
         kkt[k] = float(np.max(_violation(g, beta, lam, mix, v, n), initial=0.0)) / scale_den
@@ -1311,6 +1325,7 @@ def _path_from(
     if progress is not None:
         progress.step(1.0, "path done")
     scale = sc.inv_sd  # 0 for constant columns
+    assert res.std_coefs is not None  # no sink: the path is kept
     intercepts = sc.y_mean - res.std_coefs @ (scale * sc.means)
     path = PenaltyPath(
         penalties=penalties,

@@ -84,6 +84,7 @@ class CurveChart(QWidget):
             x = float(self._x[idx])
             self.marks[rule] = x
             width = 2.5 if rule == chosen_rule else 1.5
+            outward = self.label_side(rule)
             mark = pg.InfiniteLine(
                 pos=x,
                 angle=90,
@@ -93,9 +94,17 @@ class CurveChart(QWidget):
                     "position": 0.6 if rule == "min" else 0.45,
                     "color": colour,
                     "fill": pg.mkBrush(255, 255, 255, 210),
-                    "anchors": [(0.5, 0), (0.5, 0)],
+                    # text beside the line, not across it: left edge at the line (0) or
+                    # right edge (1), a little off it
+                    "anchors": [(-0.03, 0), (-0.03, 0)]
+                    if outward == "right"
+                    else [(1.03, 0), (1.03, 0)],
                 },
             )
+            # above the curve, so its label box is not crossed by it; a label turned towards
+            # the other mark's line goes above that line too
+            toward_other = (rule == "min") == (outward == "left")
+            mark.setZValue(7 if toward_other else 6)
             self.item.addItem(mark, ignoreBounds=True)
             dot = self.item.plot(
                 [x],
@@ -109,6 +118,26 @@ class CurveChart(QWidget):
             )
             dot.setZValue(10)
         self._apply_range()
+
+    def label_side(self, rule: str) -> str:
+        """Which side of its line a mark's label goes ("left" or "right" on screen).
+
+        The simplest choice within one standard error sits left of (or on) the lowest error in
+        both kinds of curve (penalties fall to the right, subset sizes grow to the right), so
+        its label goes left and the other's right, unless that would run off the plot: within
+        the outer 30% of the width the label turns inwards.
+        """
+        c = self.curve
+        if c is None or self._x.size == 0:
+            return "right"
+        lo, hi = float(np.min(self._x)), float(np.max(self._x))
+        x = self.marks.get(rule, lo)
+        at = 0.5 if hi <= lo else (x - lo) / (hi - lo)
+        if c.grid_kind == "penalty":  # the penalty axis is drawn reversed
+            at = 1.0 - at
+        if rule == "min":
+            return "left" if at > 0.7 else "right"
+        return "right" if at < 0.3 else "left"
 
     def set_close_up(self, on: bool) -> None:
         """Show the neighbourhood of the lowest error (on) or the whole curve (off)."""

@@ -196,3 +196,28 @@ def test_stability_bars_only_for_columns_ever_chosen(qtbot):
     chart.set_stability(StabilityResult(runs=60, shares=nothing, threshold=0.6, stable=[]))
     assert chart.shown == []
     assert "No column was chosen" in chart.item.titleLabel.text
+
+
+def test_choice_labels_sit_beside_their_lines_and_turn_inwards_at_the_edges(qtbot):
+    # a label centred on its line was crossed by the other choice's line when the two were
+    # close; each now goes to its own side (simplest left, lowest right on screen) unless
+    # its line is in the outer 30% of the plot
+    from desktop.charts.curve_chart import CurveChart
+    from engine.tuning.curve import ValidationCurve
+
+    chart = CurveChart()
+    qtbot.addWidget(chart)
+
+    def curve(kind, i_min, i_se):
+        grid = np.logspace(1, -2, 50) if kind == "penalty" else np.arange(1.0, 51.0)
+        err = np.ones(50)
+        z = np.zeros(50)
+        return ValidationCurve(grid, kind, err, z, z, np.ones((2, 50)), i_min, i_se)
+
+    for kind in ("penalty", "size"):  # penalties fall to the right, sizes grow to the right
+        chart.set_curve(curve(kind, 25, 20), "min")
+        assert (chart.label_side("one-se"), chart.label_side("min")) == ("left", "right")
+        chart.set_curve(curve(kind, 45, 40), "min")  # lowest error near the right edge
+        assert chart.label_side("min") == "left"
+        chart.set_curve(curve(kind, 8, 3), "one-se")  # simplest near the left edge
+        assert chart.label_side("one-se") == "right"

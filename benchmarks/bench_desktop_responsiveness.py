@@ -79,7 +79,7 @@ def main() -> int:
     worst = int(np.argmax(gaps))
     during = [s for t, s in steps if t <= ticks[worst]][-1:] or ["(start)"]
     print(
-        f"run: {time.perf_counter() - t0:.1f} s, {len(ticks)} timer ticks, outcome: {w.last_message.headline}"
+        f"run: {time.perf_counter() - t0:.1f} s, {len(ticks)} timer ticks, outcome: {w.last_message.headline if w.last_message else '(none)'}"
     )
     print(
         f"largest gap: {gaps.max() * 1000:.0f} ms (ratio to 100 ms budget: {gaps.max() / 0.1:.2f}) during '{during[0]}'"

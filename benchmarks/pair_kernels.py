@@ -119,7 +119,7 @@ def main(argv=None) -> None:
                 for label, prob, lam, v in problems(shape, mix, args.seed):
                     for kernel in (old, new):  # load or compile, outside the timing
                         timed_path(kernel, prob, lam, mix, v)
-                    times = {id(old): [], id(new): []}
+                    times: dict[int, list[float]] = {id(old): [], id(new): []}
                     last = {}
                     for r in range(args.reps):  # alternate which goes first
                         for kernel in (old, new) if r % 2 == 0 else (new, old):

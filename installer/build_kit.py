@@ -84,10 +84,10 @@ class Target:
             arch = "arm64" if self.platform.endswith("arm64") else "x86_64"
             major, _, minor = self.macos.partition(".")
             return [f"macosx_{major}_{minor or 0}_{arch}"]
-        major, minor = (int(x) for x in self.glibc.split(".")[:2])
-        if major != 2 or minor < 17:
+        g_major, g_minor = (int(x) for x in self.glibc.split(".")[:2])
+        if g_major != 2 or g_minor < 17:
             raise SystemExit(f"--glibc must be 2.17 or newer (got {self.glibc})")
-        tags = [f"manylinux_2_{m}_x86_64" for m in range(minor, 16, -1)]
+        tags = [f"manylinux_2_{m}_x86_64" for m in range(g_minor, 16, -1)]
         return tags + [
             "manylinux2014_x86_64",
             "manylinux_2_12_x86_64",
@@ -351,7 +351,7 @@ def missing_for_target(target: Target, wheels_dir: Path) -> list[str]:
     try:
         from packaging.requirements import Requirement
     except ImportError:  # pip always carries a copy
-        from pip._vendor.packaging.requirements import Requirement
+        from pip._vendor.packaging.requirements import Requirement  # type: ignore[assignment]
 
     env = target.marker_environment()
     have = {_canonical(_wheel_name_version(w)[0]) for w in wheels_dir.glob("*.whl")}

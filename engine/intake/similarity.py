@@ -61,13 +61,15 @@ class _Centred:
         if gaps.size:
             mask = self.present[:, b[gaps]].astype(np.float64)
             za = self.z[:, a]
-            s[:, gaps] = za.T @ mask
-            ss[:, gaps] = (za * za).T @ mask
+            with np.errstate(over="ignore", invalid="ignore"):  # huge values: see correlation
+                s[:, gaps] = za.T @ mask
+                ss[:, gaps] = (za * za).T @ mask
         return s, ss
 
     def correlation(self, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Pairwise-complete correlation (and common rows) of columns a[i] with columns b[j]."""
-        sxy = self.z[:, a].T @ self.z[:, b]
+        with np.errstate(over="ignore", invalid="ignore"):  # huge values: NaN pairs below
+            sxy = self.z[:, a].T @ self.z[:, b]
         if (self.counts[a] < self.rows).any() or (self.counts[b] < self.rows).any():
             n = self.present[:, a].T.astype(np.float64) @ self.present[:, b].astype(np.float64)
         else:

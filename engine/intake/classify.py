@@ -435,13 +435,22 @@ def _classify_mixed(
         keep = ~np.isin(codes, (_MISSING, _ERROR, _NOFORMULA))
         labels = np.full(n, None, dtype=object)
         kept = [_seen(shown[k]) for k in np.flatnonzero(keep).tolist()]
-        labels[present_idx[keep]] = kept
         tally = Counter(kept)
+        spelling, merged = _case_variants(tally)
+        if spelling:  # one level typed in several letter cases: read as its usual spelling
+            kept = [spelling.get(label, label) for label in kept]
+            tally = Counter(kept)
+            notes.append(merged)
+        labels[present_idx[keep]] = kept
         distinct = len(tally)
         if distinct <= CATEGORY_MAX_SHARE * usable and distinct <= CATEGORY_MAX_LEVELS:
             kind = ColumnKind.CATEGORY
         else:
             kind = ColumnKind.IDENTIFIER
+            if spelling:  # identifiers keep every spelling: "ab12" and "AB12" may differ
+                labels[present_idx[keep]] = [_seen(shown[k]) for k in np.flatnonzero(keep)]
+                notes.remove(merged)
+                distinct = len(set(labels[present_idx[keep]]))
         col = Column(name, heading, letter, kind, labels)
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA])
         col.distinct = distinct
@@ -461,6 +470,36 @@ def _classify_mixed(
 
 
 _SINGULAR = {"numbers": "a number", "dates": "a date", "yes/no values": "a yes/no value"}
+
+
+def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:
+    """Labels that differ only in letter case ("East", "east", "EAST"): each variant mapped to
+    the most frequent spelling of its group (the first in sort order on a tie), and a note
+    saying which were joined; ({}, "") when there are none."""
+    groups: dict[str, list[str]] = {}
+    for label in tally:
+        groups.setdefault(label.casefold(), []).append(label)
+    spelling: dict[str, str] = {}
+    joined = []
+    for variants in groups.values():
+        if len(variants) < 2:
+            continue
+        variants.sort(key=lambda v: (-tally[v], v))
+        usual = variants[0]
+        for v in variants[1:]:
+            spelling[v] = usual
+        joined.append(
+            " and ".join(f"'{v}' ({_cells(tally[v])})" for v in variants[1:])
+            + f" as '{usual}' ({_cells(tally[usual])})"
+        )
+    if not spelling:
+        return {}, ""
+    shown = "; ".join(joined[:5]) + (f"; and {len(joined) - 5} more" if len(joined) > 5 else "")
+    return spelling, f"levels that differ only in letter case are read as one: {shown}"
+
+
+def _cells(count: int) -> str:
+    return f"{count} cell{'s' if count != 1 else ''}"
 
 
 def _seen(value: object) -> str:

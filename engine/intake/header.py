@@ -14,12 +14,17 @@ preferring a row that fills at least 80% of the widest row. When no row qualifie
 that are numbers, such as years) the first row that fills 80% of the widest row is used, and
 failing that the first row that holds anything. The caller can always
 override with an explicit header row.
+
+A row right under the headings may complete them ("list" and "net" under two "Price"
+headings, units such as "kg" or "FTE"): ``sub_heading_row`` recognizes it, so that it is
+joined to the names instead of being read as a row of data with text in number columns.
 """
 
 from __future__ import annotations
 
-__all__ = ["detect_header_row", "SCAN_ROWS"]
+__all__ = ["detect_header_row", "sub_heading_row", "join_sub_heading", "SCAN_ROWS"]
 
+import datetime as dt
 import math
 
 from engine.intake.cells import ERROR_VALUES, parse_number_text
@@ -62,7 +67,7 @@ def detect_header_row(rows: list[list]) -> int | None:
         if f < need:
             continue
         if w < f and last is not None:  # data: some cells are numbers or dates
-            return _above_units(rows, sample, last)
+            return _above_partial_row(rows, _above_units(rows, sample, last))
         if w >= 0.6 * f:
             last = i
     candidates = [(i, f) for i, f, w in sample if f >= need and w >= 0.6 * f]
@@ -100,3 +105,82 @@ def _above_units(rows: list[list], sample: list[tuple[int, int, int]], i: int) -
         if j == i - 1 and w >= 0.6 * f and f >= len(cells):
             return j
     return i
+
+
+def _above_partial_row(rows: list[list], i: int) -> int:
+    """``i``, or the row right above it when that one names every column row ``i`` fills and
+    row ``i`` leaves some of them blank, completing the others ("list" and "net" under two
+    "Price" headings): the names are above, row ``i`` holds sub-headings. (Group labels over
+    the names, "Weather" over "temp" and "rain", leave blanks above, not below.)"""
+    if i == 0:
+        return i
+    upper, lower = rows[i - 1], rows[i]
+    named = [j for j, v in enumerate(upper) if _is_word(v)]
+    under = [j for j, v in enumerate(lower) if _filled(v) and v is not None]
+    if (
+        len(named) >= 2
+        and set(under) <= set(named)
+        and len(under) < len(named)
+        and sub_heading_row(rows, i - 1)
+    ):
+        return i - 1
+    return i
+
+
+# rows below the headings looked at to tell number columns from text ones
+_SUB_SCAN_ROWS = 200
+# texts that stand for a missing value, not for a name
+_MISSING_WORDS = frozenset("n/a na n.a. - -- \u2013 \u2014 ? missing none null nan tbd".split())
+
+
+def _is_value(value: object) -> bool:
+    """A number or a date, typed or written as text (or a yes/no cell)."""
+    if isinstance(value, (bool, int, float, dt.date, dt.datetime)):
+        return True
+    if not isinstance(value, str):
+        return False
+    s = value.strip()
+    numbers = parse_number_text(s, ".") is not None or parse_number_text(s, ",") is not None
+    return numbers or looks_like_date(s)
+
+
+def sub_heading_row(rows: list[list], h: int) -> bool:
+    """Whether row ``h + 1`` completes the headings of row ``h`` (sub-headings or units).
+
+    It must hold only words (no number, date, error value or stand-in for a missing value),
+    none of which appears again in its column further down (so not a category level or an
+    identifier of a data row), at least one of them over a column whose cells below are
+    numbers or dates; and data rows must follow.
+    """
+    if h + 2 >= len(rows):
+        return False
+    row = rows[h + 1]
+    below = rows[h + 2 : h + 2 + _SUB_SCAN_ROWS]
+    over_numbers = False
+    filled = 0
+    for j, value in enumerate(row):
+        if not _filled(value) or value is None:
+            continue
+        filled += 1
+        key = str(value).strip().casefold()
+        if not _is_word(value) or key in _MISSING_WORDS:
+            return False
+        column = [r[j] for r in below if j < len(r) and _filled(r[j]) and r[j] is not None]
+        if any(isinstance(x, str) and x.strip().casefold() == key for x in column):
+            return False
+        if column and sum(_is_value(x) for x in column) >= 0.8 * len(column):
+            over_numbers = True
+    return filled > 0 and over_numbers
+
+
+def join_sub_heading(heading: str, sub: str) -> str:
+    """The name of a column from its heading and the sub-heading under it: "Price list",
+    "Weight (kg)" for a unit, the sub-heading alone under a blank heading."""
+    sub = sub.strip()
+    if not sub:
+        return heading
+    if not heading:
+        return sub
+    if _is_unit(sub) and sub[:1] not in "([":
+        return f"{heading} ({sub})"
+    return f"{heading} {sub}"

@@ -24,7 +24,7 @@ from engine.intake.cells import (
 )
 from engine.intake.classify import UNCACHED, classify_column
 from engine.intake.delimited import read_delimited
-from engine.intake.header import detect_header_row
+from engine.intake.header import detect_header_row, join_sub_heading, sub_heading_row
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
 from engine.intake.table import Column, SheetInfo, Table
@@ -175,13 +175,27 @@ def _build_table(
                 Place(file=str(path), sheet=sheet, row=header_row),
             )
 
-    data_rows = rows[h + 1 :]
     headings = [format_heading(v) for v in rows[h]]
     warnings: list[str] = []
     if h > 0:
         headings = _with_group_labels(
             headings, [format_heading(v) for v in rows[h - 1]], h, warnings
         )
+    # d: the index of the row just above the data (the headings, or the sub-headings under
+    # them); data row i is sheet row i + d + 2
+    d = h
+    if sub_heading_row(rows, h):
+        d = h + 1
+        subs = [format_heading(v) for v in rows[d]]
+        joined = [join_sub_heading(x, u) for x, u in zip(headings, subs)]
+        shown = ", ".join(f"'{u}'" for u in subs if u)
+        example = next(x for x, u in zip(joined, subs) if u)
+        warnings.append(
+            f"row {d + 1} under the headings holds sub-headings or units ({shown}); they are "
+            f"added to the column names (e.g. '{example}') and the row is not read as data"
+        )
+        headings = joined
+    data_rows = rows[d + 1 :]
     if fmt == "csv":
         _ragged_warning(lengths, h, warnings)
     block: np.ndarray | None = None
@@ -196,7 +210,7 @@ def _build_table(
         # Every cell below the headings is a number: nothing missing, no blank row, and the
         # whole block converts in one call.
         numeric_cols = np.ascontiguousarray(np.array(data_rows, dtype=np.float64).T)
-        row_numbers = np.arange(h + 2, h + 2 + len(data_rows), dtype=np.int64)
+        row_numbers = np.arange(d + 2, d + 2 + len(data_rows), dtype=np.int64)
         blank_skipped = 0
         keep_cols = list(range(width))
     else:
@@ -208,22 +222,22 @@ def _build_table(
             empty = np.zeros(block.shape, dtype=bool)
         if facts_source in ("xlsx", "xlsm", "ods") and empty.any():
             facts = scan_sheet(path, facts_source, sheet)
-            _apply_facts(facts, block, empty, h, sheet, warnings)
+            _apply_facts(facts, block, empty, d, sheet, warnings)
 
         row_has: np.ndarray = ~np.asarray(empty.all(axis=1))
         if not row_has.any():
             raise InputProblem(
                 f"{where}: the headings are in row {h + 1} but there are no data rows below them",
-                Place(file=str(path), sheet=sheet, row=h + 1),
+                Place(file=str(path), sheet=sheet, row=d + 1),
             )
         keep_rows = np.flatnonzero(row_has)
-        keep_rows = _without_stray_cells(block, empty, keep_rows, h, fmt, warnings)
+        keep_rows = _without_stray_cells(block, empty, keep_rows, d, fmt, warnings)
         blank_skipped = int(keep_rows[-1] + 1 - keep_rows.size)
         totals = _totals_rows(block, empty, keep_rows)
         if totals:
             keep_rows = keep_rows[: -len(totals)]
             for i, (j, label, kind) in totals:
-                row = i + h + 2
+                row = i + d + 2
                 cell = f"column {j + 1}" if fmt == "csv" else f"cell {column_letter(j)}{row}"
                 shown = label if len(label) <= 60 else label[:57] + "..."
                 warnings.append(
@@ -234,7 +248,7 @@ def _build_table(
         empty = empty[keep_rows]
         if fmt != "csv":  # a text file's mark was decided for the whole file when it was read
             decimal = _sheet_decimal_mark(block, decimal)
-        row_numbers = (keep_rows + h + 2).astype(np.int64)
+        row_numbers = (keep_rows + d + 2).astype(np.int64)
         col_has: np.ndarray = ~np.asarray(empty.all(axis=0))
         keep_cols = [j for j in range(width) if headings[j] or col_has[j]]
         if fmt != "csv":
@@ -243,7 +257,7 @@ def _build_table(
     if facts_source in ("xlsx", "xlsm"):
         if facts is None:  # no full scan was needed: look for hidden rows and columns only
             facts = scan_sheet(path, facts_source, sheet, hidden_only=True)
-        _hidden_warning(facts, h, len(data_rows), width, sheet, warnings)
+        _hidden_warning(facts, d, len(data_rows), width, sheet, warnings)
 
     columns: list[Column] = []
     seen: dict[str, str] = {}  # casefolded name -> first column's name
@@ -282,7 +296,11 @@ def _build_table(
             from_text_file=fmt == "csv",
         )
         for note in col.notes:  # a value that depends on the decimal mark is worth a look
-            if "could also be read" in note or "as most of them are written" in note:
+            if (
+                "could also be read" in note
+                or "as most of them are written" in note
+                or note.startswith("levels that differ only in letter case")
+            ):
                 warnings.append(f"column '{name}' ({letter}): {note}")
         if dup_of is not None:
             col.duplicate_of = dup_of

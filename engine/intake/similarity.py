@@ -42,14 +42,15 @@ class _Centred:
         self.rows = x.shape[0]
         self.present = ~np.isnan(x)
         self.counts = self.present.sum(axis=0)
-        with np.errstate(invalid="ignore", divide="ignore"):
+        # columns of huge values (1e300) overflow to inf here and come out NaN, unflagged
+        with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
             means = np.where(
                 self.counts > 0,
                 np.where(self.present, x, 0.0).sum(axis=0) / np.maximum(self.counts, 1),
                 0.0,
             )
-        self.z = np.where(self.present, x - means, 0.0)
-        self.total_ss = np.einsum("ij,ij->j", self.z, self.z)
+            self.z = np.where(self.present, x - means, 0.0)
+            self.total_ss = np.einsum("ij,ij->j", self.z, self.z)
 
     def _over_rows_of(self, a: np.ndarray, b: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """s[i, j], ss[i, j]: sum and sum of squares of column a[i] over the rows where column

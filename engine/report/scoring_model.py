@@ -178,7 +178,7 @@ class ScoringModel:
             known = self.category_levels.get(source)
             if known is None or source_kind(self.encodings, source) != "category":
                 continue
-            for row, lab in enumerate(_labels(self._find_column(table, source))):
+            for row, lab in enumerate(_labels(self._find_column(table, source), known)):
                 if lab not in known and lab != "":
                     unseen.setdefault(row, []).append(
                         f"level '{lab}' of '{source}' not seen in fitting"
@@ -257,8 +257,8 @@ class ScoringModel:
                 v = np.where(np.isfinite(v), (v != 0).astype(float), np.nan)
             return np.where(np.isfinite(v), v, miss)
         if enc.kind == "level":
-            labels = _labels(col)
             known = self.category_levels.get(enc.source)
+            labels = _labels(col, known)
             unseen = np.zeros(len(labels), dtype=bool)
             if known is not None:  # no coefficient for such a level: that row gets none
                 unseen = np.array([lab not in known and lab != "" for lab in labels], dtype=bool)
@@ -318,9 +318,10 @@ class ScoringModel:
             levels = self.category_levels.get(enc.source, [])
             if raw is None or raw == "":
                 return (1.0 if (enc.level or "") == "" else 0.0) if "" in levels else math.nan
-            # as the sheet's TRIM: outer spaces off, inner runs of spaces as one
+            # as the sheet's LOWER(TRIM()): outer spaces off, inner runs of spaces as one,
+            # letter case ignored (intake reads "East" and "east" as one level)
             trimmed = " ".join(part for part in _plain(raw).split(" ") if part)
-            return 1.0 if trimmed == (enc.level or "") else 0.0
+            return 1.0 if trimmed.lower() == (enc.level or "").lower() else 0.0
         if enc.kind == "trend":
             if num is None:
                 return miss
@@ -359,13 +360,21 @@ def _plain(x: object) -> str:
     return str(x)
 
 
-def _labels(col) -> list[str]:
+def _labels(col, known: list[str] | None = None) -> list[str]:
+    """The column's labels as text ("" for a blank), each spelled as the known level it
+    matches apart from letter case, when it matches no known level exactly (intake reads
+    levels that differ only in case as one, and the scoring sheet compares them so)."""
+    by_case: dict[str, str] = {}
+    for level in reversed(known or []):  # the first of two such levels (older results) wins
+        by_case[level.lower()] = level
+    exact = set(known or [])
     out = []
     for x in col.values:
         if x is None or (isinstance(x, float) and not math.isfinite(x)):
             out.append("")
         else:
-            out.append(_plain(x))
+            lab = _plain(x)
+            out.append(lab if lab in exact else by_case.get(lab.lower(), lab))
     return out
 
 

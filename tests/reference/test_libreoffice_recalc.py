@@ -119,7 +119,8 @@ def lo(tmp_path_factory):
     edge_rows = simulate_rows(3, seed=22)
     level_source = next(e.source for e in model.encodings if e.kind == "level")
     known = next(e.level for e in model.encodings if e.kind == "level")
-    edge_rows[2][level_source] = f"  {known} "  # a known level typed with spaces
+    # a known level typed with spaces and in other letter case
+    edge_rows[2][level_source] = f"  {known.swapcase()} "
     j_num = next(k for k, e in enumerate(model.encodings) if e.kind == "number")
     num_source = model.encodings[j_num].source
     edge_rows[0][level_source] = "a level never seen"
@@ -226,7 +227,8 @@ def test_unseen_levels_get_no_prediction_and_far_numbers_a_range_check(lo):
     assert "outside the fitted range in" in ws.cell(r0 + 1, cols["Check"]).value
     engine = lo.model.predict(read_table(lo.edge_book))
     assert ws.cell(r0 + 1, pc).value == pytest.approx(engine[1], rel=1e-9)
-    # spaces around a known level count for nothing, on the sheet as in the engine's intake
+    # spaces around a known level, and its letter case, count for nothing, on the sheet as in
+    # the engine's intake
     assert ws.cell(r0 + 2, pc).value == pytest.approx(engine[2], rel=1e-9)
     assert not ws.cell(r0 + 2, cols["Check"]).value
     # text where a number belongs is named, not silently taken as a missing cell

@@ -131,8 +131,12 @@ def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> st
     if enc.kind == "level":
         blank_known = "" in model.category_levels.get(enc.source, [])
         blank = f"IF(LEN({level})=0,1,0)" if blank_known else "NA()"
-        # TRIM: spaces around a label, or doubled inside it, count as intake counts them
-        return f"IF(OR(ISBLANK({src}),ISERROR({src})),{blank},IF(EXACT(TRIM({src}),{level}),1,0))"
+        # TRIM: spaces around a label, or doubled inside it, count as intake counts them;
+        # LOWER: letter case does not count either (intake reads "east" as "East")
+        return (
+            f"IF(OR(ISBLANK({src}),ISERROR({src})),{blank},"
+            f"IF(EXACT(LOWER(TRIM({src})),LOWER({level})),1,0))"
+        )
     if enc.kind == "trend":
         return f"IF(ISNUMBER({src}),INT({src})-{origin},{miss})"
     if enc.kind == "month":
@@ -359,7 +363,7 @@ def write(
         if cat_sources:  # a level the model never saw has no coefficient: no prediction
             body = f'IF({check_cell}<>"",IF(ISERROR(SEARCH("unseen",{check_cell})),{body},NA()),{body})'
         ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
-        # check: unseen category levels (exact comparison, as the model does), and numbers or
+        # check: unseen category levels (compared as the model does: spaces trimmed, case ignored), and numbers or
         # dates outside the range of the rows the model was fitted on (extrapolation)
         checks = []
         for s in cat_sources:
@@ -368,7 +372,7 @@ def write(
             n_lv = max(len(model.category_levels.get(s, [])), 1)
             lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
             checks.append(
-                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(TRIM({cell}),{lv_rng}))=0,'
+                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(LOWER(TRIM({cell})),LOWER({lv_rng})))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
             )
         for s_i, kind in typed_sources:  # text typed where a number or date belongs

@@ -162,3 +162,25 @@ def test_texts_that_read_either_way_follow_the_numbers_stored_beside_them():
     small = [1.2, 3.4, 2.2, 9.9, 5.5, 4.1]
     col = _col(small + ["9,548", "1,200"], decimal=".")
     assert col.values[-2:].tolist() == [9.548, 1.2]
+
+
+def test_levels_differing_only_in_letter_case_are_read_as_one():
+    # one region typed two ways (common data-entry slip): the usual spelling wins
+    col = _col(["East"] * 5 + ["east"] * 2 + ["North"] * 4 + ["EAST"])
+    assert col.kind == ColumnKind.CATEGORY
+    assert col.levels == ["East", "North"]
+    assert col.values.tolist().count("East") == 8
+    assert any(
+        "letter case are read as one: 'east' (2 cells) and 'EAST' (1 cell) as 'East' (5 cells)" in n
+        for n in col.notes
+    )
+
+
+def test_identifiers_keep_every_spelling():
+    # codes where case may matter ("ab1" and "AB1"): an identifier column is left as typed
+    cells = [f"ab{i}" for i in range(20)] + ["AB1"]
+    col = _col(cells)
+    assert col.kind == ColumnKind.IDENTIFIER
+    assert "AB1" in col.values.tolist() and "ab1" in col.values.tolist()
+    assert col.distinct == 21
+    assert not any("letter case" in n for n in col.notes)

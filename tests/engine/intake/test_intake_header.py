@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import pytest
 
-from engine.intake.header import detect_header_row
+from engine.intake.header import detect_header_row, join_sub_heading, sub_heading_row
 
 DATA = [["North", 18.4, 2.7, 93], ["South", 26.9, 0.8, 55], ["North", 5.1, 9.5, 71]]
 
@@ -34,6 +34,8 @@ DATA = [["North", 18.4, 2.7, 93], ["South", 26.9, 0.8, 55], ["North", 5.1, 9.5, 
         ([["Q1 survey", "draft", "do not share", "2024"], ["site", "temp", "rain", "units"]], 1),
         # a units row under the names: the names are the headings
         ([["site", "temp", "rain", "units"], ["", "°C", "(mm)", "%"]], 0),
+        # names above a row that completes some of them: the names' row, not the partial one
+        ([["site", "temp", "temp", "units"], ["", "min", "max", ""]], 0),
     ],
 )
 def test_the_heading_row_is_the_one_right_above_the_data(above, expected):
@@ -48,3 +50,51 @@ def test_headings_that_are_years_fall_back_to_the_first_wide_row():
 def test_a_table_of_words_only_takes_the_first_wide_row_of_words():
     rows = [["Notes"], ["name", "colour", "size"], ["ann", "red", "big"], ["bo", "blue", "small"]]
     assert detect_header_row(rows) == 1
+
+
+# a second heading row under the first (common spreadsheet practice: units, or words telling
+# apart columns that share a heading); the data are DATA below it
+@pytest.mark.parametrize(
+    "sub",
+    [
+        ["", "°C", "(mm)", "%"],  # units
+        ["", "list", "net", ""],  # words completing two headings
+        ["", "", "", "FTE"],  # one unit over one column
+    ],
+)
+def test_a_row_completing_the_headings_is_recognized(sub):
+    rows = [["site", "temp", "rain", "units"], sub, *DATA]
+    assert sub_heading_row(rows, 0)
+
+
+@pytest.mark.parametrize(
+    ("first", "why"),
+    [
+        (["North", "", "", ""], "a category level that appears again below: a data row"),
+        (["East", "", "", ""], "words over a text column only: a data row of a new level"),
+        (["", "n/a", "n/a", ""], "stand-ins for missing values"),
+        (["", "°C", 12.5, ""], "a number in the row"),
+        (["", "", "", ""], "nothing in it"),
+    ],
+)
+def test_rows_that_do_not_complete_the_headings(first, why):
+    rows = [["site", "temp", "rain", "units"], first, *DATA]
+    assert not sub_heading_row(rows, 0), why
+
+
+def test_a_last_row_under_the_headings_is_never_taken_for_sub_headings():
+    assert not sub_heading_row([["site", "temp"], ["", "°C"]], 0)
+
+
+@pytest.mark.parametrize(
+    ("heading", "sub", "name"),
+    [
+        ("Price", "list", "Price list"),
+        ("Weight", "kg", "Weight (kg)"),
+        ("Rain", "(mm)", "Rain (mm)"),
+        ("", "FTE", "FTE"),
+        ("Store", "", "Store"),
+    ],
+)
+def test_names_joined_from_heading_and_sub_heading(heading, sub, name):
+    assert join_sub_heading(heading, sub) == name

@@ -539,3 +539,38 @@ def test_two_tables_side_by_side_are_pointed_out(tmp_path):
     assert any(
         "sheet 'Two' has an empty column (C) between columns in use" in w for w in table.warnings
     )
+
+
+def test_a_second_heading_row_completes_the_names_and_is_not_data(tmp_path):
+    # units and words under the headings, two columns sharing the heading "Price" (common
+    # spreadsheet practice); read as data the row put text into every number column
+    rows = [
+        ["Store panel, draft"],
+        [],
+        ["Store", "Price", "Price", "Staff", "Weight"],
+        [None, "list", "net", "FTE", "kg"],
+    ]
+    rows += [[f"S{i}", 10.0 + i, 9.0 + i, 3 + i % 4, 1.5 * i] for i in range(12)]
+    table = read_table(_saved_sheet(tmp_path, "Panel", rows))
+    assert table.header_row == 3
+    assert [c.name for c in table.columns] == [
+        "Store", "Price list", "Price net", "Staff FTE", "Weight (kg)"
+    ]  # fmt: skip
+    assert table.row_numbers.tolist() == list(range(5, 17))
+    price = table.column("Price net")
+    assert price.kind == ColumnKind.NUMBER and price.missing == 0
+    assert price.values[0] == 9.0
+    assert any(
+        "row 4 under the headings holds sub-headings or units ('list', 'net', 'FTE', 'kg')" in w
+        for w in table.warnings
+    )
+
+
+def test_a_first_data_row_of_words_stays_data(tmp_path):
+    # the first row under the headings holds only words, but its level appears again below:
+    # a data row whose numbers are missing, not sub-headings
+    rows = [["region", "units", "price"], ["North", None, None]]
+    rows += [["North" if i % 2 else "South", 100 + i, 2.5] for i in range(10)]
+    table = read_table(_saved_sheet(tmp_path, "Sales", rows))
+    assert [c.name for c in table.columns] == ["region", "units", "price"]
+    assert table.row_numbers.tolist()[0] == 2 and table.n_rows == 11

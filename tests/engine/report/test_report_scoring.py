@@ -117,6 +117,25 @@ def test_an_unseen_level_leaves_its_row_without_a_prediction(study, tmp_path):
     assert notes[:4] + notes[5:] == [""] * 11
 
 
+def test_a_known_level_in_other_letter_case_is_that_level(study, tmp_path):
+    # intake reads "Washed" and "washed" as one level; scoring new rows must too, in the
+    # engine and in the sheet formula's mirror, or such rows would lose their prediction
+    result, _, out, _ = study
+    rows = simulate_rows(12, seed=3, gaps=False)
+    typed = [dict(r, process=r["process"].upper()) for r in rows]
+    plain, upper = tmp_path / "plain.xlsx", tmp_path / "upper.xlsx"
+    write_rows(plain, rows)
+    write_rows(upper, typed)
+    model = load_scoring_model(out, "lasso")
+    want = model.predict(read_table(plain))
+    got, notes = model.predict_with_notes(read_table(upper))
+    np.testing.assert_array_equal(got, want)
+    assert notes == [""] * 12
+    enc = next(e for e in model.encodings if e.kind == "level")
+    assert model.cell_value(enc, f" {enc.level.upper()}  ") == 1.0
+    assert model.cell_value(enc, enc.level + "x") == 0.0
+
+
 def test_headings_match_the_source(study):
     result, _, _, _ = study
     model = ScoringModel.from_result(result, "lasso")

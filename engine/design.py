@@ -219,7 +219,14 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     y_all = np.asarray(response.values, dtype=float)
     drop(~np.isfinite(y_all), f"response '{response.name}' missing")
     for note in response.notes:  # words in the response's cells cost their rows: say which
-        if " not a number treated as missing" in note or " not numbers treated as missing" in note:
+        if any(
+            words in note
+            for words in (
+                " not a number treated as missing",
+                " not numbers treated as missing",
+                " not detected without a limit",
+            )
+        ):
             warning = f"response '{response.name}': {note}; their rows were left out"
             if "'<" in note or "'>" in note:
                 warning += (

@@ -69,6 +69,17 @@ UNCACHED = _Uncached()
 _MISSING, _ERROR, _NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT, _NOFORMULA = (
     range(10)
 )
+# a result reported against a limit ("<0.3" below a detection limit, ">1000" above the range)
+_TEXT_LIMIT = 10
+_CODES = 11
+# results below a detection limit are read as this share of the limit, above a limit as the
+# limit (common practice for a few non-detects in lab and environmental data)
+_BELOW_LIMIT_SHARE = 0.5
+# texts lab reports write for "not detected" without giving the limit
+_NOT_DETECTED = frozenset(
+    "<lod <dl <loq <mdl <rl nd n.d. n.d bdl bql not detected below detection limit".split()
+    + ["< lod", "< dl", "< loq", "< mdl", "< rl", "not detected", "below detection limit"]
+)
 _ERRORS = frozenset(ERROR_VALUES)
 _FLAG_VALUE = {**{t: 1.0 for t in FLAG_TRUE}, **{t: 0.0 for t in FLAG_FALSE}}
 _FLAG_WORDS = {t: v for t, v in _FLAG_VALUE.items() if t not in ("1", "0")}
@@ -263,13 +274,48 @@ def _text_records(
         else:
             num = None if _is_code(s) else parse_number_text(s, conv)
             low = s.lower()
-            if num is not None:
+            limit = _limit_value(s, conv) if num is None else None
+            if limit is not None:
+                info[u] = (_TEXT_LIMIT, limit, _NAN, s, None)
+            elif num is not None:
                 info[u] = (_TEXT_NUMBER, num, num if num in (0.0, 1.0) else _NAN, s, None)
             elif low in _FLAG_WORDS:
                 info[u] = (_TEXT_FLAG, _NAN, _FLAG_WORDS[low], s, None)
             else:
                 info[u] = (_TEXT, _NAN, _NAN, s, None)
     return info, date_note, mark_note
+
+
+# notes about a column that change what its values mean: repeated among the sheet's warnings
+_WARNING_MARKS = (
+    "could also be read",  # a decimal mark chosen for texts that read either way
+    "as most of them are written",
+    "levels that differ only in letter case",
+    "below a detection limit",
+    "above a limit (e.g.",
+    "not detected without a limit",
+)
+
+
+def worth_a_warning(note: str) -> bool:
+    """Whether a column's note should also be one of the sheet's warnings (shown with a fit,
+    not only when the sheet is inspected)."""
+    return any(mark in note for mark in _WARNING_MARKS)
+
+
+def _limit_value(text: str, mark: str) -> float | None:
+    """The value read for a result reported against a limit: "<0.3" (or "< 0,3", "≤0.3")
+    as the share _BELOW_LIMIT_SHARE of it, ">1000" as the limit; None for anything else."""
+    head = text[:1]
+    if head not in "<>\u2264\u2265" or len(text) < 2:
+        return None
+    rest = text[1:].lstrip("=").strip()
+    if not rest or rest[0] in "<>-\u2212":
+        return None
+    value = parse_number_text(rest, mark)
+    if value is None or not value > 0.0:
+        return None
+    return value * _BELOW_LIMIT_SHARE if head in "<\u2264" else value
 
 
 def _number_column(
@@ -328,7 +374,7 @@ def _classify_mixed(
         str(shown[k]) for k in np.flatnonzero(codes == _ERROR).tolist()
     )
 
-    counts = np.bincount(codes, minlength=10)
+    counts = np.bincount(codes, minlength=_CODES)
     n_errors = int(counts[_ERROR])
     usable = m - int(counts[_MISSING] + counts[_ERROR] + counts[_NOFORMULA])
     empty_cells = n - m + int(counts[_MISSING])
@@ -353,8 +399,26 @@ def _classify_mixed(
     def unusable_note(keep: np.ndarray, what: str) -> int:
         bad = np.flatnonzero(
             ~keep
-            & np.isin(codes, (_NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT))
+            & np.isin(
+                codes,
+                (_NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _TEXT, _TEXT_LIMIT),
+            )
         )
+        undetected = np.array(
+            [str(shown[k]).lower() in _NOT_DETECTED for k in bad.tolist()], dtype=bool
+        )
+        if what == "numbers" and undetected.any():  # say why these matter, apart from the rest
+            named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[undetected][:3])
+            count = int(undetected.sum())
+            notes.append(
+                f"{count} result{'s' if count > 1 else ''} reported as not detected without a "
+                f"limit ({named}{' and more' if count > 3 else ''}) treated as missing: these "
+                "values are low, not unknown, so leaving their rows out biases the fit; "
+                "typing the limit instead (e.g. '<0.02') has them read as half of it"
+            )
+            bad = bad[~undetected]
+            if not bad.size:
+                return count
         if bad.size:
             named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[:3])
             more = f" and {bad.size - 3} more" if bad.size > 3 else ""
@@ -363,7 +427,7 @@ def _classify_mixed(
                 if bad.size > 1
                 else f"1 cell that is not {_SINGULAR[what]} treated as missing: {named}"
             )
-        return int(bad.size)
+        return int(bad.size) + int(undetected.sum())
 
     if usable == 0:
         col = Column(
@@ -378,7 +442,7 @@ def _classify_mixed(
         )
         return col
 
-    n_numeric = int(counts[_NUMBER] + counts[_TEXT_NUMBER])
+    n_numeric = int(counts[_NUMBER] + counts[_TEXT_NUMBER] + counts[_TEXT_LIMIT])
     n_words = int(counts[_BOOL] + counts[_TEXT_FLAG])
     n_flaglike = n_words + int(
         np.count_nonzero(~np.isnan(flags) & np.isin(codes, (_NUMBER, _TEXT_NUMBER)))
@@ -395,8 +459,27 @@ def _classify_mixed(
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, np.unique(flags[keep]))
     elif numbers_ok and n_numeric and n_numeric >= _share(usable):
-        keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER))
+        keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER, _TEXT_LIMIT))
         bad = unusable_note(keep, "numbers")
+        limits = np.flatnonzero(codes == _TEXT_LIMIT)
+        if limits.size:
+            below = [k for k in limits.tolist() if str(shown[k])[:1] in "<\u2264"]
+            above = [k for k in limits.tolist() if str(shown[k])[:1] not in "<\u2264"]
+            said = []
+            if below:
+                said.append(
+                    f"{len(below)} result{'s' if len(below) > 1 else ''} below a detection limit "
+                    f"(e.g. {cell_at(below[0])} '{shown[below[0]]}') read as half the limit"
+                )
+            if above:
+                said.append(
+                    f"{len(above)} result{'s' if len(above) > 1 else ''} above a limit "
+                    f"(e.g. {cell_at(above[0])} '{shown[above[0]]}') read as the limit"
+                )
+            notes.append(
+                "; ".join(said) + " (common practice for a few such results; if they are many, "
+                "or your lab has its own rule, replace them in the sheet)"
+            )
         values = np.full(n, np.nan)
         values[present_idx[keep]] = numbers[keep]
         uniq = np.unique(numbers[keep])

@@ -22,7 +22,7 @@ from engine.intake.cells import (
     parse_number_text,
     text_number_convention,
 )
-from engine.intake.classify import UNCACHED, classify_column
+from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
 from engine.intake.delimited import read_delimited
 from engine.intake.header import detect_header_row, join_sub_heading, sub_heading_row
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
@@ -296,11 +296,7 @@ def _build_table(
             from_text_file=fmt == "csv",
         )
         for note in col.notes:  # a value that depends on the decimal mark is worth a look
-            if (
-                "could also be read" in note
-                or "as most of them are written" in note
-                or note.startswith("levels that differ only in letter case")
-            ):
+            if worth_a_warning(note):
                 warnings.append(f"column '{name}' ({letter}): {note}")
         if dup_of is not None:
             col.duplicate_of = dup_of

@@ -230,19 +230,25 @@ def test_why_rows_were_left_out_reads_largest_first_and_stays_short():
 
 
 def test_words_in_the_response_name_their_cells_and_warn_about_detection_limits(tmp_path):
-    # common practice in lab work: "<0.5" marks a value below the detection limit; leaving
-    # such rows out is the user's decision to make knowingly, so the fit names the cells
+    # common practice in lab work: "<0.5" marks a value below the detection limit, read as half
+    # the limit (substitution) and said; "n.d." gives no limit and "n/a" no value: those rows
+    # are left out, which the fit says, naming the cells, with why it matters for non-detects
     from engine.intake import read_table
 
-    lines = ["site,dose,lead"] + [f"S{i},{i},{1.5 + i}" for i in range(12)]
+    lines = ["site,dose,lead"] + [f"S{i},{i},{1.5 + i}" for i in range(14)]
     lines[4] = "S3,3,<0.5"
     lines[7] = "S6,6,n/a"
+    lines[9] = "S8,8,n.d."
     path = tmp_path / "assay.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    design = build_design(read_table(path), _spec(source=str(path), response="lead"))
-    assert design.n_rows == 10
-    (warning,) = [w for w in design.warnings if w.startswith("response 'lead'")]
-    assert "'<0.5'" in warning and "'n/a'" in warning and "detection limit" in warning
+    table = read_table(path)
+    design = build_design(table, _spec(source=str(path), response="lead"))
+    assert design.n_rows == 12
+    assert 0.25 in design.y
+    assert any("below a detection limit (e.g. row 5, column 3 '<0.5')" in w for w in table.warnings)
+    said = [w for w in design.warnings if w.startswith("response 'lead'")]
+    assert any("'n/a'" in w and "their rows were left out" in w for w in said)
+    assert any("'n.d.'" in w and "biases the fit" in w for w in said)
 
 
 def test_a_response_of_formulas_without_stored_results_says_so(tmp_path):

@@ -184,3 +184,47 @@ def test_identifiers_keep_every_spelling():
     assert "AB1" in col.values.tolist() and "ab1" in col.values.tolist()
     assert col.distinct == 21
     assert not any("letter case" in n for n in col.notes)
+
+
+def test_results_against_a_limit_read_as_half_the_limit_or_the_limit():
+    # lab reports write results below a detection limit as "<0.3" and above the range as
+    # ">1000"; half the limit for non-detects is common practice (substitution), the limit
+    # itself above the range
+    cells = [1.2, 0.8, "<0.3", 2.5, "< 0.3", 1.1, ">1000", 0.9, "\u22640.5", 1.4]
+    col = _col(cells)
+    assert col.kind == ColumnKind.NUMBER and col.missing == 0
+    np.testing.assert_allclose(col.values, [1.2, 0.8, 0.15, 2.5, 0.15, 1.1, 1000.0, 0.9, 0.25, 1.4])
+    note = next(n for n in col.notes if "detection limit" in n)
+    assert "3 results below a detection limit (e.g. C4 '<0.3') read as half the limit" in note
+    assert "1 result above a limit (e.g. C8 '>1000') read as the limit" in note
+
+
+def test_a_limit_follows_the_decimal_mark_of_the_texts():
+    col = _col(["1,5", "2,25", "<0,5", "3,0", "1,75"] * 2, decimal=",")
+    assert col.kind == ColumnKind.NUMBER
+    assert col.values[2] == 0.25
+
+
+def test_not_detected_without_a_limit_is_missing_with_its_own_note():
+    cells = [1.2, 0.8, "< LOD", 2.5, "n.d.", 1.1, 0.7, 0.9, "oops", 1.4, 1.0, 2.0] + [1.5] * 20
+    col = _col(cells)
+    assert col.kind == ColumnKind.NUMBER and col.missing == 3
+    assert any(
+        "2 results reported as not detected without a limit (C4 '< LOD', C6 'n.d.')" in n
+        and "biases the fit" in n
+        for n in col.notes
+    )
+    assert any("1 cell that is not a number treated as missing: C10 'oops'" in n for n in col.notes)
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        ["<18", "18-25", "26-40", "41-65", ">65"] * 4,  # age bands: a category
+        ["<0", "<-3", "<>", "<<1", "> -2"] * 4,  # no positive limit: text
+    ],
+)
+def test_texts_that_only_start_like_a_limit_stay_text(cells):
+    col = _col(cells)
+    assert col.kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER)
+    assert col.values[0] == cells[0]

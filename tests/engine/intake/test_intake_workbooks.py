@@ -574,3 +574,15 @@ def test_a_first_data_row_of_words_stays_data(tmp_path):
     table = read_table(_saved_sheet(tmp_path, "Sales", rows))
     assert [c.name for c in table.columns] == ["region", "units", "price"]
     assert table.row_numbers.tolist()[0] == 2 and table.n_rows == 11
+
+
+def test_results_against_a_limit_are_among_the_sheet_warnings(tmp_path):
+    # a value read in place of "<0.3" changes the data: said with the fit, not only by inspect
+    rows = [["sample", "lead", "yield"]]
+    rows += [[f"A{i}", "<0.3" if i % 5 == 0 else 0.5 + i / 10, 40.0 + i] for i in range(20)]
+    table = read_table(_saved_sheet(tmp_path, "Assays", rows))
+    assert table.column("lead").values[0] == 0.15
+    assert any(
+        w.startswith("column 'lead' (B): 4 results below a detection limit (e.g. B2 '<0.3')")
+        for w in table.warnings
+    )

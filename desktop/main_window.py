@@ -100,9 +100,13 @@ class MessageStrip(QFrame):
     def show_message(self, msg: UserMessage, action: tuple[str, Any] | None = None) -> None:
         bg, fg = TONE_COLOURS.get(msg.tone, TONE_COLOURS["info"])
         self.setStyleSheet(f"QFrame#strip {{ background: {bg}; }} QLabel {{ color: {fg}; }}")
-        text = f"<b>{msg.headline}</b>"
+        # the words come from the engine and the user's files ("<0.3", "R&D"): shown as
+        # written, each line of the detail on a line of its own
+        text = f"<b>{html.escape(msg.headline, quote=False)}</b>"
         if msg.detail:
-            text += f"<br>{msg.detail}"
+            text += "<br>" + "<br>".join(
+                html.escape(line, quote=False) for line in msg.detail.splitlines()
+            )
         self.label.setText(text)
         self._action = action[1] if action else None
         self.action_button.setText(action[0] if action else "")
@@ -114,6 +118,19 @@ class MessageStrip(QFrame):
             act, self._action = self._action, None
             self.action_button.hide()
             act()
+
+
+# notes a message lists before it only counts the rest
+_NOTES_SHOWN = 3
+
+
+def _listed_notes(notes: list[str]) -> str:
+    """The first few notes, one per line, then how many more there are."""
+    lines = [f"• {n[:1].upper()}{n[1:]}" for n in notes[:_NOTES_SHOWN]]
+    if len(notes) > _NOTES_SHOWN:
+        more = len(notes) - _NOTES_SHOWN
+        lines.append(f"… and {more} more note{'s' if more > 1 else ''}")
+    return "\n".join(lines)
 
 
 class MainWindow(QMainWindow):
@@ -539,7 +556,7 @@ class MainWindow(QMainWindow):
                 ("Show it again", lambda: self.show_saved_analysis()),
             )
         elif notes:
-            self._say(UserMessage("info", f"Read '{t.sheet}'.", " ".join(notes[:3])))
+            self._say(UserMessage("info", f"Read '{t.sheet}'.", _listed_notes(notes)))
         else:
             self.message.hide()
         self.pages.setCurrentIndex(PAGE_SHEET)
@@ -739,7 +756,7 @@ class MainWindow(QMainWindow):
                     UserMessage(
                         "problem",
                         "No method could be fitted with these settings.",
-                        " ".join(result.warnings[:3]) or "Choose other methods or columns.",
+                        _listed_notes(result.warnings) or "Choose other methods or columns.",
                     )
                 )
                 return

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 __all__ = ["ResultView", "cursor_rows"]
 
+from html import escape
 from pathlib import Path
 
 import numpy as np
@@ -565,11 +566,13 @@ class ResultView(QWidget):
             if f.naive_estimate is None
             else f"<br>Choosing controls from the response equation alone would give {fmt(f.naive_estimate)}."
         )
+        column = escape(f.column)  # a user's heading ("R&D", "<5 km") shown as written
+        controls = escape(", ".join(f.controls)) or "none"
         self.focal_text.setText(
-            f"<b>Effect of {f.column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, {f.covariance}); "
+            f"<b>Effect of {column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, {f.covariance}); "
             f"95% interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.<br>"
-            f"{len(f.controls)} controls: {', '.join(f.controls) or 'none'}.{naive}<br>"
-            f"<span style='color:{MUTED}'>Read this as the effect of {f.column} only if every "
+            f"{len(f.controls)} controls: {controls}.{naive}<br>"
+            f"<span style='color:{MUTED}'>Read this as the effect of {column} only if every "
             "column that drives both it and the response is among the candidates: double "
             "selection chooses controls from them, it cannot supply missing ones. Check the "
             "design with your own review practice before acting on it.</span>"

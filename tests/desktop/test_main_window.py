@@ -379,3 +379,24 @@ def test_the_window_fits_a_small_laptop_screen(qtbot, store, book):
     w.resize(1280, 720)
     qtbot.wait(50)
     assert w.width() == 1280
+
+
+def test_sheet_notes_show_as_written_one_per_line(qtbot, store, tmp_path):
+    # notes quote cells such as "<0.3" and "R&D": rich text must not swallow them as markup,
+    # and several notes must not run together into one paragraph
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Lab"
+    ws.append(["R&D site", "lead", "Lead", "yield"])
+    for i in range(20):
+        ws.append(["North" if i % 2 else "north", "<0.3" if i % 4 == 0 else 0.4 + i / 10, i, i])
+    book = tmp_path / "lab.xlsx"
+    wb.save(book)
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    assert w.message.isVisible()
+    shown = w.message.label.text()
+    assert "'&lt;0.3'" in shown and "R&amp;D site" in shown
+    assert shown.count("<br>• ") == len(w.book.table.warnings) >= 2

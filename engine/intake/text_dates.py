@@ -6,6 +6,12 @@ or "-" between parts and a four-digit year ("04/03/2021", "4.3.2021"). The order
 month is decided for the whole column: a first part above 12 means day first, a second part
 above 12 means month first; when nothing decides it, `day_first` (the caller's hint) is used
 and the column gets a note.
+
+Periods, as planning and reporting sheets label rows, are read as their first day, with a
+note: quarters "2024-Q3", "2024 Q3", "Q3 2024", "Q3/2024"; ISO weeks "2024-W05", "2024 W5",
+"W05 2024" (the Monday, ISO 8601); months "2024-03", "2024/03", "03/2024", "Mar 2024",
+"March 2024", "Mar-24", "Mär 2024" (month names in English, German, French and Spanish; a
+two-digit year only after a dash or an apostrophe, "Mar 24" could be a day).
 """
 
 from __future__ import annotations
@@ -21,9 +27,67 @@ _ISO = re.compile(
 _DMY = re.compile(r"(\d{1,2})[/.\-](\d{1,2})[/.\-](\d{4})(?: (\d{1,2}):(\d{2})(?::(\d{2}))?)?")
 
 
+_QUARTER = re.compile(r"(?i)(\d{4})[ \-/]?Q([1-4])|Q([1-4])[ \-/]?(\d{4})")
+_WEEK = re.compile(r"(?i)(\d{4})[ \-/]?W(\d{1,2})|W(\d{1,2})[ \-/]?(\d{4})")
+_YEAR_MONTH = re.compile(r"(\d{4})[-/](\d{1,2})|(\d{1,2})[-/](\d{4})")
+_NAMED_MONTH = re.compile(r"(?i)([a-zäéû]{3,9})\.?(?:[ \-/](\d{4})|[\-'\u2019](\d{2}))")
+
+# month names and abbreviations (English, German, French, Spanish), lower case, no dot
+_MONTHS: dict[str, int] = {}
+for _number, _names in enumerate(
+    [
+        "jan january januar janv janvier ene enero",
+        "feb february februar fév fev février fevrier febrero",
+        "mar march märz mär maerz mars marzo",
+        "apr april avr avril abr abril",
+        "may mai mayo",
+        "jun june juni juin junio",
+        "jul july juli juil juillet julio",
+        "aug august août aout ago agosto",
+        "sep sept september septembre septiembre set",
+        "oct october okt oktober octobre octubre",
+        "nov november novembre noviembre",
+        "dec december dez dezember déc décembre decembre dic diciembre",
+    ],
+    start=1,
+):
+    for _name in _names.split():
+        _MONTHS[_name] = _number
+
+
+def _period(s: str) -> tuple[dt.datetime, str] | None:
+    """The first day of the period ``s`` names and the kind of period, or None."""
+    m = _QUARTER.fullmatch(s)
+    if m:
+        y, q = (m.group(1), m.group(2)) if m.group(1) else (m.group(4), m.group(3))
+        return dt.datetime(int(y), 3 * int(q) - 2, 1), "quarter"
+    m = _WEEK.fullmatch(s)
+    if m:
+        y, w = (m.group(1), m.group(2)) if m.group(1) else (m.group(4), m.group(3))
+        try:
+            day = dt.date.fromisocalendar(int(y), int(w), 1)
+        except ValueError:
+            return None
+        return dt.datetime(day.year, day.month, day.day), "week"
+    m = _YEAR_MONTH.fullmatch(s)
+    if m:
+        y, mo = (m.group(1), m.group(2)) if m.group(1) else (m.group(4), m.group(3))
+        if 1 <= int(mo) <= 12:
+            return dt.datetime(int(y), int(mo), 1), "month"
+        return None
+    m = _NAMED_MONTH.fullmatch(s)
+    if m:
+        mo = _MONTHS.get(m.group(1).lower())
+        if mo is None:
+            return None
+        y = int(m.group(2)) if m.group(2) else 2000 + int(m.group(3))
+        return dt.datetime(y, mo, 1), "month"
+    return None
+
+
 def looks_like_date(text: str) -> bool:
     s = text.strip()
-    return bool(_ISO.fullmatch(s) or _DMY.fullmatch(s))
+    return bool(_ISO.fullmatch(s) or _DMY.fullmatch(s)) or _period(s) is not None
 
 
 def _make(
@@ -56,7 +120,13 @@ def parse_date_texts(
         order = "day/month/year" if day_first else "month/day/year"
         note = f"dates such as '{next(s for s in stripped if _DMY.fullmatch(s))}' could be read either way; read as {order}"
     out: list[dt.datetime | None] = []
+    periods: dict[str, str] = {}  # kind of period -> first text read as one
     for s in stripped:
+        period = _period(s)
+        if period is not None:
+            out.append(period[0])
+            periods.setdefault(period[1], s)
+            continue
         m = _ISO.fullmatch(s)
         if m:
             y, mo, d, h, mi, sec, frac = m.groups()
@@ -69,4 +139,11 @@ def parse_date_texts(
             out.append(_make(int(y), month, day, h, mi, sec))
             continue
         out.append(None)
+    if periods:
+        said = ", ".join(
+            f"'{text}' as the first day of its {kind}" for kind, text in periods.items()
+        )
+        if periods.keys() == {"week"}:
+            said += " (the Monday, ISO 8601)"
+        note = "; ".join(x for x in (note, f"periods read as dates: {said}") if x)
     return out, note

@@ -155,7 +155,10 @@ def sub_heading_row(rows: list[list], h: int) -> bool:
     if h + 2 >= len(rows):
         return False
     row = rows[h + 1]
-    below = rows[h + 2 : h + 2 + _SUB_SCAN_ROWS]
+    # copies of the headings and of this row further down (a report repeating them on every
+    # page) are not data: they say nothing about the columns
+    copies = {_row_key(rows[h]), _row_key(row)}
+    below = [r for r in rows[h + 2 : h + 2 + _SUB_SCAN_ROWS] if _row_key(r) not in copies]
     over_numbers = False
     filled = 0
     for j, value in enumerate(row):
@@ -171,6 +174,14 @@ def sub_heading_row(rows: list[list], h: int) -> bool:
         if column and sum(_is_value(x) for x in column) >= 0.8 * len(column):
             over_numbers = True
     return filled > 0 and over_numbers
+
+
+def _row_key(row: list) -> tuple[str, ...]:
+    """A row's texts, spaces and letter case aside, without trailing blanks."""
+    texts = ["" if v is None else " ".join(str(v).split()).casefold() for v in row]
+    while texts and not texts[-1]:
+        texts.pop()
+    return tuple(texts)
 
 
 def join_sub_heading(heading: str, sub: str) -> str:

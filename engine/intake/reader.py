@@ -244,6 +244,9 @@ def _build_table(
                     f"row {row} left out: it looks like a {kind} row ('{shown}' in {cell}), "
                     "not data"
                 )
+        keep_rows = _without_repeated_headings(
+            block, empty, keep_rows, rows[h + 1 : d + 1] + [rows[h]], d, warnings
+        )
         block = block[keep_rows]
         empty = empty[keep_rows]
         if fmt != "csv":  # a text file's mark was decided for the whole file when it was read
@@ -461,6 +464,55 @@ def _with_group_labels(
         f"(e.g. '{changed}')"
     )
     return out
+
+
+def _cell_text(value: object) -> str:
+    return "" if value is None else " ".join(str(value).split()).casefold()
+
+
+def _without_repeated_headings(
+    block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray, heading_rows: list[list],
+    d: int, warnings: list[str],
+) -> np.ndarray:  # fmt: skip
+    """``keep_rows`` less rows that repeat the headings (or the sub-headings under them), as
+    a report printed page by page repeats them: each filled cell equals the heading of its
+    column, and at least two of them (half of the headings when there are more)."""
+    if not keep_rows.size:
+        return keep_rows
+    repeated = np.zeros(keep_rows.size, dtype=bool)
+    for heading_row in heading_rows:
+        texts = [_cell_text(v) for v in heading_row]
+        named = [j for j, t in enumerate(texts) if t and j < block.shape[1]]
+        if len(named) < 2:
+            continue
+        # a quick look at one column first: only rows holding its heading as written (copies
+        # are exact) can repeat them all
+        j0 = named[0]
+        same_cell = block[keep_rows, j0] == heading_row[j0]
+        if not isinstance(same_cell, np.ndarray):  # numpy could not compare elementwise
+            continue
+        maybe = np.flatnonzero(same_cell.astype(bool))
+        for t in maybe.tolist():
+            i = int(keep_rows[t])
+            filled = np.flatnonzero(~empty[i])
+            same = sum(
+                1 for j in filled.tolist() if j < len(texts) and _cell_text(block[i, j]) == texts[j]
+            )
+            if same == filled.size and same >= max(2, len(named) // 2):
+                repeated[t] = True
+    if not repeated.any():
+        return keep_rows
+    listed = [int(i) + d + 2 for i in keep_rows[repeated]]
+    warnings.append(
+        f"{_counted(len(listed), 'row')} left out ({_listed(listed)}): "
+        f"{'they repeat' if len(listed) > 1 else 'it repeats'} the headings, as a report "
+        "printed page by page does"
+    )
+    return keep_rows[~repeated]
+
+
+def _counted(n: int, word: str) -> str:
+    return f"{n} {word}{'s' if n != 1 else ''}"
 
 
 # a last row this far below the one before it, holding a single cell, is a stray cell

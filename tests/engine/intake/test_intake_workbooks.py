@@ -586,3 +586,47 @@ def test_results_against_a_limit_are_among_the_sheet_warnings(tmp_path):
         w.startswith("column 'lead' (B): 4 results below a detection limit (e.g. B2 '<0.3')")
         for w in table.warnings
     )
+
+
+def test_headings_repeated_down_the_sheet_are_left_out(tmp_path):
+    # a report printed page by page repeats its headings (and the units under them) every
+    # page; read as data they made a level "Segment" and text in every number column
+    head = ["Branch", "Segment", "Balance", "Tenure"]
+    units = [None, None, "EUR", "months"]
+    rows = [head, units]
+    for i in range(30):
+        if i in (10, 20):
+            rows += [[], head, units]
+        rows.append([f"BR{i % 4}", "SME" if i % 3 else "Retail", 100.0 + i, i + 1])
+    table = read_table(_saved_sheet(tmp_path, "Export", rows))
+    assert [c.name for c in table.columns] == [
+        "Branch",
+        "Segment",
+        "Balance (EUR)",
+        "Tenure months",
+    ]
+    assert table.n_rows == 30
+    assert table.column("Segment").levels == ["SME", "Retail"]
+    assert table.column("Balance (EUR)").missing == 0
+    assert any(
+        "4 rows left out (14, 15, 27, 28): they repeat the headings" in w for w in table.warnings
+    )
+
+
+def test_a_text_file_with_its_heading_line_repeated(tmp_path):
+    # files joined one after another keep each one's heading line
+    lines = ["site;temp;sales"] + [f"S{i};{10 + i};{100 + i}" for i in range(8)]
+    lines += ["site;temp;sales"] + [f"S{i};{20 + i};{200 + i}" for i in range(8)]
+    path = tmp_path / "joined.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    table = read_table(path)
+    assert table.n_rows == 16 and table.column("temp").missing == 0
+    assert any("1 row left out (10): it repeats the headings" in w for w in table.warnings)
+
+
+def test_a_row_sharing_one_cell_with_its_heading_stays_data(tmp_path):
+    # a level spelled like its column's heading, beside numbers: a data row
+    rows = [["grade", "score", "hours"], ["grade", 71.0, 3.0]]
+    rows += [["A" if i % 2 else "B", 60.0 + i, 1.0 + i] for i in range(10)]
+    table = read_table(_saved_sheet(tmp_path, "Marks", rows))
+    assert table.n_rows == 11 and not any("repeat the headings" in w for w in table.warnings)

@@ -294,6 +294,7 @@ _WARNING_MARKS = (
     "below a detection limit",
     "above a limit (e.g.",
     "not detected without a limit",
+    "percentages written two ways",
 )
 
 
@@ -301,6 +302,57 @@ def worth_a_warning(note: str) -> bool:
     """Whether a column's note should also be one of the sheet's warnings (shown with a fit,
     not only when the sheet is inspected)."""
     return any(mark in note for mark in _WARNING_MARKS)
+
+
+def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
+    """Numbers typed with a percent sign ("28.6%", read as 0.286) beside numbers typed without
+    one on the percentage scale (12.5): put them all on one scale, that of the more numerous
+    kind, in place in ``numbers``, and say so ("" when the column is on one scale already).
+
+    Both kinds must look like one quantity: the plain numbers mostly above 1 and the numbers
+    written before the signs within a factor of ten of them (medians).
+    """
+    marked = np.array(
+        [
+            codes[k] == _TEXT_NUMBER and str(shown[k]).rstrip().endswith("%")
+            for k in range(len(codes))
+        ],
+        dtype=bool,
+    )
+    plain = keep & ~marked & (codes != _TEXT_LIMIT)
+    if not marked.any() or not plain.any():
+        return ""
+    plain_values = np.abs(numbers[plain])
+    written = np.abs(numbers[marked]) * 100.0  # the number before the sign
+    if np.mean(plain_values > 1.0) < 0.8:
+        return ""
+    typical_plain = float(np.median(plain_values))
+    typical_written = float(np.median(written))
+    if not typical_written > 0.0 or not 0.1 <= typical_plain / typical_written <= 10.0:
+        return ""
+    first_marked = int(np.flatnonzero(marked)[0])
+    first_plain = int(np.flatnonzero(plain)[0])
+    n_marked, n_plain = int(marked.sum()), int(plain.sum())
+    example = f"{cell_at(first_marked)} '{shown[first_marked]}'"
+    other = f"{cell_at(first_plain)} {format_plain(float(numbers[first_plain]))}"
+    if n_plain >= n_marked:
+        # the number as written before the sign (0.286 * 100 is 28.599999999999998)
+        numbers[marked] = np.round(numbers[marked] * 100.0, 10)
+        done = (
+            f"the {n_marked} with the sign are read as the number before it "
+            f"(e.g. {example} as {format_plain(float(numbers[first_marked]))})"
+        )
+    else:
+        numbers[plain] /= 100.0
+        done = (
+            f"the {n_plain} without it are read as percentages "
+            f"(e.g. {other} as {format_plain(float(numbers[first_plain]))})"
+        )
+    return (
+        f"percentages written two ways: {n_marked} with a percent sign (e.g. {example}), "
+        f"{n_plain} without (e.g. {other}); to put them on one scale {done}. Check the "
+        "column and write it one way"
+    )
 
 
 def _limit_value(text: str, mark: str) -> float | None:
@@ -461,6 +513,10 @@ def _classify_mixed(
     elif numbers_ok and n_numeric and n_numeric >= _share(usable):
         keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER, _TEXT_LIMIT))
         bad = unusable_note(keep, "numbers")
+        if any(u.rstrip().endswith("%") for u in unique):
+            scale_note = _one_percent_scale(numbers, codes, shown, keep, cell_at)
+            if scale_note:
+                notes.append(scale_note)
         limits = np.flatnonzero(codes == _TEXT_LIMIT)
         if limits.size:
             below = [k for k in limits.tolist() if str(shown[k])[:1] in "<\u2264"]

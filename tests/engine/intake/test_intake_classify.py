@@ -228,3 +228,36 @@ def test_texts_that_only_start_like_a_limit_stay_text(cells):
     col = _col(cells)
     assert col.kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER)
     assert col.values[0] == cells[0]
+
+
+def test_percentages_written_two_ways_follow_the_more_numerous_kind():
+    # "28.6%" is read as 0.286, as a spreadsheet reads it; beside plain 12.5-style
+    # percentages that would mix two scales in one column
+    col = _col(["28.6%", 12.5, 14.0, "9%", 22.1, 30.0, 7.5, 18.2])
+    assert col.kind == ColumnKind.NUMBER
+    np.testing.assert_array_equal(col.values, [28.6, 12.5, 14.0, 9.0, 22.1, 30.0, 7.5, 18.2])
+    assert any(
+        "percentages written two ways: 2 with a percent sign (e.g. C2 '28.6%'), 6 without" in n
+        and "read as the number before it (e.g. C2 '28.6%' as 28.6)" in n
+        for n in col.notes
+    )
+    # the other way round: most carry the sign, the plain ones become fractions too
+    col = _col(["28.6%", "12.5%", "14%", 9.0, "22.1%", "30%"])
+    np.testing.assert_allclose(col.values, [0.286, 0.125, 0.14, 0.09, 0.221, 0.30])
+    assert any(
+        "the 1 without it are read as percentages (e.g. C5 9 as 0.09)" in n for n in col.notes
+    )
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        ["28.6%", 0.125, 0.14, "9%", 0.221],  # fractions beside the signs: one scale already
+        ["28.6%", 1250.0, 1400.0, "9%", 2210.0],  # other quantities: not percentages
+        ["28.6%", "12.5%", "9%"],  # every one with its sign
+    ],
+)
+def test_one_percent_scale_is_left_alone(cells):
+    col = _col(cells)
+    assert not any("percentages written two ways" in n for n in col.notes)
+    assert col.values[0] == pytest.approx(0.286)

@@ -43,9 +43,60 @@ _COST = {
 
 
 def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
-    from engine.intake import read_table
+    """The sheet the study reads. Without a sheet named, the first visible one that holds a
+    table (``read_table``); when that one has no column named as the response, the one other
+    sheet that has, with a warning saying so."""
+    from engine.intake import list_sheets, read_table
 
-    return read_table(spec.source, sheet=spec.sheet, header_row=spec.header_row, progress=progress)
+    try:
+        table = read_table(
+            spec.source, sheet=spec.sheet, header_row=spec.header_row, progress=progress
+        )
+    except InputProblem as problem:
+        if spec.sheet is not None:
+            raise
+        first: Table | InputProblem = problem  # a cover page with no table: look further
+    else:
+        if spec.sheet is not None or _has_column(table, spec.response):
+            return table
+        first = table
+    first_name = first.sheet if isinstance(first, Table) else first.place.sheet
+    holding = []
+    for info in list_sheets(spec.source):
+        if info.hidden or info.name == first_name:
+            continue
+        try:
+            other = read_table(spec.source, sheet=info.name, header_row=spec.header_row)
+        except InputProblem:  # an empty sheet, a chart sheet: not the one
+            continue
+        if _has_column(other, spec.response):
+            holding.append(other)
+    if len(holding) == 1:
+        found = holding[0]
+        found.warnings.insert(
+            0,
+            f"sheet '{found.sheet}' read: it holds the response '{spec.response}', which the "
+            f"first sheet, '{first_name}', does not",
+        )
+        return found
+    if len(holding) > 1:
+        listed = ", ".join(f"'{t.sheet}'" for t in holding)
+        raise InputProblem(
+            f"no column named '{spec.response}' in the first sheet, '{first_name}'; sheets "
+            f"{listed} each have one: choose the sheet to read",
+            Place(file=str(spec.source), column=spec.response),
+        )
+    if isinstance(first, InputProblem):
+        raise first
+    return first  # the first sheet's own message follows, naming its columns
+
+
+def _has_column(table: Table, name: str) -> bool:
+    try:
+        table.column(name)
+    except InputProblem:
+        return False
+    return True
 
 
 def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
@@ -80,6 +131,10 @@ def run_study(
     fingerprint = _fingerprint(spec.source)  # before reading: a later change must be noticed
     if table is None:
         table = load_table(spec, progress.part(0.0, 0.04))
+        first_visible = next((s.name for s in table.sheets if not s.hidden), table.sheet)
+        if spec.sheet is None and table.sheet != first_visible:
+            # another sheet than the first was read: recorded, so that a re-run reads it too
+            spec = dataclasses.replace(spec, sheet=table.sheet)
     spec = _spec_in_sheet_names(spec, table)
     progress.step(0.04, "building the design matrix")
     design = build_design(table, spec)

@@ -115,6 +115,9 @@ def read_table(
             name = _choose_sheet(path, infos, sheet)
             progress.step(0.05, f"reading sheet '{name}'")
             rows = read_grid(book, name, path)
+            if sheet is None and header_row is None:
+                # a cover page or notes first: the first sheet after it that holds a table
+                return _first_table(path, fmt, book, infos, name, rows, progress)
         finally:
             book.close()
         decimal, day_first = ".", False
@@ -130,6 +133,52 @@ def read_table(
             "delimiter": shown.get(text.delimiter, repr(text.delimiter)),
             "decimal mark": "comma" if text.decimal == "," else "point",
         }
+    progress.step(1.0, "done")
+    return table
+
+
+# what a sheet must hold to be taken for the data: a response and a candidate, a few rows
+_TABLE_COLUMNS = 2
+_TABLE_ROWS = 3
+
+
+def _first_table(path, fmt, book, infos, name, rows, progress) -> Table:
+    """The first visible sheet ``name`` (its cells ``rows``) read as a table; when it holds
+    none (a cover page, notes), the first visible sheet after it that does, with a warning
+    saying so. When no sheet does, the first one's table or its own problem."""
+    problem: InputProblem | None = None
+    first: Table | None = None
+    try:
+        first = _build_table(path, fmt, name, infos, rows, None, ".", False, fmt, progress)
+    except InputProblem as exc:
+        problem = exc
+    visible = [s.name for s in infos if not s.hidden]
+    if first is not None and (_holds_table(first) or len(visible) < 2):
+        return _done(first, progress)
+    for other in visible[visible.index(name) + 1 :]:
+        try:
+            grid = read_grid(book, other, path)
+            table = _build_table(path, fmt, other, infos, grid, None, ".", False, fmt, silent())
+        except InputProblem:
+            continue
+        if _holds_table(table):
+            table.warnings.insert(
+                0,
+                f"sheet '{other}' read: the first sheet, '{name}', holds no table (a cover "
+                "page or notes); choose another sheet if this is not the one",
+            )
+            return _done(table, progress)
+    if first is None:
+        assert problem is not None
+        raise problem
+    return _done(first, progress)
+
+
+def _holds_table(table: Table) -> bool:
+    return len(table.columns) >= _TABLE_COLUMNS and table.n_rows >= _TABLE_ROWS
+
+
+def _done(table: Table, progress: Progress) -> Table:
     progress.step(1.0, "done")
     return table
 

@@ -120,7 +120,7 @@ def open_workbook(path: Path, fmt: str) -> calamine.CalamineWorkbook:
         ) from exc
     except (calamine.CalamineError, OSError, ValueError) as exc:
         raise InputProblem(
-            f"file '{path}' could not be read as a {fmt} workbook ({exc}); it may be damaged "
+            f"file '{path}' could not be read as an .{fmt} workbook ({exc}); it may be damaged "
             "or cut short; re-save it from a spreadsheet program",
             place,
         ) from exc

@@ -341,3 +341,69 @@ def test_a_check_mark_column_is_a_yes_no_candidate_in_the_fit_and_in_scoring(tmp
             for k, v in enumerate(marks)
         ]
         np.testing.assert_allclose(got, want, rtol=1e-12)
+
+
+def _book_with_sheets(path, sheets):
+    """A workbook of several sheets: {name: rows}; returns its path."""
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    wb.remove(wb.active)
+    for name, rows in sheets.items():
+        ws = wb.create_sheet(name)
+        for row in rows:
+            ws.append(row)
+    wb.save(path)
+    return path
+
+
+def _sales_rows(seed):
+    rng = np.random.default_rng(seed)
+    rows = [["x1", "x2", "sales"]]
+    for _ in range(30):
+        a, b = rng.normal(size=2)
+        rows.append([float(a), float(b), float(2 * a + rng.normal())])
+    return rows
+
+
+def test_without_a_sheet_named_the_one_sheet_holding_the_response_is_read(tmp_path):
+    # a first sheet that is a table, but of something else (a lookup of regions): the data
+    # with the response are on another sheet
+    lookup = [["region", "manager"], ["North", "Ann"], ["South", "Bo"], ["East", "Cy"]]
+    book = _book_with_sheets(tmp_path / "b.xlsx", {"Regions": lookup, "Data": _sales_rows(1)})
+    res = run_study(StudySpec(source=str(book), response="sales", methods=("lasso",), folds=5))
+    assert res.design.sheet == "Data" and res.spec.sheet == "Data"  # recorded for a re-run
+    assert "sheet 'Data' read: it holds the response 'sales'" in " ".join(res.warnings)
+
+
+def test_a_cover_page_first_is_passed_over(tmp_path):
+    # a cover page first (common in shared workbooks): the first sheet holding a table is read
+    cover = [["Quarterly pricing review"], [], ["Prepared by: analytics"]]
+    book = _book_with_sheets(tmp_path / "b.xlsx", {"Cover": cover, "Data": _sales_rows(1)})
+    res = run_study(StudySpec(source=str(book), response="sales", methods=("lasso",), folds=5))
+    assert res.design.sheet == "Data" and res.spec.sheet == "Data"
+    assert "the first sheet, 'Cover', holds no table" in " ".join(res.warnings)
+
+
+def test_a_response_in_several_other_sheets_asks_which(tmp_path):
+    book = _book_with_sheets(
+        tmp_path / "b.xlsx",
+        {
+            "Regions": [["region", "manager"], ["North", "Ann"], ["South", "Bo"], ["East", "Cy"]],
+            "2024": _sales_rows(1),
+            "2025": _sales_rows(2),
+        },
+    )
+    with pytest.raises(InputProblem) as err:
+        run_study(StudySpec(source=str(book), response="sales", methods=("lasso",), folds=5))
+    assert (
+        "no column named 'sales' in the first sheet, 'Regions'; sheets '2024', '2025' each have "
+        "one: choose the sheet to read" in err.value.message
+    )
+
+
+def test_a_response_found_nowhere_names_the_first_sheets_columns(tmp_path):
+    book = _book_with_sheets(tmp_path / "b.xlsx", {"Data": _sales_rows(1), "Notes": [["a"]]})
+    with pytest.raises(InputProblem) as err:
+        run_study(StudySpec(source=str(book), response="revenue", methods=("lasso",), folds=5))
+    assert "no column named 'revenue' in sheet 'Data'" in err.value.message

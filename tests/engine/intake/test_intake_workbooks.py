@@ -630,3 +630,30 @@ def test_a_row_sharing_one_cell_with_its_heading_stays_data(tmp_path):
     rows += [["A" if i % 2 else "B", 60.0 + i, 1.0 + i] for i in range(10)]
     table = read_table(_saved_sheet(tmp_path, "Marks", rows))
     assert table.n_rows == 11 and not any("repeat the headings" in w for w in table.warnings)
+
+
+def test_without_a_sheet_named_a_cover_page_is_passed_over(tmp_path):
+    # a title page first: the first visible sheet holding a table (two columns, a few rows)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Cover"
+    ws["A1"] = "Quarterly pricing review"
+    ws["A3"] = "Prepared by: analytics"
+    hidden = wb.create_sheet("Old")
+    hidden.sheet_state = "hidden"
+    hidden.append(["a", "b"])
+    for i in range(5):
+        hidden.append([i, i])
+    data = wb.create_sheet("Data")
+    data.append(["price", "units"])
+    for i in range(6):
+        data.append([2.0 + i, 100 - i])
+    path = tmp_path / "cover.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    assert table.sheet == "Data" and table.n_rows == 6
+    assert table.warnings[0].startswith(
+        "sheet 'Data' read: the first sheet, 'Cover', holds no table"
+    )
+    # named explicitly, the cover is read as asked
+    assert read_table(path, sheet="Cover").sheet == "Cover"

@@ -130,7 +130,9 @@ def _above_partial_row(rows: list[list], i: int) -> int:
 # rows below the headings looked at to tell number columns from text ones
 _SUB_SCAN_ROWS = 200
 # texts that stand for a missing value, not for a name
-_MISSING_WORDS = frozenset("n/a na n.a. - -- \u2013 \u2014 ? missing none null nan tbd".split())
+_MISSING_WORDS = frozenset(
+    "n/a na n.a. - -- \u2013 \u2014 ? missing none null nan tbd tba tbc pending unknown".split()
+)
 
 
 def _is_value(value: object) -> bool:

@@ -73,6 +73,7 @@ def test_a_row_completing_the_headings_is_recognized(sub):
         (["North", "", "", ""], "a category level that appears again below: a data row"),
         (["East", "", "", ""], "words over a text column only: a data row of a new level"),
         (["", "n/a", "n/a", ""], "stand-ins for missing values"),
+        (["", "pending", "pending", ""], "placeholders for values still to come"),
         (["", "°C", 12.5, ""], "a number in the row"),
         (["", "", "", ""], "nothing in it"),
     ],

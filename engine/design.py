@@ -111,6 +111,14 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             ),
             place(response.name),
         )
+    if response.kind is ColumnKind.CATEGORY and len(response.levels) == 2:
+        a, b = response.levels
+        raise InputProblem(
+            f"the response column '{response.name}' in {where} holds two labels ('{a}', "
+            f"'{b}'), not numbers; to fit one of them as 1 and the other as 0 (a linear "
+            "probability model), write the column as 1 and 0 or as yes and no",
+            place(response.name),
+        )
     if response.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
         raise InputProblem(
             f"the response column '{response.name}' in {where} holds {response.kind.value} values, "

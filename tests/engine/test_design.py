@@ -166,7 +166,7 @@ def test_population_standard_deviation_is_used():
     [
         (
             [
-                _col("y", ColumnKind.CATEGORY, ["a", "b", "a"], levels=["a", "b"]),
+                _col("y", ColumnKind.CATEGORY, ["a", "b", "c"], levels=["a", "b", "c"]),
                 _col("x", ColumnKind.NUMBER, [1, 2, 3]),
             ],
             {},
@@ -286,3 +286,21 @@ def test_a_response_whose_heading_is_used_twice_says_which_column_it_took(tmp_pa
         "'sales (2)')" in w
         for w in design.warnings
     )
+
+
+def test_a_response_of_two_labels_says_how_to_fit_it_as_one_and_zero(tmp_path):
+    # credit files mark outcomes with words ("Default", "Performing"); the linear methods here
+    # need numbers, and the message says how to get the 1/0 coding
+    from engine.intake import read_table
+
+    lines = ["status,ltv,dti"] + [
+        f"{'Default' if i % 4 == 0 else 'Performing'},{50 + i},{20 + i % 7}" for i in range(16)
+    ]
+    path = tmp_path / "loans.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    with pytest.raises(InputProblem) as err:
+        build_design(read_table(path), _spec(source=str(path), response="status"))
+    message = err.value.message
+    assert "holds two labels ('Performing', 'Default')" in message
+    assert "write the column as 1 and 0 or as yes and no" in message
+    assert err.value.place.column == "status"

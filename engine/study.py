@@ -371,13 +371,17 @@ class _MethodRunner:
         d = self.d
         Z = (d.X - d.means) / d.sds
         n = d.n_rows
+        # the squared singular values of Z_A are the eigenvalues of Z_A'Z_A: one product of
+        # all rows, then a small symmetric eigenproblem per penalty (an SVD of n x k each
+        # took 4 s for 100 penalties at 20000 rows)
+        G = Z.T @ Z
         df = np.zeros(len(path))
         for i in range(len(path)):
             act = np.flatnonzero(path.std_coefs[i])
             if act.size == 0:
                 continue
-            s = np.linalg.svd(Z[:, act], compute_uv=False)
-            df[i] = float(np.sum(s**2 / (s**2 + n * path.penalties[i] * (1 - path.mix))))
+            s2 = np.clip(np.linalg.eigvalsh(G[np.ix_(act, act)]), 0.0, None)
+            df[i] = float(np.sum(s2 / (s2 + n * path.penalties[i] * (1 - path.mix))))
         return df
 
     def _penalized(

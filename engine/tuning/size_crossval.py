@@ -33,6 +33,7 @@ import numpy as np
 from engine.errors import InputProblem
 from engine.fitting.stepwise import forward_stepwise
 from engine.fitting.subset_search import best_subset
+from engine.fitting.triangle import qr_triangle
 from engine.progress import Progress, silent
 from engine.study_result import SizeRow
 from engine.tuning.curve import ValidationCurve, choose_index
@@ -132,14 +133,28 @@ def size_rows(
     return rows
 
 
+# with at least this many training rows per column, each size's least squares runs on the
+# triangle of one QR factorization instead of the rows (measured at 18000 x 107: 5 s of
+# refits per part -> 0.1 s)
+_REDUCE_ROWS_PER_COLUMN = 2
+
+
 def _part_errors(X, y, train, test, search, max_size, exact_limit, progress):
     found = subsets_by_size(X[train], y[train], search, max_size, exact_limit, progress)
     err = np.full(max_size + 1, np.nan)
     Xtr, ytr, Xte, yte = X[train], y[train], X[test], y[test]
+    A = np.column_stack([np.ones(len(train)), Xtr])  # the intercept is column 0
+    b = ytr
+    if A.shape[0] >= _REDUCE_ROWS_PER_COLUMN * A.shape[1]:
+        # A = QR keeps every subset's least squares: |b - A_s c| differs from |Q'b - R_s c|
+        # by the same amount for every c, so both have the same minimizer (and A_s, R_s the
+        # same singular values, hence the same rank decisions)
+        Raug = qr_triangle(np.column_stack([A, b]))
+        q = A.shape[1]
+        A, b = Raug[:q, :q], Raug[:q, q]
     for k, s in enumerate(found.subsets[: max_size + 1]):
         cols = list(s)
-        A = np.column_stack([np.ones(len(train)), Xtr[:, cols]])
-        coef = np.linalg.lstsq(A, ytr, rcond=None)[0]
+        coef = np.linalg.lstsq(A[:, [0] + [j + 1 for j in cols]], b, rcond=None)[0]
         pred = coef[0] + Xte[:, cols] @ coef[1:]
         err[k] = float(np.mean((yte - pred) ** 2))
     return err, found.approximate

@@ -407,3 +407,31 @@ def test_a_response_found_nowhere_names_the_first_sheets_columns(tmp_path):
     with pytest.raises(InputProblem) as err:
         run_study(StudySpec(source=str(book), response="revenue", methods=("lasso",), folds=5))
     assert "no column named 'revenue' in sheet 'Data'" in err.value.message
+
+
+def test_elastic_net_degrees_of_freedom_are_the_trace_of_the_hat_matrix(tmp_path):
+    # df of the elastic net at each penalty: trace of Z_A (Z_A'Z_A + n*lambda*(1-mix) I)^-1 Z_A'
+    # on the active set (Zou & Hastie 2005, J. R. Stat. Soc. B 67(2)), computed here directly
+    # from the hat matrix, against the study's own route
+    rng = np.random.default_rng(7)
+    n, p = 60, 8
+    X = rng.normal(size=(n, p))
+    X[:, 1] += X[:, 0]
+    y = X[:, 0] - X[:, 2] + rng.normal(size=n)
+    lines = [",".join(["y"] + [f"x{j}" for j in range(p)])]
+    lines += [",".join(f"{v:.6f}" for v in [y[i], *X[i]]) for i in range(n)]
+    path = tmp_path / "d.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    res = run_study(StudySpec(source=str(path), response="y", methods=("elastic-net",), folds=5))
+    m = res.model("elastic-net")
+    d = res.design
+    Z = (d.X - d.means) / d.sds
+    for i in range(0, len(m.path), 9):
+        act = np.flatnonzero(m.path.std_coefs[i])
+        want = 0.0
+        if act.size:
+            ZA = Z[:, act]
+            shift = n * m.path.penalties[i] * (1 - m.path.mix)
+            hat = ZA @ np.linalg.solve(ZA.T @ ZA + shift * np.eye(act.size), ZA.T)
+            want = float(np.trace(hat))
+        assert m.criteria.df[i] == pytest.approx(want, rel=1e-9, abs=1e-12)

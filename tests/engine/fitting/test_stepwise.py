@@ -61,3 +61,21 @@ def test_collinear_columns_stop_with_a_note():
     path = forward_stepwise(X, y)
     assert len(path.order) == 3 and path.note and "combination" in path.note
     assert 4 not in path.order  # the constant column never enters
+
+
+def test_many_rows_run_on_the_qr_triangle_with_the_same_steps(monkeypatch):
+    # with n >= 2p the steps run on the triangle of a QR factorization; forced back onto the
+    # rows they must choose the same columns with the same RSS (nearly collinear pair included)
+    import engine.fitting.stepwise as stepwise
+
+    rng = np.random.default_rng(3)
+    n, p = 600, 30
+    X = rng.normal(size=(n, p)) * rng.uniform(0.1, 1e3, p) + rng.normal(0, 50, p)
+    X[:, 1] = X[:, 0] + 1e-4 * X[:, 0].std() * rng.normal(size=n)
+    y = X[:, 0] / X[:, 0].std() - 0.5 * X[:, 5] / X[:, 5].std() + rng.normal(size=n)
+    reduced = forward_stepwise(X, y)
+    monkeypatch.setattr(stepwise, "_REDUCE_ROWS_PER_COLUMN", 10**9)
+    rows = forward_stepwise(X, y)
+    assert list(reduced.order) == list(rows.order)
+    np.testing.assert_allclose(reduced.rss, rows.rss, rtol=1e-9)
+    assert reduced.tss == rows.tss and reduced.note == rows.note

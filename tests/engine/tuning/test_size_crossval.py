@@ -100,3 +100,24 @@ def test_refusals():
         cross_validate_sizes(X, y, parts, "sideways")
     with pytest.raises(InputProblem, match="rule"):
         cross_validate_sizes(X, y, parts, "best-subset", choose="max")
+
+
+@pytest.mark.parametrize("search", ["forward-stepwise", "best-subset"])
+def test_many_rows_refits_equal_the_reference_library(search):
+    # with many rows per column each size is refitted on the triangle of one QR factorization;
+    # scikit-learn's LinearRegression on the held-out rows is the reference
+    from sklearn.linear_model import LinearRegression
+
+    X, y = sparse_problem(5, n=400, p=12)
+    X[:, 4] = X[:, 3] + 1e-3 * X[:, 4]  # a nearly collinear pair
+    parts = make_folds(len(y), "kfold", 4, seed=2)
+    curve = cross_validate_sizes(X, y, parts, search, max_size=5, workers=1)
+    for i, (tr, te) in enumerate(parts):
+        found = subsets_by_size(X[tr], y[tr], search, max_size=5)
+        for k, cols in enumerate(found.subsets[:6]):
+            cols = list(cols)
+            if k == 0:
+                pred = np.full(len(te), y[tr].mean())
+            else:
+                pred = LinearRegression().fit(X[tr][:, cols], y[tr]).predict(X[te][:, cols])
+            assert curve.part_errors[i, k] == pytest.approx(np.mean((y[te] - pred) ** 2), rel=1e-9)

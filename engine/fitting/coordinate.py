@@ -61,18 +61,13 @@ import warnings
 from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
-from functools import partial
+from functools import cache, partial
 
 import numpy as np
 from scipy.linalg.blas import dtrsv as _dtrsv
 from scipy.linalg.lapack import dpotrf as _dpotrf
 from scipy.linalg.lapack import dpotrs as _dpotrs
 from scipy.linalg.lapack import dtrtrs as _dtrtrs
-from sklearn.exceptions import ConvergenceWarning
-from sklearn.linear_model._cd_fast import (
-    enet_coordinate_descent,
-    enet_coordinate_descent_gram,
-)
 
 from engine.blas_threads import one_blas_thread
 from engine.fitting import gram_kernel
@@ -80,9 +75,22 @@ from engine.fitting.path import PenaltyPath
 from engine.fitting.standardize import _BLOCK_ROWS, column_moments
 from engine.progress import Progress
 
-# the compiled descent warns when it stops at its sweep limit; this module records that as a
-# note on the path (and tries the exact route), so the warning is silenced for its calls only
-warnings.filterwarnings("ignore", category=ConvergenceWarning, module=__name__)
+
+@cache
+def _library_descent():
+    """scikit-learn's compiled descent (residual and Gram forms), imported at first use: the
+    library takes about 2 s to import, which a fit on the compiled Gram loop never needs."""
+    from sklearn.exceptions import ConvergenceWarning
+    from sklearn.linear_model._cd_fast import (
+        enet_coordinate_descent,
+        enet_coordinate_descent_gram,
+    )
+
+    # it warns when it stops at its sweep limit; this module records that as a note on the
+    # path (and tries the exact route), so the warning is silenced for its calls only
+    warnings.filterwarnings("ignore", category=ConvergenceWarning, module=__name__)
+    return enet_coordinate_descent, enet_coordinate_descent_gram
+
 
 # mix below this is treated like this when sizing the grid (common practice for ridge-like mixes)
 _MIN_MIX_FOR_GRID = 1e-3
@@ -193,7 +201,7 @@ class _GramProblem:
         Qw = np.ascontiguousarray(Qw)
         w = np.ascontiguousarray(gamma0, dtype=float)
         yarr = np.array([np.sqrt(self.yy)])  # the Gram solver uses y only through ||y||^2
-        w, gap, tol_abs, it = enet_coordinate_descent_gram(
+        w, gap, tol_abs, it = _library_descent()[1](
             w, alpha, beta_l2, Qw, np.ascontiguousarray(qw), yarr, max_sweeps, tol, rng, 0, 0, 1
         )
         return np.asarray(w), int(it), bool(gap > tol_abs)
@@ -309,7 +317,7 @@ class _ResidualProblem:
             Zw = np.asfortranarray(np.vstack([Zw, np.diag(np.sqrt(l2_diag))]))
             y = np.concatenate([y, np.zeros(W.size)])
         w = np.ascontiguousarray(gamma0, dtype=float)
-        w, gap, tol_abs, it = enet_coordinate_descent(
+        w, gap, tol_abs, it = _library_descent()[0](
             w, alpha, beta_l2, Zw, np.ascontiguousarray(y), max_sweeps, tol, rng, 0, 0, 1
         )
         return np.asarray(w), int(it), bool(gap > tol_abs)

@@ -75,15 +75,15 @@ def load_table(spec: StudySpec, progress: Progress | None = None) -> Table:
         found = holding[0]
         found.warnings.insert(
             0,
-            f"sheet '{found.sheet}' read: it holds the response '{spec.response}', which the "
-            f"first sheet, '{first_name}', does not",
+            f"sheet '{found.sheet}' read: it holds the response '{spec.response}', which "
+            f"sheet '{first_name}' does not",
         )
         return found
     if len(holding) > 1:
         listed = ", ".join(f"'{t.sheet}'" for t in holding)
         raise InputProblem(
-            f"no column named '{spec.response}' in the first sheet, '{first_name}'; sheets "
-            f"{listed} each have one: choose the sheet to read",
+            f"no column named '{spec.response}' in sheet '{first_name}'; sheets {listed} "
+            "each have one: choose the sheet to read",
             Place(file=str(spec.source), column=spec.response),
         )
     if isinstance(first, InputProblem):

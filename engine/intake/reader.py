@@ -153,9 +153,9 @@ def _first_table(path, fmt, book, infos, name, rows, progress) -> Table:
     except InputProblem as exc:
         problem = exc
     visible = [s.name for s in infos if not s.hidden]
-    if first is not None and (_holds_table(first) or len(visible) < 2):
-        return _done(first, progress)
-    for other in visible[visible.index(name) + 1 :]:
+    if first is not None and (_holds_table(first) or name not in visible[:1]):
+        return _done(first, progress)  # a table, or every sheet hidden (the first one read)
+    for other in visible[1:]:
         try:
             grid = read_grid(book, other, path)
             table = _build_table(path, fmt, other, infos, grid, None, ".", False, fmt, silent())

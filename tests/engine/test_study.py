@@ -397,8 +397,8 @@ def test_a_response_in_several_other_sheets_asks_which(tmp_path):
     with pytest.raises(InputProblem) as err:
         run_study(StudySpec(source=str(book), response="sales", methods=("lasso",), folds=5))
     assert (
-        "no column named 'sales' in the first sheet, 'Regions'; sheets '2024', '2025' each have "
-        "one: choose the sheet to read" in err.value.message
+        "no column named 'sales' in sheet 'Regions'; sheets '2024', '2025' each have one: "
+        "choose the sheet to read" in err.value.message
     )
 
 

@@ -657,3 +657,29 @@ def test_without_a_sheet_named_a_cover_page_is_passed_over(tmp_path):
     )
     # named explicitly, the cover is read as asked
     assert read_table(path, sheet="Cover").sheet == "Cover"
+
+
+def test_a_workbook_whose_every_sheet_is_hidden_reads_the_first(tmp_path):
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Only"
+    ws.append(["price", "units"])
+    for i in range(4):
+        ws.append([1.0 + i, 10 - i])
+    other = wb.create_sheet("Notes")
+    other["A1"] = "see Only"
+    path = tmp_path / "hidden.xlsx"
+    wb.save(path)
+    # hide both through the file's own markup (openpyxl refuses to hide every sheet)
+    import zipfile
+
+    with zipfile.ZipFile(path) as zf:
+        parts = {n: zf.read(n) for n in zf.namelist()}
+    parts["xl/workbook.xml"] = parts["xl/workbook.xml"].replace(
+        b'state="visible"', b'state="hidden"'
+    )
+    with zipfile.ZipFile(path, "w") as zf:
+        for n, data in parts.items():
+            zf.writestr(n, data)
+    table = read_table(path)
+    assert table.sheet == "Only" and table.n_rows == 4

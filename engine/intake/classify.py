@@ -48,7 +48,7 @@ from engine.intake.cells import (
     parse_number_text,
 )
 from engine.intake.table import Column, ColumnKind
-from engine.intake.text_dates import looks_like_date, parse_date_texts
+from engine.intake.text_dates import MONTH_NAMES, looks_like_date, parse_date_texts
 
 DOMINANT_SHARE = 0.8  # share of values of one kind that decides the column's kind
 CATEGORY_MAX_SHARE = 0.5  # distinct labels / values at most this for a category
@@ -71,7 +71,14 @@ _MISSING, _ERROR, _NUMBER, _BOOL, _DATE, _TEXT_NUMBER, _TEXT_FLAG, _TEXT_DATE, _
 )
 # a result reported against a limit ("<0.3" below a detection limit, ">1000" above the range)
 _TEXT_LIMIT = 10
-_CODES = 11
+# a number written with its unit ("12.5 kg", "45 min", "80 °C")
+_TEXT_UNIT = 11
+_CODES = 12
+# what a unit written after a number looks like: letters (Latin or Greek: "µg", "Ω"), degree
+# and prime signs, powers, a slash or a dot inside ("km/h", "mg/kg", "m²", "°C")
+_NUMBER_AND_UNIT = re.compile(
+    r"(?P<num>.*?\d)\s*(?P<unit>[A-Za-zµμΩ°º][A-Za-zµμΩ°º²³/.]{0,9}|°[A-Za-z]{1,2})"
+)
 # results below a detection limit are read as this share of the limit, above a limit as the
 # limit (common practice for a few non-detects in lab and environmental data)
 _BELOW_LIMIT_SHARE = 0.5
@@ -275,8 +282,11 @@ def _text_records(
             num = None if _is_code(s) else parse_number_text(s, conv)
             low = s.lower()
             limit = _limit_value(s, conv) if num is None else None
+            with_unit = _number_and_unit(s, conv) if num is None and limit is None else None
             if limit is not None:
                 info[u] = (_TEXT_LIMIT, limit, _NAN, s, None)
+            elif with_unit is not None:
+                info[u] = (_TEXT_UNIT, with_unit[0], _NAN, s, None)
             elif num is not None:
                 info[u] = (_TEXT_NUMBER, num, num if num in (0.0, 1.0) else _NAN, s, None)
             elif low in _FLAG_WORDS:
@@ -295,6 +305,8 @@ _WARNING_MARKS = (
     "above a limit (e.g.",
     "not detected without a limit",
     "percentages written two ways",
+    "written with the unit",
+    "numbers written with different units",
 )
 
 
@@ -353,6 +365,29 @@ def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
         f"{n_plain} without (e.g. {other}); to put them on one scale {done}. Check the "
         "column and write it one way"
     )
+
+
+# words after a number that are not units: ordinals ("3rd"), times of day ("10 am"), and
+# month names ("3 Jan", a date without its year)
+_NOT_UNITS = frozenset("st nd rd th am pm a.m. p.m.".split()) | MONTH_NAMES
+
+
+def _number_and_unit(text: str, mark: str) -> tuple[float, str] | None:
+    """(number, unit) for a number written with a unit after it ("12.5 kg"), else None. A
+    code starting with 0 ("007 A") is not a number, and the unit must not be a word that
+    starts a sentence ("3 Main" stays text: units here are at most 10 characters, one word)."""
+    m = _NUMBER_AND_UNIT.fullmatch(text)
+    if m is None or _is_code(m.group("num")) or m.group("unit").lower() in _NOT_UNITS:
+        return None
+    value = parse_number_text(m.group("num"), mark)
+    if value is None:
+        return None
+    return value, m.group("unit")
+
+
+def _unit_of(text: str) -> str:
+    m = _NUMBER_AND_UNIT.fullmatch(text)
+    return m.group("unit") if m else ""
 
 
 def _limit_value(text: str, mark: str) -> float | None:
@@ -494,7 +529,12 @@ def _classify_mixed(
         )
         return col
 
+    # numbers written with a unit count as numbers when the column uses one unit only
+    units = sorted({_unit_of(u) for u in unique if info[u][0] == _TEXT_UNIT})
+    one_unit = len(units) == 1
     n_numeric = int(counts[_NUMBER] + counts[_TEXT_NUMBER] + counts[_TEXT_LIMIT])
+    if one_unit:
+        n_numeric += int(counts[_TEXT_UNIT])
     n_words = int(counts[_BOOL] + counts[_TEXT_FLAG])
     n_flaglike = n_words + int(
         np.count_nonzero(~np.isnan(flags) & np.isin(codes, (_NUMBER, _TEXT_NUMBER)))
@@ -511,8 +551,20 @@ def _classify_mixed(
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, np.unique(flags[keep]))
     elif numbers_ok and n_numeric and n_numeric >= _share(usable):
-        keep = np.isin(codes, (_NUMBER, _TEXT_NUMBER, _TEXT_LIMIT))
+        keep = np.isin(
+            codes, (_NUMBER, _TEXT_NUMBER, _TEXT_LIMIT) + ((_TEXT_UNIT,) if one_unit else ())
+        )
         bad = unusable_note(keep, "numbers")
+        with_unit = np.flatnonzero(codes == _TEXT_UNIT) if one_unit else np.zeros(0, int)
+        if with_unit.size:
+            k0 = int(with_unit[0])
+            notes.append(
+                f"{with_unit.size} number{'s' if with_unit.size > 1 else ''} written with the "
+                f"unit '{units[0]}' (e.g. {cell_at(k0)} '{shown[k0]}') read as "
+                f"number{'s' if with_unit.size > 1 else ''} in {units[0]}"
+            )
+        elif len(units) > 1 and counts[_TEXT_UNIT]:
+            notes.append(_several_units_note(units))
         if any(u.rstrip().endswith("%") for u in unique):
             scale_note = _one_percent_scale(numbers, codes, shown, keep, cell_at)
             if scale_note:
@@ -598,7 +650,9 @@ def _classify_mixed(
             col.levels = [
                 label for label, _ in sorted(tally.items(), key=lambda kv: (-kv[1], kv[0]))
             ]
-        if n_numeric and n_numeric > usable / 2:
+        if len(units) > 1 and counts[_TEXT_UNIT] >= usable / 2:
+            notes.append(_several_units_note(units))
+        elif n_numeric and n_numeric > usable / 2:
             notes.append(
                 f"{n_numeric} of {usable} values are numbers, too few for a number column "
                 f"(needs {int(DOMINANT_SHARE * 100)}%); read as text"
@@ -609,6 +663,14 @@ def _classify_mixed(
 
 
 _SINGULAR = {"numbers": "a number", "dates": "a date", "yes/no values": "a yes/no value"}
+
+
+def _several_units_note(units: list[str]) -> str:
+    shown = ", ".join(f"'{u}'" for u in units[:5]) + (" ..." if len(units) > 5 else "")
+    return (
+        f"numbers written with different units ({shown}) are not read as numbers: write the "
+        "column in one unit (or the unit in its heading and numbers in the cells)"
+    )
 
 
 def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:

@@ -16,7 +16,7 @@ two-digit year only after a dash or an apostrophe, "Mar 24" could be a day).
 
 from __future__ import annotations
 
-__all__ = ["looks_like_date", "parse_date_texts"]
+__all__ = ["looks_like_date", "parse_date_texts", "MONTH_NAMES"]
 
 import datetime as dt
 import re
@@ -53,6 +53,8 @@ for _number, _names in enumerate(
 ):
     for _name in _names.split():
         _MONTHS[_name] = _number
+# the month names and abbreviations above, lower case (a "3 Jan" is not a number with a unit)
+MONTH_NAMES = frozenset(_MONTHS)
 
 
 def _period(s: str) -> tuple[dt.datetime, str] | None:

@@ -261,3 +261,41 @@ def test_one_percent_scale_is_left_alone(cells):
     col = _col(cells)
     assert not any("percentages written two ways" in n for n in col.notes)
     assert col.values[0] == pytest.approx(0.286)
+
+
+def test_numbers_written_with_one_unit_are_numbers():
+    # lab and quality sheets write the unit into every cell ("12.5 kg", "45 min", "80 °C")
+    col = _col(["12.5 kg", "13 kg", "9.75kg", "11 kg", 10.0])
+    assert col.kind == ColumnKind.NUMBER and col.missing == 0
+    np.testing.assert_array_equal(col.values, [12.5, 13.0, 9.75, 11.0, 10.0])
+    assert any(
+        "4 numbers written with the unit 'kg' (e.g. C2 '12.5 kg') read as numbers in kg" in n
+        for n in col.notes
+    )
+    temp = _col(["80,5 °C", "79 °C", "81,25 °C", "78 °C"], decimal=",")
+    np.testing.assert_array_equal(temp.values, [80.5, 79.0, 81.25, 78.0])
+    rate = _col(["1.2 km/h", "3 km/h", "0.5 km/h"])
+    assert rate.kind == ColumnKind.NUMBER and rate.values[1] == 3.0
+
+
+def test_numbers_in_several_units_stay_text_with_a_note():
+    col = _col(["12 kg", "1200 g", "13 kg", "900 g", "2 kg", "1.5 kg"])
+    assert col.kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER)
+    assert any("numbers written with different units ('g', 'kg')" in n for n in col.notes)
+
+
+@pytest.mark.parametrize(
+    "cells",
+    [
+        ["3 Jan", "17 Feb", "2 Mar", "9 Jan"],  # dates without a year
+        ["1st", "2nd", "3rd", "4th", "1st"],  # ordinals
+        ["10 am", "3 pm", "11 am", "2 pm"],  # times of day
+        ["007 A", "012 A", "003 A", "044 A"],  # codes with a leading zero
+        ["12 Main St", "3 High St", "7 Mill Rd", "9 Elm Rd"],  # addresses
+    ],
+)
+def test_what_only_looks_like_a_number_and_a_unit_stays_text(cells):
+    col = _col(cells)
+    assert col.kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER)
+    assert col.values[0] == cells[0]
+    assert not any("units" in n or "unit '" in n for n in col.notes)

@@ -683,3 +683,15 @@ def test_a_workbook_whose_every_sheet_is_hidden_reads_the_first(tmp_path):
             zf.writestr(n, data)
     table = read_table(path)
     assert table.sheet == "Only" and table.n_rows == 4
+
+
+def test_numbers_with_their_unit_are_among_the_sheet_warnings(tmp_path):
+    rows = [["batch", "weight", "yield"]]
+    rows += [[f"B{i}", f"{10 + i / 4:.2f} kg", 50.0 + i] for i in range(12)]
+    table = read_table(_saved_sheet(tmp_path, "Lots", rows))
+    assert table.column("weight").kind == ColumnKind.NUMBER
+    assert table.column("weight").values[1] == 10.25
+    assert any(
+        w.startswith("column 'weight' (B): 12 numbers written with the unit 'kg'")
+        for w in table.warnings
+    )

@@ -215,6 +215,11 @@ def format_plain(value: object) -> str:
     return str(value).strip()
 
 
+def counted(n: int, word: str) -> str:
+    """ "1 row", "3 rows": a count with its noun."""
+    return f"{n} {word}{'s' if n != 1 else ''}"
+
+
 def format_heading(value: object) -> str:
     """A heading cell as text ("" for an empty cell)."""
     if value is None:

@@ -43,6 +43,7 @@ from engine.intake.cells import (
     FLAG_FALSE,
     FLAG_TRUE,
     cell_name,
+    counted,
     decimal_mark_votes,
     format_plain,
     parse_number_text,
@@ -690,17 +691,13 @@ def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:
         for v in variants[1:]:
             spelling[v] = usual
         joined.append(
-            " and ".join(f"'{v}' ({_cells(tally[v])})" for v in variants[1:])
-            + f" as '{usual}' ({_cells(tally[usual])})"
+            " and ".join(f"'{v}' ({counted(tally[v], 'cell')})" for v in variants[1:])
+            + f" as '{usual}' ({counted(tally[usual], 'cell')})"
         )
     if not spelling:
         return {}, ""
     shown = "; ".join(joined[:5]) + (f"; and {len(joined) - 5} more" if len(joined) > 5 else "")
     return spelling, f"levels that differ only in letter case are read as one: {shown}"
-
-
-def _cells(count: int) -> str:
-    return f"{count} cell{'s' if count != 1 else ''}"
 
 
 def _seen(value: object) -> str:

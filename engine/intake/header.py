@@ -22,7 +22,7 @@ joined to the names instead of being read as a row of data with text in number c
 
 from __future__ import annotations
 
-__all__ = ["detect_header_row", "sub_heading_row", "join_sub_heading", "SCAN_ROWS"]
+__all__ = ["detect_header_row", "sub_heading_row", "join_sub_heading", "cell_key", "SCAN_ROWS"]
 
 import datetime as dt
 import math
@@ -178,9 +178,14 @@ def sub_heading_row(rows: list[list], h: int) -> bool:
     return filled > 0 and over_numbers
 
 
+def cell_key(value: object) -> str:
+    """A cell's text, spaces and letter case aside ("" for an empty cell)."""
+    return "" if value is None else " ".join(str(value).split()).casefold()
+
+
 def _row_key(row: list) -> tuple[str, ...]:
     """A row's texts, spaces and letter case aside, without trailing blanks."""
-    texts = ["" if v is None else " ".join(str(v).split()).casefold() for v in row]
+    texts = [cell_key(v) for v in row]
     while texts and not texts[-1]:
         texts.pop()
     return tuple(texts)

@@ -17,6 +17,7 @@ from engine.errors import InputProblem, Place
 from engine.intake.cells import (
     cell_name,
     column_letter,
+    counted,
     format_heading,
     is_error_text,
     parse_number_text,
@@ -24,7 +25,7 @@ from engine.intake.cells import (
 )
 from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
 from engine.intake.delimited import read_delimited
-from engine.intake.header import detect_header_row, join_sub_heading, sub_heading_row
+from engine.intake.header import cell_key, detect_header_row, join_sub_heading, sub_heading_row
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
 from engine.intake.table import Column, SheetInfo, Table
@@ -515,10 +516,6 @@ def _with_group_labels(
     return out
 
 
-def _cell_text(value: object) -> str:
-    return "" if value is None else " ".join(str(value).split()).casefold()
-
-
 def _without_repeated_headings(
     block: np.ndarray, empty: np.ndarray, keep_rows: np.ndarray, heading_rows: list[list],
     d: int, warnings: list[str],
@@ -530,7 +527,7 @@ def _without_repeated_headings(
         return keep_rows
     repeated = np.zeros(keep_rows.size, dtype=bool)
     for heading_row in heading_rows:
-        texts = [_cell_text(v) for v in heading_row]
+        texts = [cell_key(v) for v in heading_row]
         named = [j for j, t in enumerate(texts) if t and j < block.shape[1]]
         if len(named) < 2:
             continue
@@ -545,7 +542,7 @@ def _without_repeated_headings(
             i = int(keep_rows[t])
             filled = np.flatnonzero(~empty[i])
             same = sum(
-                1 for j in filled.tolist() if j < len(texts) and _cell_text(block[i, j]) == texts[j]
+                1 for j in filled.tolist() if j < len(texts) and cell_key(block[i, j]) == texts[j]
             )
             if same == filled.size and same >= max(2, len(named) // 2):
                 repeated[t] = True
@@ -553,15 +550,11 @@ def _without_repeated_headings(
         return keep_rows
     listed = [int(i) + d + 2 for i in keep_rows[repeated]]
     warnings.append(
-        f"{_counted(len(listed), 'row')} left out ({_listed(listed)}): "
+        f"{counted(len(listed), 'row')} left out ({_listed(listed)}): "
         f"{'they repeat' if len(listed) > 1 else 'it repeats'} the headings, as a report "
         "printed page by page does"
     )
     return keep_rows[~repeated]
-
-
-def _counted(n: int, word: str) -> str:
-    return f"{n} {word}{'s' if n != 1 else ''}"
 
 
 # a last row this far below the one before it, holding a single cell, is a stray cell

@@ -34,12 +34,17 @@ import math
 import re
 
 # Text a yes/no column may hold, lower case; spreadsheet booleans TRUE/FALSE and the numbers 1/0
-# count too. Common practice in survey and operations workbooks.
-FLAG_TRUE: tuple[str, ...] = ("yes", "y", "true", "1")
+# count too. Common practice in survey and operations workbooks. The words of the languages whose
+# month names and decimal commas intake reads as well (German, French, Spanish): spreadsheet
+# programs set up in those languages write their booleans so into text files (WAHR/FALSCH,
+# VRAI/FAUX, VERDADERO/FALSO).
+FLAG_TRUE: tuple[str, ...] = (
+    "yes", "y", "true", "1", "ja", "wahr", "oui", "vrai", "sí", "si", "verdadero",
+)  # fmt: skip
 # marks a person ticks a box with (common spreadsheet practice); a column of one of them beside
 # blank cells is a yes/no column whose blanks mean no
 CHECK_MARKS: tuple[str, ...] = ("x", "\u2713", "\u2714", "\u2611", "\u221a")
-FLAG_FALSE: tuple[str, ...] = ("no", "n", "false", "0")
+FLAG_FALSE: tuple[str, ...] = ("no", "n", "false", "0", "nein", "falsch", "non", "faux", "falso")
 
 # The error values spreadsheet programs show in a cell (common practice; the same seven in every
 # major spreadsheet program, plus #GETTING_DATA and #SPILL!/#CALC! from newer versions).

@@ -33,6 +33,8 @@ _POINT_DECIMAL = re.compile(r"[+-]?(\d{1,3}(,\d{3})+\.\d+|\d*\.(\d{1,2}|\d{4,}))
 @dataclass
 class DelimitedText:
     rows: list[list[str]]
+    # fields on each line as written, before padding (an empty last field still counts)
+    field_counts: list[int]
     encoding: str
     delimiter: str
     decimal: str
@@ -105,8 +107,9 @@ def read_delimited(path: Path) -> DelimitedText:
         raise InputProblem(
             f"file '{path}' could not be read as delimited text ({exc})", place
         ) from exc
-    width = max((len(r) for r in rows), default=0)
+    field_counts = [len(r) for r in rows]
+    width = max(field_counts, default=0)
     # whitespace-only fields are empty cells
     rows = [[f if f.strip() else "" for f in r] + [""] * (width - len(r)) for r in rows]
     decimal = _sniff_decimal(rows[:500], delimiter)
-    return DelimitedText(rows, encoding, delimiter, decimal)
+    return DelimitedText(rows, field_counts, encoding, delimiter, decimal)

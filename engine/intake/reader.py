@@ -106,6 +106,7 @@ def read_table(
         name, fmt = path.stem, "csv"
         decimal, day_first = text.decimal, text.decimal == ","
         facts_source = None
+        field_counts: list[int] | None = text.field_counts
     else:
         fmt = sniff_format(path)
         if fmt != "xls":
@@ -123,9 +124,20 @@ def read_table(
             book.close()
         decimal, day_first = ".", False
         facts_source = fmt
+        field_counts = None
     progress.step(0.5, "typing the columns")
     table = _build_table(
-        path, fmt, name, infos, rows, header_row, decimal, day_first, facts_source, progress
+        path,
+        fmt,
+        name,
+        infos,
+        rows,
+        header_row,
+        decimal,
+        day_first,
+        facts_source,
+        progress,
+        field_counts=field_counts,
     )
     if fmt == "csv":
         shown = {"\t": "tab", ",": "comma", ";": "semicolon", "|": "vertical bar"}
@@ -195,6 +207,7 @@ def _build_table(
     day_first: bool,
     facts_source: str | None,
     progress: Progress,
+    field_counts: list[int] | None = None,
 ) -> Table:
     place = Place(file=str(path), sheet=sheet)
     where = place.describe()
@@ -203,7 +216,6 @@ def _build_table(
         raise InputProblem(
             f"{where}: the sheet is empty; choose the sheet that holds the data", place
         )
-    lengths = [_used_length(r) for r in rows]  # before padding: a text file's ragged lines
     if any(len(r) != width for r in rows):
         rows = [list(r) + [""] * (width - len(r)) for r in rows]
 
@@ -246,8 +258,8 @@ def _build_table(
         )
         headings = joined
     data_rows = rows[d + 1 :]
-    if fmt == "csv":
-        _ragged_warning(lengths, h, warnings)
+    if field_counts is not None:
+        _ragged_warning(rows, field_counts, h, warnings)
     block: np.ndarray | None = None
     empty: np.ndarray | None = None
     facts: PackageFacts | None = None
@@ -602,11 +614,17 @@ def _used_length(row: list) -> int:
     return n
 
 
-def _ragged_warning(lengths: list[int], h: int, warnings: list[str]) -> None:
-    """Rows of a text file with more or fewer fields than the heading row, named."""
-    width = lengths[h]
-    longer = [i + 1 for i, k in enumerate(lengths) if i > h and k > width]
-    shorter = [i + 1 for i, k in enumerate(lengths) if i > h and 0 < k < width]
+def _ragged_warning(
+    rows: list[list], field_counts: list[int], h: int, warnings: list[str]
+) -> None:
+    """Rows of a text file with more or fewer fields than the heading row, named.
+
+    Against the headings in use: a line that writes its empty last fields (an optional comment
+    left blank, "a;b;") is not short, and only a value beyond the headings makes a line long.
+    """
+    width = _used_length(rows[h])
+    longer = [i + 1 for i, r in enumerate(rows) if i > h and _used_length(r) > width]
+    shorter = [i + 1 for i, k in enumerate(field_counts) if i > h and 0 < k < width]
     for rows, fewer_more, then in (
         (longer, "more", "the extra values are read into columns without a heading"),
         (shorter, "fewer", "the missing ones at the end read as empty"),

@@ -54,6 +54,20 @@ def test_mixed_flag_tokens():
     assert np.isnan(col.values[7]) and col.missing == 1
 
 
+@pytest.mark.parametrize(
+    "yes_no",
+    [("WAHR", "FALSCH"), ("ja", "nein"), ("VRAI", "FAUX"), ("oui", "non"), ("Sí", "No"),
+     ("VERDADERO", "FALSO")],
+)  # fmt: skip
+def test_booleans_written_by_spreadsheet_programs_in_other_languages_are_flags(yes_no):
+    # common practice: a spreadsheet program set up in German, French or Spanish writes TRUE
+    # and FALSE in its language into a text file (WAHR/FALSCH, VRAI/FAUX, VERDADERO/FALSO)
+    yes, no = yes_no
+    col = _col([yes, no, no, yes.lower(), ""])
+    assert col.kind == ColumnKind.FLAG
+    assert col.values[:4].tolist() == [1.0, 0.0, 0.0, 1.0] and col.missing == 1
+
+
 def test_category_versus_identifier():
     labels = ["a", "b"] * 10
     assert _col(labels).kind == ColumnKind.CATEGORY

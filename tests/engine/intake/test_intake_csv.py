@@ -131,3 +131,16 @@ def test_rows_with_more_or_fewer_fields_than_the_headings_are_named(tmp_path):
     assert table.n_rows == 6
     assert any("row 4 has more fields than the 3 of the heading row" in w for w in table.warnings)
     assert any("row 6 has fewer fields than the 3 of the heading row" in w for w in table.warnings)
+
+
+def test_lines_writing_their_empty_last_fields_are_not_called_short(tmp_path):
+    # RFC 4180 section 2: "a;b;" holds three fields, the last one empty; an optional comment
+    # column left blank on most lines is a full record, not a ragged one
+    lines = ["site;units;note"] + [f"S{i};{100 + i};" for i in range(6)]
+    lines[2] = "S1;101;late delivery"
+    lines[4] = "S3;103;;"  # one delimiter too many, but no value beyond the headings
+    path = tmp_path / "notes.csv"
+    path.write_text("\r\n".join(lines) + "\r\n", encoding="utf-8")
+    table = read_table(path)
+    assert table.n_rows == 6
+    assert not any("fields than the" in w for w in table.warnings), table.warnings

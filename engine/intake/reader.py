@@ -614,9 +614,7 @@ def _used_length(row: list) -> int:
     return n
 
 
-def _ragged_warning(
-    rows: list[list], field_counts: list[int], h: int, warnings: list[str]
-) -> None:
+def _ragged_warning(rows: list[list], field_counts: list[int], h: int, warnings: list[str]) -> None:
     """Rows of a text file with more or fewer fields than the heading row, named.
 
     Against the headings in use: a line that writes its empty last fields (an optional comment

@@ -6,6 +6,8 @@ __all__ = ["CAUTIONS", "cautions_html"]
 
 from html import escape
 
+from desktop.messages import window_words
+
 CAUTIONS: tuple[tuple[str, str], ...] = (
     (
         "Chosen is not the same as causing",
@@ -40,6 +42,6 @@ def cautions_html(extra_warnings: list[str] | None = None) -> str:
         parts.append(f"<p><b>{escape(title)}.</b> {escape(text)}</p>")
     if extra_warnings:
         parts.append("<h3>Notes from this run</h3><ul>")
-        parts.extend(f"<li>{escape(w)}</li>" for w in extra_warnings)
+        parts.extend(f"<li>{escape(window_words(w))}</li>" for w in extra_warnings)
         parts.append("</ul>")
     return "\n".join(parts)

@@ -47,7 +47,7 @@ from desktop.about import about_html
 from desktop.column_ledger import ColumnLedger
 from desktop.elided_label import ElidedLabel
 from desktop.engine_calls import EngineCalls, LoadedBook, load_book
-from desktop.messages import UserMessage, describe_failure
+from desktop.messages import UserMessage, describe_failure, window_words
 from desktop.result_view import ResultView
 from desktop.roles import (
     Role,
@@ -126,7 +126,7 @@ _NOTES_SHOWN = 3
 
 def _listed_notes(notes: list[str]) -> str:
     """The first few notes, one per line, then how many more there are."""
-    lines = [f"• {n[:1].upper()}{n[1:]}" for n in notes[:_NOTES_SHOWN]]
+    lines = [f"• {n[:1].upper()}{n[1:]}" for n in map(window_words, notes[:_NOTES_SHOWN])]
     if len(notes) > _NOTES_SHOWN:
         more = len(notes) - _NOTES_SHOWN
         lines.append(f"… and {more} more note{'s' if more > 1 else ''}")

@@ -6,8 +6,9 @@ result in its message strip and, when the engine named a column, next to that co
 
 from __future__ import annotations
 
-__all__ = ["UserMessage", "describe_failure"]
+__all__ = ["UserMessage", "describe_failure", "window_words"]
 
+import re
 from dataclasses import dataclass
 
 from engine.errors import Cancelled, InputProblem, TamisError, WriteProblem
@@ -30,7 +31,10 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
     if isinstance(exc, InputProblem):
         where = exc.place.describe()
         return UserMessage(
-            "problem", _sentence(exc.message), f"Where: {where}." if where else "", exc.place.column
+            "problem",
+            _sentence(window_words(exc.message)),
+            f"Where: {where}." if where else "",
+            exc.place.column,
         )
     if isinstance(exc, WriteProblem):
         return UserMessage(
@@ -39,7 +43,7 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
             "The workbook was left as it was. Close it in other programs and try again.",
         )
     if isinstance(exc, TamisError):
-        return UserMessage("problem", _sentence(exc.message))
+        return UserMessage("problem", _sentence(window_words(exc.message)))
     if isinstance(exc, MemoryError):
         return UserMessage(
             "fault",
@@ -76,3 +80,30 @@ def _sentence(text: str) -> str:
         return text
     text = text[0].upper() + text[1:]
     return text if text.endswith((".", "!", "?")) else text + "."
+
+
+# The engine's advice names the command line's options; in the window it names the setting
+# that does the same (labels of desktop.settings_panel and the role menu), or says that only
+# the command line has the option.
+_WINDOW_WORDS: tuple[tuple[str, str], ...] = (
+    (r"use --folds (\d+) or fewer", r"set 'Parts (folds)' under Run settings to \1 or fewer"),
+    (
+        r"use --missing fill",
+        "set 'Missing values' under Run settings to 'Fill with the median and mark the gap'",
+    ),
+    (r"--folds must", "'Parts (folds)' must"),
+    (r"\(--group COLUMN\)", "(give one column the role 'group')"),
+    (r"\(--time-order COLUMN\)", "(give one column the role 'time order')"),
+    (r": --penalty-ratio\)", ", an option of the command line: tamis fit --penalty-ratio)"),
+    (
+        r"raise the limit, --exact-subset-limit,",
+        "raise the limit with the command line's tamis fit --exact-subset-limit",
+    ),
+)
+
+
+def window_words(text: str) -> str:
+    """An engine message with its command-line advice put as the window's settings."""
+    for pattern, replacement in _WINDOW_WORDS:
+        text = re.sub(pattern, replacement, text)
+    return text

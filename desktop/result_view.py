@@ -239,6 +239,7 @@ class ResultView(QWidget):
                 "Columns kept",
                 "Held-out error",
                 "± SE",
+                "Held-out R squared",
                 "R squared",
                 "Penalty",
                 "Chosen by",
@@ -249,6 +250,8 @@ class ResultView(QWidget):
                 "How many columns have a nonzero coefficient.",
                 "Mean squared error on rows held out during validation (lower is better).",
                 "Standard error of that mean over the validation parts.",
+                "Share of the response's variation predicted on held-out rows: 1 minus the "
+                "held-out error over the response's variance (below 0: worse than the mean).",
                 "Share of the response's variation explained, on the rows used (in-sample; flatters large models).",
                 "The chosen penalty, where the method has one.",
                 "The rule that picked the point.",
@@ -259,8 +262,8 @@ class ResultView(QWidget):
         w = QWidget()
         lay = QVBoxLayout(w)
         note = QLabel(
-            "Compare held-out error, not R squared: R squared on the rows used always favours "
-            "more columns. Penalties are on each method's own scale (the elastic net splits "
+            "Compare held-out error or held-out R squared, not R squared: R squared on the rows "
+            "used always favours more columns. Penalties are on each method's own scale (the elastic net splits "
             "its penalty, the adaptive lasso weights each column), so compare them within a "
             "method only."
         )
@@ -498,6 +501,7 @@ class ResultView(QWidget):
                     len(m.selected),
                     m.cv_error,
                     m.cv_error_se,
+                    m.cv_r2,
                     m.r2,
                     m.penalty,
                     CHOICE_WORDS.get(m.choice or "", m.choice or "–"),

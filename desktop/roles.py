@@ -24,6 +24,7 @@ from dataclasses import dataclass
 from enum import StrEnum
 from typing import Any
 
+from engine.design import mostly_missing
 from engine.intake.table import Column, ColumnKind, Table
 from engine.study_spec import StudySpec
 
@@ -63,11 +64,13 @@ class RoleProblem:
 
 
 def default_roles(table: Table) -> dict[str, Role]:
-    """Numbers, flags, categories and dates start as candidates; identifiers and empties are ignored."""
+    """Numbers, flags, categories and dates start as candidates; identifiers, empties and columns
+    blank in most rows (the engine's rule for candidates not chosen by name) are ignored."""
     roles: dict[str, Role] = {}
     for c in table.columns:
         usable = c.kind in (*_NUMERIC_KINDS, ColumnKind.CATEGORY, ColumnKind.DATE)
-        roles[c.name] = Role.CANDIDATE if usable and not c.constant else Role.IGNORE
+        usable = usable and not c.constant and not mostly_missing(c.missing, table.n_rows)
+        roles[c.name] = Role.CANDIDATE if usable else Role.IGNORE
     return roles
 
 

@@ -266,6 +266,8 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             dropped_columns[c.name] = reason
             warnings.append(f"column '{c.name}' left out: {reason}")
         usable = informative
+        if not explicit:
+            usable = _without_mostly_missing(usable, keep, spec.focal, dropped_columns, warnings)
         for c in usable:
             drop(c.missing_mask(), f"missing in candidate '{c.name}'")
 
@@ -440,6 +442,40 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         category_levels=category_levels,
         warnings=warnings,
     )
+
+
+# a column nobody asked for by name that is blank in more than this share of the rows would
+# cost those rows when rows with a blank are dropped: it is left out instead
+MOSTLY_MISSING_SHARE = 0.5
+
+
+def mostly_missing(missing: int, rows: int) -> bool:
+    """Whether a column blank in ``missing`` of ``rows`` rows is too sparse to be a default candidate."""
+    return rows > 0 and missing > MOSTLY_MISSING_SHARE * rows
+
+
+def _without_mostly_missing(
+    usable: list[Column],
+    keep: np.ndarray,
+    focal: str | None,
+    dropped_columns: dict[str, str],
+    warnings: list[str],
+) -> list[Column]:
+    """Default candidates without those blank in most of the rows still in use (said in a warning)."""
+    n = int(keep.sum())
+    kept = []
+    for c in usable:
+        k = int(c.missing_mask()[keep].sum())
+        if c.name == focal or not mostly_missing(k, n):
+            kept.append(c)
+            continue
+        reason = (
+            f"it is blank in {k} of the {n} rows, which would all be dropped; choose it as a "
+            "candidate by name to use it, best with missing values filled instead of rows dropped"
+        )
+        dropped_columns[c.name] = reason
+        warnings.append(f"column '{c.name}' left out: {reason}")
+    return kept
 
 
 def _only_value_besides_blanks(c: Column, rows: np.ndarray) -> str | None:

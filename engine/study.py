@@ -261,9 +261,17 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
             left_out = (
                 f" ({design.rows_dropped} left out: {drop_reasons_text(design.drop_reasons)})"
             )
+        keep_rows = ""
+        blanks = [why for why in design.drop_reasons if why.startswith("missing in candidate ")]
+        if blanks:  # the rows are there: a sparse candidate took them
+            worst = max(blanks, key=lambda why: design.drop_reasons[why])
+            keep_rows = (
+                f"; to keep the rows, leave out the candidate "
+                f"{worst.removeprefix('missing in candidate ')} or use --missing fill"
+            )
         raise InputProblem(
             f"{n} rows are used in sheet '{design.sheet}'{left_out} but {spec.folds} folds "
-            f"were asked; use --folds {max(2, n // 2)} or fewer, or more rows",
+            f"were asked; use --folds {max(2, n // 2)} or fewer, or more rows{keep_rows}",
             place,
         )
     try:
@@ -316,6 +324,10 @@ class _MethodRunner:
         rss = float(np.sum((d.y - fitted) ** 2))
         tss = float(np.sum((d.y - d.y.mean()) ** 2))
         selected = [nm for nm, b in zip(d.names, coef) if b != 0.0]
+        cv_error = kw.get("cv_error")
+        cv_r2 = None
+        if cv_error is not None and np.isfinite(cv_error) and tss > 0:
+            cv_r2 = 1.0 - float(cv_error) / (tss / d.n_rows)
         return ModelResult(
             method=method,
             intercept=float(intercept),
@@ -323,6 +335,7 @@ class _MethodRunner:
             std_coefficients={nm: float(b * s) for nm, b, s in zip(d.names, coef, d.sds)},
             selected=selected,
             r2=1.0 - rss / tss if tss > 0 else None,
+            cv_r2=cv_r2,
             fitted=fitted,
             **kw,
         )

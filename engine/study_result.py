@@ -66,6 +66,10 @@ class ModelResult:
     cv_error: float | None = None
     cv_error_se: float | None = None
     r2: float | None = None  # in-sample R squared on the rows used
+    # 1 - cv_error / the response's mean squared deviation on the rows used: the share of
+    # variation predicted on held-out rows (predictive R squared, common practice); unlike r2
+    # it falls, and can go below 0, when a model fits noise
+    cv_r2: float | None = None
     fitted: np.ndarray | None = None  # (n,) in-sample predictions
     path: PenaltyPath | None = None
     curve: ValidationCurve | None = None  # validation over penalties or sizes
@@ -88,6 +92,7 @@ class ModelResult:
             "selected": list(self.selected),
             "by_size": [r.to_json() for r in self.by_size] if self.by_size is not None else None,
             "r2": _num(self.r2),
+            "cv_r2": _num(self.cv_r2),
             "approximate": self.approximate,
             "notes": list(self.notes),
         }

@@ -53,12 +53,13 @@ def summary_text(result) -> str:
         + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
-        f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'kept':>6}{'R2':>8}",
+        f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'cv R2':>8}{'kept':>6}"
+        f"{'R2':>8}",
     ]
     for m in result.models:
         lines.append(
             f"{m.method:<18}{_fmt(m.penalty):>11}{_fmt(m.cv_error):>12}{_fmt(m.cv_error_se, 3):>11}"
-            f"{len(m.selected):>6}{_fmt(m.r2, 3):>8}"
+            f"{_fmt(m.cv_r2, 3):>8}{len(m.selected):>6}{_fmt(m.r2, 3):>8}"
             + ("  (approximate search)" if m.approximate else "")
         )
     for m in result.models:

@@ -35,3 +35,57 @@ def test_unexpected_failure_names_the_type_and_where_the_details_went(tmp_path):
     )
     log = tmp_path / "config" / "tamis-error.log"  # TAMIS_CONFIG_DIR of this test
     assert str(log) in msg.detail and "1 / 0" in log.read_text()
+
+
+def test_engine_advice_names_the_window_settings_not_command_line_options(qtbot):
+    # the engine's refusals advise with the command line's options; the window must name the
+    # setting a desktop user can change, with the labels the settings panel really shows
+    from pathlib import Path
+
+    import numpy as np
+    from PySide6.QtWidgets import QLabel
+
+    from desktop.messages import window_words
+    from desktop.settings_panel import SettingsPanel
+    from engine.design import build_design
+    from engine.intake.table import Column, ColumnKind, Table
+    from engine.study_spec import StudySpec
+
+    def num(name, values):
+        v = np.asarray(values, dtype=float)
+        return Column(name=name, heading=name, letter="A", kind=ColumnKind.NUMBER, values=v)
+
+    table = Table(
+        source=Path("book.xlsx"),
+        sheet="Data",
+        sheets=[],
+        header_row=1,
+        columns=[num("y", [1, 2, 3, 4, 5]), num("x", [1, np.nan, np.nan, np.nan, 2])],
+        row_numbers=np.arange(2, 7),
+    )
+    spec = StudySpec(source="book.xlsx", response="y", candidates=("x",))
+    try:
+        build_design(table, spec)
+        raise AssertionError("two rows left must be refused")
+    except InputProblem as exc:
+        assert "--missing fill" in exc.message  # the command line's advice
+        shown = describe_failure(exc).headline
+    panel = SettingsPanel()
+    qtbot.addWidget(panel)
+    labels = {lab.text() for lab in panel.widget().findChildren(QLabel)}
+    assert "--" not in shown and "'Missing values'" in shown
+    assert "Missing values" in labels
+    assert "Fill with the median and mark the gap" in shown
+    assert panel.missing.findText("Fill with the median and mark the gap") >= 0
+    folds = window_words("10 rows are used but 20 folds were asked; use --folds 5 or fewer")
+    assert folds.endswith("set 'Parts (folds)' under Run settings to 5 or fewer")
+    assert "Parts (folds)" in labels
+    for text in (
+        "grouped folds need a group column (--group COLUMN)",
+        "time-ordered folds need a time-order column (--time-order COLUMN)",
+        "--folds must be at least 2 (got 1)",
+        "a wider grid (a smaller penalty ratio: --penalty-ratio) may fit better",
+        "(raise the limit, --exact-subset-limit, to search exactly; the time can grow quickly)",
+    ):
+        out = window_words(text)
+        assert out != text and ("--" not in out or "command line" in out), out

@@ -27,6 +27,26 @@ def test_default_roles_follow_the_detected_kinds():
             assert roles[c.name] is Role.CANDIDATE
 
 
+def test_a_column_blank_in_most_rows_starts_ignored_like_the_engine_default():
+    # the engine leaves a default candidate blank in most rows out (engine.design
+    # MOSTLY_MISSING_SHARE); the window's starting roles follow the same rule
+    import dataclasses
+
+    import numpy as np
+
+    t = simulated_table()
+    x3 = t.column("x3")
+    sparse = x3.values.copy()
+    sparse[: len(sparse) // 2 + 1] = np.nan
+    half = x3.values.copy()
+    half[: len(half) // 2] = np.nan
+    t.columns[t.columns.index(x3)] = dataclasses.replace(x3, values=sparse, missing=41)
+    x4 = t.column("x4")
+    t.columns[t.columns.index(x4)] = dataclasses.replace(x4, values=half, missing=40)
+    roles = default_roles(t)
+    assert roles["x3"] is Role.IGNORE and roles["x4"] is Role.CANDIDATE
+
+
 def test_no_response_blocks_the_run_with_a_general_message():
     t = simulated_table()
     problems = check_roles(t, default_roles(t))

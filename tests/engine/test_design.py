@@ -143,6 +143,36 @@ def test_a_column_with_one_value_besides_blanks_costs_no_rows(column):
     assert not any("exact copy" in w for w in filled.warnings)
 
 
+def test_a_default_candidate_blank_in_most_rows_is_left_out_unless_named():
+    # common practice (listwise deletion): dropping the rows where a candidate is blank is the
+    # default; a column nobody named that is blank in most rows would cost most of the data, so
+    # it is left out with a warning, while a column the user named keeps its rows' cost
+    y = [1, 2, 3, 4, 5, 7, 6, 8]
+    x = [1, 3, 2, 5, 4, 6, 8, 7]
+    sparse = [2.0, 5.0, 1.0, np.nan, np.nan, np.nan, np.nan, np.nan]  # blank in 5 of 8
+    half = [2.0, 5.0, 1.0, 4.0, np.nan, np.nan, np.nan, np.nan]  # blank in 4 of 8: kept
+    t = _table(
+        _col("y", ColumnKind.NUMBER, y),
+        _col("x", ColumnKind.NUMBER, x, "B"),
+        _col("sparse", ColumnKind.NUMBER, sparse, "C"),
+        _col("half", ColumnKind.NUMBER, half, "D"),
+    )
+    d = build_design(t, _spec())
+    assert d.names == ["x", "half"] and d.n_rows == 4
+    assert any("'sparse' left out: it is blank in 5 of the 8 rows" in w for w in d.warnings)
+    named = build_design(t, _spec(candidates=("x", "sparse")))
+    assert named.names == ["x", "sparse"] and named.n_rows == 3
+    filled = build_design(t, _spec(missing="fill"))  # filling costs no rows: nothing left out
+    assert "sparse" in filled.names and filled.n_rows == 8
+    # the share is taken on the rows with a response: blank responses do not count
+    t2 = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 5, np.nan, np.nan, np.nan]),
+        _col("x", ColumnKind.NUMBER, [1, 3, 2, 5, 4, 6, 7], "B"),
+        _col("z", ColumnKind.NUMBER, [4.0, 1.0, 3.0, np.nan, np.nan, np.nan, np.nan], "C"),
+    )  # z is blank in 4 of the 7 rows but in 1 of the 4 with a response
+    assert build_design(t2, _spec()).names == ["x", "z"]
+
+
 def test_exact_duplicate_columns_are_reported():
     t = _table(
         _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),

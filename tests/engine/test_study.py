@@ -92,6 +92,25 @@ def test_fit_json_contract_and_truth_recovered(tmp_path):
     assert any("extrapolation" in c for c in doc["cautions"])
 
 
+def test_cross_validated_r_squared_of_least_squares_is_the_press_statistic(tmp_path):
+    # predictive R squared = 1 - PRESS / total sum of squares (common practice); with one row
+    # held out at a time, least squares' held-out residuals are statsmodels' resid_press
+    # (general-purpose reference library), e_i / (1 - h_ii)
+    import statsmodels.api as sm
+
+    X, y, _ = _sparse_problem(n=30, p=4, seed=2)
+    book = _write_csv(tmp_path / "loo.csv", X, y)
+    argv = ["fit", str(book), "--response", "y", "--json", "--methods", "ols,lasso"]
+    code, out, err = _fit(argv + ["--scheme", "loo"], tmp_path)
+    assert code == 0, err
+    ols, lasso = json.loads(out)["models"]
+    press = sm.OLS(y, sm.add_constant(X)).fit().get_influence().resid_press
+    tss = float(np.sum((y - y.mean()) ** 2))
+    assert ols["cv_r2"] == pytest.approx(1.0 - float(np.sum(press**2)) / tss, rel=1e-10)
+    assert ols["cv_r2"] < ols["r2"]  # held-out rows are predicted worse than fitted ones
+    assert lasso["cv_r2"] == pytest.approx(1.0 - lasso["cv_error"] / (tss / 30), rel=1e-12)
+
+
 def test_same_seed_same_output_to_the_last_digit(tmp_path):
     X, y, _ = _sparse_problem(seed=3)
     book = _write_csv(tmp_path / "sim.csv", X, y)
@@ -160,9 +179,15 @@ def test_too_few_rows_for_the_folds_says_where_the_rows_went(tmp_path):
     X, y, _ = _sparse_problem(n=20, p=3)
     sparse = [str(i) if i % 4 == 0 else "" for i in range(20)]
     book = _write_csv(tmp_path / "s.csv", X, y, ["x1", "x2", "x3"], {"sparse": sparse})
-    code, out, err = _fit(["fit", str(book), "--response", "y", "--methods", "lasso"], tmp_path)
+    argv = ["fit", str(book), "--response", "y", "--methods", "lasso"]
+    code, out, err = _fit(argv + ["--candidates", "x1", "x2", "x3", "sparse"], tmp_path)
     assert code == 2, err
     assert "15 left out: missing in candidate 'sparse': 15" in err and "10 folds" in err
+    assert "to keep the rows, leave out the candidate 'sparse' or use --missing fill" in err
+    # not named, a candidate blank in most rows is left out instead (with a warning)
+    code, out, err = _fit(argv, tmp_path)
+    assert code == 0, err
+    assert "column 'sparse' left out: it is blank in 15 of the 20 rows" in out + err
 
 
 def test_progress_is_monotone_and_cancel_stops_the_run(tmp_path):

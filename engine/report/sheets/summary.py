@@ -90,6 +90,7 @@ def write(book, ws, result, fm: Formats) -> None:
         "Name",
         "Cross-validated error",
         "Its standard error",
+        "Cross-validated R squared",
         "Columns kept",
         "In-sample R squared",
         "Penalty",
@@ -105,18 +106,19 @@ def write(book, ws, result, fm: Formats) -> None:
         text(ws, r, 1, m.method)
         number(ws, r, 2, m.cv_error)
         number(ws, r, 3, m.cv_error_se)
-        number(ws, r, 4, len(m.selected))
-        number(ws, r, 5, m.r2)
-        number(ws, r, 6, m.penalty)
+        number(ws, r, 4, m.cv_r2)
+        number(ws, r, 5, len(m.selected))
+        number(ws, r, 6, m.r2)
+        number(ws, r, 7, m.penalty)
         if m.choice:
-            text(ws, r, 7, m.choice)
+            text(ws, r, 8, m.choice)
         notes = list(m.notes)
         if m.approximate:
             notes.insert(0, "approximate search")
         if m.method == best:
             notes.insert(0, "used on the scoring sheet")
         if notes:
-            text(ws, r, 8, "; ".join(notes))
+            text(ws, r, 9, "; ".join(notes))
         r += 1
     if result.focal is not None:
         f = result.focal

@@ -15,6 +15,7 @@ from __future__ import annotations
 __all__ = [
     "FLAG_TRUE",
     "FLAG_FALSE",
+    "MISSING_WORDS",
     "CHECK_MARKS",
     "ERROR_VALUES",
     "column_letter",
@@ -44,6 +45,10 @@ FLAG_TRUE: tuple[str, ...] = (
 # marks a person ticks a box with (common spreadsheet practice); a column of one of them beside
 # blank cells is a yes/no column whose blanks mean no
 CHECK_MARKS: tuple[str, ...] = ("x", "\u2713", "\u2714", "\u2611", "\u221a")
+# texts people type for a value that is missing (lower case; common spreadsheet practice)
+MISSING_WORDS = frozenset(
+    "n/a na n.a. - -- \u2013 \u2014 ? missing none null nan tbd tba tbc pending unknown".split()
+)
 FLAG_FALSE: tuple[str, ...] = ("no", "n", "false", "0", "nein", "falsch", "non", "faux", "falso")
 
 # The error values spreadsheet programs show in a cell (common practice; the same seven in every

@@ -42,6 +42,7 @@ from engine.intake.cells import (
     ERROR_VALUES,
     FLAG_FALSE,
     FLAG_TRUE,
+    MISSING_WORDS,
     cell_name,
     counted,
     decimal_mark_votes,
@@ -465,6 +466,12 @@ def _classify_mixed(
     counts = np.bincount(codes, minlength=_CODES)
     n_errors = int(counts[_ERROR])
     usable = m - int(counts[_MISSING] + counts[_ERROR] + counts[_NOFORMULA])
+    # a typed placeholder ("n/a", "-", "missing") is not evidence against a number, date or
+    # yes/no column: the shares that decide the kind leave it out (it is read as missing there)
+    placeholders = {u for u in unique if info[u][0] == _TEXT and u.strip().lower() in MISSING_WORDS}
+    decisive = usable
+    if placeholders:
+        decisive -= sum(1 for v in present if type(v) is str and v in placeholders)
     empty_cells = n - m + int(counts[_MISSING])
     notes: list[str] = []
     if n_errors:
@@ -543,7 +550,7 @@ def _classify_mixed(
     n_dates = int(counts[_DATE] + counts[_TEXT_DATE])
     numbers_ok = not (any_code and counts[_NUMBER] == 0)
 
-    if n_words and n_flaglike >= _share(usable):
+    if n_words and n_flaglike >= _share(decisive):
         keep = ~np.isnan(flags)
         bad = unusable_note(keep, "yes/no values")
         values = np.full(n, np.nan)
@@ -551,7 +558,7 @@ def _classify_mixed(
         col = Column(name, heading, letter, ColumnKind.FLAG, values)
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, np.unique(flags[keep]))
-    elif numbers_ok and n_numeric and n_numeric >= _share(usable):
+    elif numbers_ok and n_numeric and n_numeric >= _share(decisive):
         keep = np.isin(
             codes, (_NUMBER, _TEXT_NUMBER, _TEXT_LIMIT) + ((_TEXT_UNIT,) if one_unit else ())
         )
@@ -606,7 +613,7 @@ def _classify_mixed(
                 f"number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} '{shown[first]}')"
                 + (f", {mark_note}" if mark_note else "")
             )
-    elif n_dates and n_dates >= _share(usable):
+    elif n_dates and n_dates >= _share(decisive):
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
         bad = unusable_note(keep, "dates")
         values = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
@@ -653,9 +660,9 @@ def _classify_mixed(
             ]
         if len(units) > 1 and counts[_TEXT_UNIT] >= usable / 2:
             notes.append(_several_units_note(units))
-        elif n_numeric and n_numeric > usable / 2:
+        elif n_numeric and n_numeric > decisive / 2:
             notes.append(
-                f"{n_numeric} of {usable} values are numbers, too few for a number column "
+                f"{n_numeric} of {decisive} values are numbers, too few for a number column "
                 f"(needs {int(DOMINANT_SHARE * 100)}%); read as text"
             )
     col.errors = n_errors

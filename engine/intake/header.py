@@ -27,7 +27,7 @@ __all__ = ["detect_header_row", "sub_heading_row", "join_sub_heading", "cell_key
 import datetime as dt
 import math
 
-from engine.intake.cells import ERROR_VALUES, parse_number_text
+from engine.intake.cells import ERROR_VALUES, MISSING_WORDS, parse_number_text
 from engine.intake.text_dates import looks_like_date
 
 SCAN_ROWS = 60
@@ -129,10 +129,6 @@ def _above_partial_row(rows: list[list], i: int) -> int:
 
 # rows below the headings looked at to tell number columns from text ones
 _SUB_SCAN_ROWS = 200
-# texts that stand for a missing value, not for a name
-_MISSING_WORDS = frozenset(
-    "n/a na n.a. - -- \u2013 \u2014 ? missing none null nan tbd tba tbc pending unknown".split()
-)
 
 
 def _is_value(value: object) -> bool:
@@ -168,7 +164,7 @@ def sub_heading_row(rows: list[list], h: int) -> bool:
             continue
         filled += 1
         key = str(value).strip().casefold()
-        if not _is_word(value) or key in _MISSING_WORDS:
+        if not _is_word(value) or key in MISSING_WORDS:
             return False
         column = [r[j] for r in below if j < len(r) and _filled(r[j]) and r[j] is not None]
         if any(isinstance(x, str) and x.strip().casefold() == key for x in column):

@@ -68,6 +68,22 @@ def test_booleans_written_by_spreadsheet_programs_in_other_languages_are_flags(y
     assert col.values[:4].tolist() == [1.0, 0.0, 0.0, 1.0] and col.missing == 1
 
 
+def test_typed_placeholders_do_not_count_against_a_number_column():
+    # common practice: "n/a", "-", "missing" mark an absent value; in a short column of new rows
+    # (3 numbers and one "n/a": 75%, under the 80% share) they must not turn numbers into text
+    col = _col([22.0, 18.0, 45.0, "n/a"])
+    assert col.kind == ColumnKind.NUMBER and col.missing == 1
+    assert col.values[:3].tolist() == [22.0, 18.0, 45.0] and np.isnan(col.values[3])
+    dates = _col([dt.date(2024, 1, 2), dt.date(2024, 1, 3), "-", "missing", dt.date(2024, 1, 9)])
+    assert dates.kind == ColumnKind.DATE and dates.missing == 2
+    assert _col(["yes", "no", "unknown", "?"]).kind == ColumnKind.FLAG
+    # a real word among the numbers still counts against them
+    assert _col([22.0, 18.0, 45.0, "broken"]).kind != ColumnKind.NUMBER
+    # in a column of labels a placeholder stays a label
+    labels = _col(["red", "n/a", "blue", "red", "n/a", "blue"])
+    assert labels.kind == ColumnKind.CATEGORY and "n/a" in labels.levels
+
+
 def test_category_versus_identifier():
     labels = ["a", "b"] * 10
     assert _col(labels).kind == ColumnKind.CATEGORY

@@ -702,10 +702,15 @@ class _MethodRunner:
             choose=spec.choose,
             progress=progress,
             workers=spec.workers,
+            groups=d.groups,
+            parts=self.parts,  # a cross-validated penalty uses the study's own folds
         )
         for note in ds.notes:
             self.notes.append(f"double selection: {note}")
-        return ds.to_focal(d.names[j], [d.names[i] for i in controls])
+        found = ds.to_focal(d.names[j], [d.names[i] for i in controls])
+        if d.groups is not None:
+            found.covariance = f"CR1, clustered by '{spec.group}'"
+        return found
 
     def stability(self, progress: Progress):
         from engine.fitting.stability import stability_selection

@@ -107,7 +107,7 @@ class FocalResult:
 
     column: str
     estimate: float
-    std_error: float  # heteroskedasticity-robust (HC1 unless stated)
+    std_error: float  # robust: HC1, or CR1 clustered by the group column when there is one
     ci_low: float
     ci_high: float
     controls: list[str]  # union used in the final least-squares fit

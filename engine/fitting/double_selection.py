@@ -23,6 +23,13 @@ psi~_j = psi_j / sd_j = sqrt((1/n) sum_i z_ij^2 e_i^2). So we pass penalty facto
 single penalty lambda_ours = lambda / (2n) * sum(psi~) / m, which after the rescaling of the
 factors is exactly lambda/(2n) * psi~_j per column. The intercept is not penalized in either.
 
+Rows in groups (a group column: households of one district): errors within a group may move
+together, so the final standard error is cluster-robust (CR1, engine.fitting.post_selection).
+The controls are still chosen with the row-wise loadings above. Loadings summed within groups
+first were tried: with a few large groups they grow with the group size for exactly the
+columns that explain the first residual, so those were penalized out (on a 400-row, 12-group
+sheet no control was kept and the effect was confounded).
+
 The naive single-selection estimate shown for contrast: one lasso of y on d and W with d
 left unpenalized (plug-in loadings of the y equation for W), then least squares of y on d and
 the controls it kept.
@@ -47,7 +54,7 @@ from scipy.stats import norm
 
 from engine.errors import InputProblem
 from engine.fitting.coordinate import elastic_net_path, path_penalties
-from engine.fitting.post_selection import robust_ols
+from engine.fitting.post_selection import FEW_GROUPS, robust_ols
 from engine.progress import Progress, silent
 from engine.study_result import FocalResult
 from engine.tuning.crossval import fit_and_validate, shared_cross_products
@@ -130,17 +137,16 @@ def plugin_lasso(
         selected = np.flatnonzero((beta != 0) | free)
         if change < _LOADING_TOL:
             break
-        resid = robust_ols(X, u, selected).residuals  # post-lasso residuals
+        resid = robust_ols(X, u, selected).residuals  # post-lasso residuals (no errors needed)
     return PluginLasso(selected, beta, float(penalty), lam, psi, iterations)
 
 
-def _cv_lasso(X, u, unpenalized, folds, seed, choose, workers, progress):
+def _cv_lasso(X, u, unpenalized, parts, choose, workers, progress):
     n, m_all = X.shape
     v = None
     if unpenalized is not None:
         v = np.ones(m_all)
         v[np.asarray(unpenalized, dtype=int)] = 0.0
-    parts = make_folds(n, "kfold", folds, seed)
     shared = shared_cross_products(X, u, parts)
     grid = path_penalties(X, u, 1.0, penalty_factors=v, shared=shared)
 
@@ -213,11 +219,15 @@ def double_selection(
     level: float = 0.95,
     progress: Progress | None = None,
     workers: int | None = 1,
+    groups: np.ndarray | None = None,
+    parts: list[tuple[np.ndarray, np.ndarray]] | None = None,
 ) -> DoubleSelection:
     """Effect of the focal column d on y with controls W chosen by double selection (BCH 2014).
 
     y: (n,), d: (n,), W: (n, m) candidate controls in original units. penalty: "plugin"
-    (module docstring) or "cv" (``folds``-fold cross-validation with ``seed`` and ``choose``).
+    (module docstring) or "cv" (cross-validation over ``parts``, by default ``folds`` shuffled
+    folds with ``seed``; ``choose`` picks the penalty). groups: (n,) labels of rows whose errors
+    may move together: a cluster-robust standard error (``cov_type`` becomes CR1).
     The interval is estimate +- Phi^-1(1 - (1 - level)/2) * robust standard error.
     """
     if penalty not in PENALTY_RULES:
@@ -240,6 +250,10 @@ def double_selection(
             "the focal column has the same value in every row; its effect cannot be estimated"
         )
     m = W.shape[1]
+    if groups is not None:
+        cov_type = "CR1"
+    if penalty == "cv" and parts is None:
+        parts = make_folds(n, "kfold", folds, seed)
     DW = np.column_stack([d, W])
     penalties: dict[str, float] = {}
     empty = np.zeros(0, dtype=int)
@@ -252,7 +266,7 @@ def double_selection(
             fit = plugin_lasso(X, u, unpenalized=unpen, progress=sub)
             penalties[step] = fit.penalty
             return fit.selected
-        sel, lam = _cv_lasso(X, u, unpen, folds, seed, choose, workers, sub)
+        sel, lam = _cv_lasso(X, u, unpen, parts, choose, workers, sub)
         penalties[step] = lam
         return sel
 
@@ -265,8 +279,16 @@ def double_selection(
     naive_controls = np.array([j - 1 for j in naive_sel if j != 0], dtype=int)
     union = np.union1d(a, b).astype(int)
     z = float(norm.ppf(1.0 - (1.0 - level) / 2.0))
-    final = robust_ols(DW, y, np.concatenate([[0], union + 1]), cov_type)
-    naive = robust_ols(DW, y, np.concatenate([[0], naive_controls + 1]), cov_type)
+    final = robust_ols(DW, y, np.concatenate([[0], union + 1]), cov_type, groups)
+    naive = robust_ols(DW, y, np.concatenate([[0], naive_controls + 1]), cov_type, groups)
+    notes = list(final.notes)
+    n_groups = 0 if groups is None else len(np.unique(np.asarray(groups)))
+    if 0 < n_groups < FEW_GROUPS:
+        notes.append(
+            f"the standard error allows for errors moving together within each of the "
+            f"{n_groups} groups; with fewer than about {FEW_GROUPS} groups such standard errors "
+            "tend to be too small, so read the interval as rough"
+        )
     est, se = float(final.coefs[0]), float(final.std_errors[0])
     progress.step(1.0, "double selection done")
     return DoubleSelection(
@@ -283,5 +305,5 @@ def double_selection(
         naive_std_error=float(naive.std_errors[0]),
         naive_controls=naive_controls,
         penalties=penalties,
-        notes=list(final.notes),
+        notes=notes,
     )

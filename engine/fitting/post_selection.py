@@ -9,6 +9,11 @@ Standard errors use the sandwich covariance (White 1980, Econometrica 48(4)):
 with X the refit columns plus the intercept column, e_i the residuals, h_i the leverages and
     HC1: w_i = e_i^2 * n / (n - k)          (MacKinnon & White 1985; k columns incl. intercept)
     HC3: w_i = e_i^2 / (1 - h_i)^2          (MacKinnon & White 1985, J. Econometrics 29(3))
+When rows come in groups (a column marked as group: households of one district, lots of one
+supplier), errors of one group may move together and the meat sums within each group first
+(cluster-robust, Liang & Zeger 1986, Biometrika 73(1)):
+    CR1: X' diag(w) X -> c * sum_g (X_g'e_g)(X_g'e_g)',  c = G/(G - 1) * (n - 1)/(n - k)
+with G groups (the small-sample factor most statistics packages apply).
 """
 
 from __future__ import annotations
@@ -21,7 +26,11 @@ import numpy as np
 
 from engine.errors import InputProblem
 
-COV_TYPES = ("HC1", "HC3")
+COV_TYPES = ("HC1", "HC3", "CR1")
+# fewer groups than this make cluster-robust standard errors unreliable (common practice: they
+# are built from one score per group; Cameron & Miller 2015, J. Human Resources 50(2), review
+# how they understate with few groups)
+FEW_GROUPS = 40
 
 SELECTION_CAUTION = (
     "Standard errors after selection treat the chosen columns as if they had been fixed before "
@@ -61,14 +70,22 @@ class RobustFit:
         return float(self.residuals @ self.residuals)
 
 
-def robust_ols(X: np.ndarray, y: np.ndarray, columns=None, cov_type: str = "HC1") -> RobustFit:
-    """Ordinary least squares of y on an intercept and ``X[:, columns]`` with HC1/HC3 errors.
+def robust_ols(
+    X: np.ndarray,
+    y: np.ndarray,
+    columns=None,
+    cov_type: str = "HC1",
+    groups: np.ndarray | None = None,
+) -> RobustFit:
+    """Ordinary least squares of y on an intercept and ``X[:, columns]`` with HC1/HC3/CR1 errors.
 
-    X: (n, p) float; y: (n,) float; columns: indices (default all). Solved by a QR
-    factorization of the design (no normal equations).
+    X: (n, p) float; y: (n,) float; columns: indices (default all); groups: (n,) labels, needed
+    by CR1 only. Solved by a QR factorization of the design (no normal equations).
     """
     if cov_type not in COV_TYPES:
         raise InputProblem(f"unknown covariance '{cov_type}'; choose from {', '.join(COV_TYPES)}")
+    if (cov_type == "CR1") != (groups is not None):
+        raise InputProblem("cluster-robust (CR1) standard errors need the group of every row")
     X = np.asarray(X, dtype=float)
     y = np.asarray(y, dtype=float).ravel()
     if X.ndim != 2 or X.shape[0] != y.shape[0]:
@@ -102,7 +119,19 @@ def robust_ols(X: np.ndarray, y: np.ndarray, columns=None, cov_type: str = "HC1"
         if df_resid <= 0:
             notes.append("no residual degrees of freedom; standard errors are not available")
         else:
-            if cov_type == "HC1":
+            w: np.ndarray | None = None  # the rows' weights of the HC meat
+            if cov_type == "CR1":
+                assert groups is not None
+                _, g = np.unique(np.asarray(groups), return_inverse=True)
+                n_groups = int(g.max()) + 1
+                if n_groups < 2:
+                    notes.append("all rows are in one group; standard errors are not available")
+                else:
+                    scores = np.zeros((n_groups, k))  # Q_g' e_g, one row per group
+                    np.add.at(scores, g.ravel(), Q * resid[:, None])
+                    factor = n_groups / (n_groups - 1) * (n - 1) / df_resid
+                    cov = Rinv @ (factor * (scores.T @ scores)) @ Rinv.T
+            elif cov_type == "HC1":
                 w = resid**2 * (n / df_resid)
             else:
                 if np.any(leverage >= _LEVERAGE_ONE):
@@ -110,7 +139,6 @@ def robust_ols(X: np.ndarray, y: np.ndarray, columns=None, cov_type: str = "HC1"
                         "a row has leverage 1 (it alone determines a coefficient); "
                         "HC3 standard errors are not available"
                     )
-                    w = None
                 else:
                     w = resid**2 / (1.0 - leverage) ** 2
             if w is not None:
@@ -154,7 +182,13 @@ class PostLasso:
     notes: list[str] = field(default_factory=list)
 
 
-def post_lasso(X: np.ndarray, y: np.ndarray, selected_idx, cov_type: str = "HC1") -> PostLasso:
+def post_lasso(
+    X: np.ndarray,
+    y: np.ndarray,
+    selected_idx,
+    cov_type: str = "HC1",
+    groups: np.ndarray | None = None,
+) -> PostLasso:
     """OLS on the columns ``selected_idx`` chose (Belloni & Chernozhukov 2013) with HC errors.
 
     X: (n, p); y: (n,); selected_idx: indices or a boolean mask of length p (e.g. the nonzero
@@ -171,7 +205,7 @@ def post_lasso(X: np.ndarray, y: np.ndarray, selected_idx, cov_type: str = "HC1"
     sel = np.unique(sel.astype(int))
     if sel.size and (sel.min() < 0 or sel.max() >= p):
         raise InputProblem(f"selected column indices must lie in 0..{p - 1}")
-    fit = robust_ols(X, y, sel, cov_type)
+    fit = robust_ols(X, y, sel, cov_type, groups)
     coefs = np.zeros(p)
     coefs[sel] = fit.coefs
     se = np.full(p, np.nan)

@@ -255,6 +255,52 @@ def test_subset_methods_focal_and_stability_reach_the_json(tmp_path):
     assert doc["stability"]["runs"] == 20 and doc["stability"]["shares"]["x1"] >= 0.6
 
 
+def test_focal_effect_with_a_group_column_uses_clustered_errors_and_the_grouped_folds(tmp_path):
+    # simulated rows in 30 groups (stated as such). Source: statsmodels OLS(...).fit(
+    # cov_type="cluster") (reference library) for the standard error; the cross-validated
+    # penalty must come from the study's own grouped folds, not from shuffled rows
+    import statsmodels.api as sm
+
+    from engine.design import build_design
+    from engine.fitting.double_selection import double_selection
+    from engine.intake import read_table
+    from engine.tuning.folds import make_folds
+
+    rng = np.random.default_rng(4)
+    n, p, n_groups = 180, 10, 30
+    g = np.arange(n) % n_groups
+    X = rng.normal(size=(n, p)) + rng.normal(size=(n_groups, p))[g]
+    d = 0.8 * X[:, 0] + rng.normal(size=n_groups)[g] + rng.normal(size=n)
+    y = 2.0 * X[:, 0] - X[:, 3] + 0.7 * d + rng.normal(size=n_groups)[g] + rng.normal(size=n)
+    extra = {"d": d, "site": [f"site{k:02d}" for k in g]}
+    book = _write_csv(tmp_path / "g.csv", X, y, extra=extra)
+    spec = StudySpec(
+        source=str(book), response="y", methods=("lasso",), folds=5, scheme="grouped", group="site",
+        focal="d", focal_penalty="cv",
+    )  # fmt: skip
+    result = run_study(spec)
+    focal = result.focal
+    assert focal.covariance == "CR1, clustered by 'site'"
+    assert any("30 groups" in w and "rough" in w for w in result.warnings)
+    design = build_design(read_table(book), spec)
+    j = design.names.index("d")
+    controls = [i for i in range(design.n_cols) if i != j]
+    parts = make_folds(design.n_rows, "grouped", 5, 0, groups=design.groups)
+    same = double_selection(
+        design.y, design.X[:, j], design.X[:, controls], penalty="cv", groups=design.groups,
+        parts=parts,
+    )  # fmt: skip
+    assert focal.estimate == pytest.approx(same.estimate, rel=1e-12)
+    shuffled = double_selection(
+        design.y, design.X[:, j], design.X[:, controls], penalty="cv", folds=5,
+        groups=design.groups,
+    )  # fmt: skip
+    assert shuffled.penalties != same.penalties  # the folds do matter to the penalties
+    A = sm.add_constant(np.column_stack([design.X[:, j], design.X[:, same.controls]]))
+    ref = sm.OLS(design.y, A).fit(cov_type="cluster", cov_kwds={"groups": design.groups})
+    assert focal.std_error == pytest.approx(ref.bse[1], rel=1e-9)
+
+
 def test_column_names_are_matched_ignoring_case_and_spacing_and_typos_are_refused(tmp_path):
     # a name typed as " Y" or "X2" means the sheet's "y" and "x2"; an exclusion that names no
     # column is a typo to report, not to ignore

@@ -46,7 +46,9 @@ ROLE_HELP: dict[Role, str] = {
     Role.RESPONSE: "The column to explain and predict (exactly one).",
     Role.FOCAL: "The column whose own effect you want, with controls chosen by double selection "
     "(at most one).",
-    Role.GROUP: "Rows sharing a value here stay together in one validation part (at most one).",
+    Role.GROUP: "Rows sharing a value here stay together in one validation part, and the standard "
+    "errors of the focal effect and of least squares after the lasso allow for their errors moving "
+    "together (at most one).",
     Role.TIME_ORDER: "Dates or sequence numbers; validation trains on the past and checks on "
     "the next block (at most one).",
 }

@@ -94,7 +94,8 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument(
         "--group",
         metavar="COLUMN",
-        help="rows sharing this column's value stay in one fold (implies --scheme grouped)",
+        help="rows sharing this column's value stay in one fold (implies --scheme grouped); "
+        "standard errors of the focal effect and of post-lasso are clustered by it",
     )
     f.add_argument(
         "--time-order",

@@ -293,6 +293,11 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
         ) from None
 
 
+def _covariance_words(cov_type: str, spec: StudySpec) -> str:
+    """How a robust covariance was computed, as the results name it."""
+    return f"CR1, clustered by '{spec.group}'" if cov_type == "CR1" else cov_type
+
+
 class _MethodRunner:
     """Fits one method at a time on a fixed design and fixed validation parts."""
 
@@ -569,7 +574,8 @@ class _MethodRunner:
         assert lasso.path is not None and lasso.curve is not None
         idx = lasso.curve.chosen(self.spec.choose)
         sel = np.flatnonzero(lasso.path.std_coefs[idx])
-        fit = post_lasso(d.X, d.y, sel)
+        # rows in groups: errors within a group may move together, so the errors cluster
+        fit = post_lasso(d.X, d.y, sel, "CR1" if d.groups is not None else "HC1", d.groups)
         # honest validation of the whole procedure: select with the lasso on each training part
         # (same penalty), refit least squares there, score the held-out rows
         grid = lasso.path.penalties[: idx + 1]
@@ -593,7 +599,11 @@ class _MethodRunner:
             cv_error=float(e.mean()),
             cv_error_se=se,
             std_errors={d.names[j]: float(fit.std_errors[j]) for j in sel},
-            notes=[SELECTION_CAUTION, f"robust standard errors ({fit.cov_type})"] + list(fit.notes),
+            notes=[
+                SELECTION_CAUTION,
+                f"robust standard errors ({_covariance_words(fit.cov_type, self.spec)})",
+            ]
+            + list(fit.notes),
         )
         return result
 
@@ -708,8 +718,7 @@ class _MethodRunner:
         for note in ds.notes:
             self.notes.append(f"double selection: {note}")
         found = ds.to_focal(d.names[j], [d.names[i] for i in controls])
-        if d.groups is not None:
-            found.covariance = f"CR1, clustered by '{spec.group}'"
+        found.covariance = _covariance_words(ds.covariance, spec)
         return found
 
     def stability(self, progress: Progress):

@@ -299,6 +299,18 @@ def test_focal_effect_with_a_group_column_uses_clustered_errors_and_the_grouped_
     A = sm.add_constant(np.column_stack([design.X[:, j], design.X[:, same.controls]]))
     ref = sm.OLS(design.y, A).fit(cov_type="cluster", cov_kwds={"groups": design.groups})
     assert focal.std_error == pytest.approx(ref.bse[1], rel=1e-9)
+    # least squares after the lasso clusters its standard errors by the same groups
+    spec2 = StudySpec(
+        source=str(book), response="y", methods=("post-lasso",), folds=5, scheme="grouped",
+        group="site",
+    )  # fmt: skip
+    post = run_study(spec2).models[0]
+    cols = [design.names.index(c) for c in post.selected]
+    A = sm.add_constant(design.X[:, cols])
+    ref = sm.OLS(design.y, A).fit(cov_type="cluster", cov_kwds={"groups": design.groups})
+    got = [post.std_errors[c] for c in post.selected]
+    np.testing.assert_allclose(got, ref.bse[1:], rtol=1e-9)
+    assert any("clustered by 'site'" in note for note in post.notes)
 
 
 def test_column_names_are_matched_ignoring_case_and_spacing_and_typos_are_refused(tmp_path):

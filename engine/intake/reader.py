@@ -623,14 +623,14 @@ def _ragged_warning(rows: list[list], field_counts: list[int], h: int, warnings:
     width = _used_length(rows[h])
     longer = [i + 1 for i, r in enumerate(rows) if i > h and _used_length(r) > width]
     shorter = [i + 1 for i, k in enumerate(field_counts) if i > h and 0 < k < width]
-    for rows, fewer_more, then in (
+    for named, fewer_more, then in (
         (longer, "more", "the extra values are read into columns without a heading"),
         (shorter, "fewer", "the missing ones at the end read as empty"),
     ):
-        if rows:
+        if named:
             warnings.append(
-                f"row{'s' if len(rows) > 1 else ''} {_listed(rows)} "
-                f"{'have' if len(rows) > 1 else 'has'} {fewer_more} fields than the "
+                f"row{'s' if len(named) > 1 else ''} {_listed(named)} "
+                f"{'have' if len(named) > 1 else 'has'} {fewer_more} fields than the "
                 f"{width} of the heading row; {then}"
             )
 

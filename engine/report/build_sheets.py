@@ -36,15 +36,18 @@ def build_our_sheets(
     progress: Progress | None = None,
     *,
     scoring_blank_rows: int | None = None,
+    date1904: bool = False,
 ) -> tuple[scoring.ScoringLayout, dict[str, BulkSheet]]:
     """Write every result sheet to the new workbook ``target``.
+
+    date1904: the sheets will be merged into a workbook of the 1904 date system.
 
     Returns the scoring layout and, per sheet name, the numeric blocks still to be spliced into
     that sheet's XML (see ``bulk_rows``; the package merge does it).
     """
     progress = progress or silent()
     bulks = {names.PATH: BulkSheet(), names.FITTED: BulkSheet()}
-    book = xlsxwriter.Workbook(str(target), WORKBOOK_OPTIONS)
+    book = xlsxwriter.Workbook(str(target), {**WORKBOOK_OPTIONS, "date_1904": date1904})
     try:
         fm = Formats(book)
         sheets = {n: book.add_worksheet(n) for n in names.ALL_SHEETS}
@@ -72,7 +75,13 @@ def build_our_sheets(
         )
         progress.step(0.85, "scoring sheet")
         layout = scoring.write(
-            book, sheets[names.SCORING], result, model, fm, n_blank=scoring_blank_rows
+            book,
+            sheets[names.SCORING],
+            result,
+            model,
+            fm,
+            n_blank=scoring_blank_rows,
+            date1904=date1904,
         )
         progress.step(0.9, "settings sheet")
         settings.write(book, sheets[names.SETTINGS], result, fm, method)

@@ -20,12 +20,20 @@ as raw compressed bytes in its original order; new entries follow at the end.
 
 from __future__ import annotations
 
-__all__ = ["MARKER_NAME", "merge_package", "read_sheet_list", "SheetNameTaken", "our_sheet_names"]
+__all__ = [
+    "MARKER_NAME",
+    "merge_package",
+    "read_sheet_list",
+    "SheetNameTaken",
+    "our_sheet_names",
+    "uses_1904_dates",
+]
 
 import posixpath
 import re
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import BinaryIO
 
 from defusedxml import ElementTree
@@ -150,6 +158,17 @@ def _open_package(src: ZipSource) -> _Package:
                 )
             )
     return pkg
+
+
+def uses_1904_dates(path: str | Path) -> bool:
+    """Whether the workbook counts its date serial numbers from 1904-01-01 (ECMA-376 Part 1,
+    workbookPr date1904; older Mac workbooks) instead of from the 1900 base."""
+    with ZipSource(path) as src:
+        wb = ElementTree.fromstring(_open_package(src).workbook_xml.encode("utf-8"))
+    for el in wb.iter():
+        if el.tag.rsplit("}", 1)[-1] == "workbookPr":
+            return el.attrib.get("date1904", "0").strip().lower() in ("1", "true")
+    return False
 
 
 def read_sheet_list(src: ZipSource) -> list[SheetEntry]:

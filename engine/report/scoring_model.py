@@ -15,7 +15,14 @@ are visible cells (penalty convention of Friedman, Hastie & Tibshirani 2010).
 
 from __future__ import annotations
 
-__all__ = ["ScoringModel", "choose_scoring_method", "source_kind", "date_serial", "EXCEL_EPOCH"]
+__all__ = [
+    "ScoringModel",
+    "choose_scoring_method",
+    "source_kind",
+    "date_serial",
+    "EXCEL_EPOCH",
+    "DAYS_1900_TO_1904",
+]
 
 import datetime as _dt
 import difflib
@@ -29,6 +36,9 @@ from engine.errors import InputProblem, Place
 
 # Day 0 of the 1900 date system as Excel and LibreOffice count it for dates after 1900-03-01.
 EXCEL_EPOCH = _dt.date(1899, 12, 30)
+# A workbook in the 1904 date system (ECMA-376 Part 1, workbookPr date1904) counts from
+# 1904-01-01: its serial numbers are this many days smaller than the 1900 system's.
+DAYS_1900_TO_1904 = (_dt.date(1904, 1, 1) - EXCEL_EPOCH).days
 
 
 def date_serial(iso: str) -> float:

@@ -28,7 +28,12 @@ from engine.progress import Progress, silent
 from engine.report import names
 from engine.report.build_sheets import build_our_sheets
 from engine.report.data_copy import copy_to_xlsx
-from engine.report.package_merge import SheetNameTaken, merge_package, read_sheet_list
+from engine.report.package_merge import (
+    SheetNameTaken,
+    merge_package,
+    read_sheet_list,
+    uses_1904_dates,
+)
 from engine.report.safe_write import Fingerprint, check_writable, commit, fingerprint
 from engine.report.zip_parts import PackageTooLarge, ZipSource
 
@@ -115,7 +120,12 @@ def write_results(
     progress.step(0.0, "writing the result sheets")
     with tempfile.TemporaryDirectory(prefix="tamis-report-") as tmp:
         ours = Path(tmp) / "ours.xlsx"
-        _, bulks = build_our_sheets(result, ours, progress.part(0.0, 0.8))
+        # our date serials must count from the base the user's workbook counts from
+        try:
+            date1904 = suffix in _PACKAGES and uses_1904_dates(source)
+        except (PackageTooLarge, zipfile.BadZipFile, KeyError, ValueError, OSError):
+            date1904 = False  # the merge below meets the same fault and says what it is
+        _, bulks = build_our_sheets(result, ours, progress.part(0.0, 0.8), date1904=date1904)
         base = source
         if suffix not in _PACKAGES:
             progress.step(0.8, "copying the data")

@@ -303,3 +303,61 @@ def test_check_mark_column_on_the_recalculated_scoring_sheet(tmp_path):
     ]
     np.testing.assert_allclose(got, want, rtol=1e-9)
     assert model.encodings[[e.name for e in model.encodings].index("checked")].fill == 0.0
+
+
+def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp_path):
+    # ECMA-376 Part 1, workbookPr date1904: such a workbook counts date serial numbers from
+    # 1904-01-01, 1462 days after the 1900 system's day 0 (computed: date(1904, 1, 1) -
+    # date(1899, 12, 30)). Our sheets go into the user's package, so the date origins and example
+    # dates they store must count from the same day, or every trend would be off by 1462 days.
+    # LibreOffice recalculates the sheet; its predictions must equal the engine's.
+    from openpyxl.utils.datetime import CALENDAR_MAC_1904
+
+    from engine.report.package_merge import uses_1904_dates
+    from engine.report.scoring_model import DAYS_1900_TO_1904
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    assert DAYS_1900_TO_1904 == (dt.date(1904, 1, 1) - dt.date(1899, 12, 30)).days == 1462
+    rng = np.random.default_rng(8)
+    n = 60
+    wb = openpyxl.Workbook()
+    wb.epoch = CALENDAR_MAC_1904
+    ws = wb.active
+    ws.title = "Batches"
+    ws.append(["made_on", "temp", "strength"])
+    for i in range(n):
+        day = dt.datetime(2024, 1, 1) + dt.timedelta(days=3 * i)
+        temp = float(rng.normal(80, 5))
+        ws.append([day, temp, 50 + 0.4 * temp + 0.05 * i + float(rng.normal(0, 0.5))])
+        ws.cell(i + 2, 1).number_format = "yyyy-mm-dd"
+    book = tmp_path / "batches.xlsx"
+    wb.save(book)
+    assert uses_1904_dates(book)
+    spec = StudySpec(
+        source=str(book), response="strength", methods=("ols",), folds=4, date_parts=True
+    )
+    res = run_study(spec)
+    write_results(res, in_place=True)
+    model = load_scoring_model(book)
+    new = [(dt.datetime(2024, 7, 15), 78.0), (dt.datetime(2024, 2, 29), 85.5)]
+    wb = openpyxl.load_workbook(book)
+    assert wb.epoch == CALENDAR_MAC_1904
+    ws = wb["TM Scoring"]
+    head, cols = _layout(ws)
+    for i, (day, temp) in enumerate(new):
+        ws.cell(head + 6 + i, cols["made_on"]).value = day
+        ws.cell(head + 6 + i, cols["temp"]).value = temp
+    pasted = tmp_path / "pasted.xlsx"
+    wb.save(pasted)
+    rows = openpyxl.Workbook()
+    rows.active.append(["made_on", "temp"])
+    for day, temp in new:
+        rows.active.append([day, temp])
+    new_book = tmp_path / "new.xlsx"
+    rows.save(new_book)
+    (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
+    got = _predictions(out, 1, 5 + len(new))
+    fitted = res.models[0].fitted[:5]
+    np.testing.assert_allclose(got[:5], fitted, rtol=1e-9)
+    np.testing.assert_allclose(got[5:], model.predict(read_table(new_book)), rtol=1e-9)

@@ -26,7 +26,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from engine.report.scoring_model import ScoringModel, date_serial, source_kind
+from engine.report.scoring_model import (
+    DAYS_1900_TO_1904,
+    ScoringModel,
+    date_serial,
+    source_kind,
+)
 from engine.report.sheets.cells import Formats, cell_ref, col_name, number, text
 
 N_EXAMPLES = 5
@@ -163,8 +168,19 @@ def _fast_formulas(ws) -> None:
 
 
 def write(
-    book, ws, result, model: ScoringModel, fm: Formats, *, n_blank: int | None = None
+    book,
+    ws,
+    result,
+    model: ScoringModel,
+    fm: Formats,
+    *,
+    n_blank: int | None = None,
+    date1904: bool = False,
 ) -> ScoringLayout:
+    """date1904: the sheet goes into a workbook of the 1904 date system, so the date serial
+    numbers written (origins, example dates) count from there; the formulas need no change."""
+    # examples and the model's own arithmetic stay in 1900 serials; only written cells shift
+    serial_shift = DAYS_1900_TO_1904 if date1904 else 0
     encs = model.encodings
     sources = model.sources
     m, k = len(sources), len(encs)
@@ -252,7 +268,7 @@ def write(
                     elif name == "fill for a missing cell" and enc.fill is not None:
                         number(ws, row, c, enc.fill, fm.param)
                     elif name == "date origin" and enc.kind == "trend" and enc.origin:
-                        number(ws, row, c, date_serial(enc.origin), fm.date)
+                        number(ws, row, c, date_serial(enc.origin) - serial_shift, fm.date)
                     elif name == "mean":
                         number(ws, row, c, model.means[j], fm.param)
                     elif name == "standard deviation":
@@ -324,7 +340,7 @@ def write(
             elif isinstance(v, str):
                 text(ws, r, s_i, v, fmt)
             else:
-                number(ws, r, s_i, float(v), fmt)
+                number(ws, r, s_i, float(v) - (serial_shift if is_date else 0), fmt)
         for j, enc in enumerate(encs):
             src = cell_ref(r, sources.index(enc.source), False, True)
             f = _formula(

@@ -16,6 +16,7 @@ from typing import Any
 
 from engine.errors import Cancelled, InputProblem
 from engine.intake.table import SheetInfo, Table
+from engine.intake.workbook import is_text_table
 from engine.progress import Progress
 from engine.study_spec import StudySpec
 
@@ -80,7 +81,7 @@ def load_book(
     progress.step(0.0, "looking at the sheets")
     sheets = calls.list_sheets(path)
     saved = None
-    if path.suffix.lower() != ".csv":
+    if not is_text_table(path):
         try:
             saved = calls.read_settings(path)
         except (InputProblem, ImportError, KeyError, ValueError, OSError):

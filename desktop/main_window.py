@@ -62,11 +62,14 @@ from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
+from engine.intake.workbook import SUPPORTED_SUFFIXES
 from engine.study_result import StudyResult
 from engine.study_spec import StudySpec
 
-OPENABLE = (".xlsx", ".xlsm", ".xls", ".ods", ".csv")
-OPEN_FILTER = "Workbooks and text tables (*.xlsx *.xlsm *.xls *.ods *.csv);;All files (*)"
+OPENABLE = SUPPORTED_SUFFIXES
+OPEN_FILTER = (
+    "Workbooks and text tables (*.xlsx *.xlsm *.xls *.ods *.csv *.tsv *.txt);;All files (*)"
+)
 SAVE_FILTER = "Workbook (*.xlsx)"
 
 PAGE_SHEET, PAGE_SETTINGS, PAGE_FINDINGS = range(3)
@@ -439,7 +442,7 @@ class MainWindow(QMainWindow):
                 UserMessage(
                     "problem",
                     f"Tamis cannot open '{path.name}'.",
-                    "Open an .xlsx, .xlsm, .xls, .ods or .csv file.",
+                    "Open an .xlsx, .xlsm, .xls or .ods workbook, or a .csv, .tsv or .txt table.",
                 )
             )
             return False

@@ -29,7 +29,14 @@ from engine.intake.header import cell_key, detect_header_row, join_sub_heading, 
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
 from engine.intake.table import Column, SheetInfo, Table
-from engine.intake.workbook import check_path, open_workbook, read_grid, sheet_infos, sniff_format
+from engine.intake.workbook import (
+    check_path,
+    is_text_table,
+    open_workbook,
+    read_grid,
+    sheet_infos,
+    sniff_format,
+)
 from engine.progress import Progress, silent
 
 NAMED_CELLS = 5  # how many cells a warning names before it gives only a count
@@ -45,7 +52,7 @@ def list_sheets(path: str | Path) -> list[SheetInfo]:
     """The sheets of a workbook in order, hidden ones flagged; a CSV file has one sheet."""
     path = Path(path)
     check_path(path)
-    if path.suffix.lower() == ".csv":
+    if is_text_table(path):
         return [SheetInfo(name=path.stem, index=0)]
     fmt = sniff_format(path)
     if fmt != "xls":
@@ -93,7 +100,7 @@ def read_table(
     progress = progress or silent()
     check_path(path)
     progress.step(0.0, "opening the file")
-    if path.suffix.lower() == ".csv":
+    if is_text_table(path):
         text = read_delimited(path)
         if sheet is not None and sheet.strip().casefold() != path.stem.casefold():
             raise InputProblem(

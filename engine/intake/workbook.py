@@ -18,7 +18,15 @@ from engine.errors import InputProblem, Place
 from engine.intake.table import SheetInfo
 
 WORKBOOK_FORMATS = ("xlsx", "xlsm", "xls", "ods")
-SUPPORTED_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods", ".csv")
+# delimited text: .csv, and the tab-separated text spreadsheet programs save as .txt or .tsv
+TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
+SUPPORTED_SUFFIXES = (".xlsx", ".xlsm", ".xls", ".ods", *TEXT_SUFFIXES)
+
+
+def is_text_table(path: Path) -> bool:
+    """Whether the file is read as delimited text (one sheet) rather than as a workbook."""
+    return path.suffix.lower() in TEXT_SUFFIXES
+
 
 _ZIP_MAGIC = b"PK\x03\x04"
 _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
@@ -94,7 +102,7 @@ def sniff_format(path: Path) -> str:
             " (it holds web-page or XML text, as some programs export under a workbook name)"
         )
     elif all(32 <= b < 127 or b in (9, 10, 13) for b in head):
-        text_hint = " (it holds plain text; if it is comma- or semicolon-separated, name it .csv)"
+        text_hint = " (it holds plain text; if it is a table separated by commas, semicolons or tabs, name it .csv)"
     raise InputProblem(
         f"file '{path}' is not a {suffix or 'workbook'} workbook{text_hint}; "
         "save it from a spreadsheet program as .xlsx",

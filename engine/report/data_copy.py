@@ -9,38 +9,33 @@ from __future__ import annotations
 
 __all__ = ["copy_to_xlsx", "sheet_name_for_csv"]
 
-import csv
 import datetime as _dt
-import io
 import re
 from pathlib import Path
 
 import xlsxwriter
 
+from engine.intake.delimited import read_delimited
+from engine.intake.workbook import is_text_table
 from engine.report.build_sheets import WORKBOOK_OPTIONS
 
 _BAD = re.compile(r"[\[\]:*?/\\]")
 _NUMBER = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$")
 
 
+def _plain_number(value: str, decimal: str) -> float | None:
+    """A field that is a plain number written with the file's decimal mark; None otherwise
+    (grouped digits, units and the like stay text a person can read, as they were)."""
+    plain = value.strip()
+    if decimal == ",":
+        if "." in plain:
+            return None
+        plain = plain.replace(",", ".")
+    return float(plain) if _NUMBER.match(plain) else None
+
+
 def sheet_name_for_csv(path: Path) -> str:
     return (_BAD.sub("_", path.stem).strip("'") or "data")[:31]
-
-
-def _read_csv(path: Path) -> list[list[str]]:
-    raw = path.read_bytes()
-    for enc in ("utf-8-sig", "cp1252", "latin-1"):
-        try:
-            data = raw.decode(enc)
-            break
-        except UnicodeDecodeError:
-            continue
-    sample = data[:65536]
-    try:
-        dialect = csv.Sniffer().sniff(sample, delimiters=",;\t|")
-    except csv.Error:
-        dialect = csv.excel
-    return [row for row in csv.reader(io.StringIO(data), dialect)]
 
 
 def copy_to_xlsx(source: str | Path, target: str | Path) -> None:
@@ -49,16 +44,19 @@ def copy_to_xlsx(source: str | Path, target: str | Path) -> None:
     date_fmt = book.add_format({"num_format": "yyyy-mm-dd"})
     time_fmt = book.add_format({"num_format": "yyyy-mm-dd hh:mm:ss"})
     try:
-        if source.suffix.lower() == ".csv":
+        if is_text_table(source):
             ws = book.add_worksheet(sheet_name_for_csv(source))
-            for r, row in enumerate(_read_csv(source)):
+            # decoded and split as intake read it (encoding, delimiter, decimal mark)
+            text = read_delimited(source)
+            for r, row in enumerate(text.rows):
                 for c, value in enumerate(row):
                     if value == "":
                         continue
-                    if _NUMBER.match(value.strip()):
-                        ws.write_number(r, c, float(value))
-                    else:
+                    number = _plain_number(value, text.decimal)
+                    if number is None:
                         ws.write_string(r, c, value)
+                    else:
+                        ws.write_number(r, c, number)
             return
         import python_calamine as calamine
 

@@ -309,10 +309,11 @@ def test_dropping_a_file_opens_it(qtbot, store, book):
 
 def test_unsupported_file_gets_a_plain_message(qtbot, store, tmp_path):
     w = make_window(qtbot, store)
-    p = tmp_path / "notes.txt"
+    p = tmp_path / "notes.docx"
     p.write_text("hello")
     assert not w.open_book(p)
-    assert w.last_message.tone == "problem" and "notes.txt" in w.last_message.headline
+    assert w.last_message.tone == "problem" and "notes.docx" in w.last_message.headline
+    assert ".txt table" in w.last_message.detail  # tab-separated text exports are openable
 
 
 def test_shortcuts_and_about(qtbot, store):

@@ -144,3 +144,17 @@ def test_lines_writing_their_empty_last_fields_are_not_called_short(tmp_path):
     table = read_table(path)
     assert table.n_rows == 6
     assert not any("fields than the" in w for w in table.warnings), table.warnings
+
+
+@pytest.mark.parametrize("suffix", [".txt", ".tsv"])
+def test_tab_separated_text_saved_as_txt_or_tsv_is_read_like_csv(tmp_path, suffix):
+    # common practice: spreadsheet programs save "Unicode text" as tab-separated UTF-16 with a
+    # byte-order mark under .txt; .tsv is the usual name for tab-separated values
+    text = "Region\tPrix\tDate\r\nNord\t9,35\t01/02/2024\r\nSud\t10,5\t15/02/2024\r\n"
+    path = tmp_path / f"export{suffix}"
+    path.write_bytes(text.encode("utf-16"))
+    table = read_table(path)
+    assert table.reading["delimiter"] == "tab" and table.reading["encoding"] == "utf-16"
+    assert table.column("Prix").values.tolist() == [9.35, 10.5]
+    assert table.column("Date").kind == ColumnKind.DATE
+    assert table.sheet == "export"

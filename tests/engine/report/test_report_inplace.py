@@ -215,6 +215,31 @@ def test_out_mode_from_csv_holds_the_data_and_ours(tmp_path):
     assert got[0][1] == rows[0]["process"] and got[0][0] == pytest.approx(rows[0]["altitude"])
 
 
+def test_out_mode_from_a_tab_separated_utf16_text_export_holds_the_same_values(tmp_path):
+    # the "Unicode text" a spreadsheet program saves is tab-separated UTF-16 with a byte-order
+    # mark (common practice), here with decimal commas: the copied sheet must hold the numbers
+    # intake read, not text decoded as the wrong encoding
+    from engine.intake import read_table
+
+    result, rows = make_result(tmp_path)
+    lines = ["altitude\tprocess\tscore"] + [
+        f"{r['altitude']}\t{r['process']}\t{r['score']}".replace(".", ",") for r in rows
+    ]
+    text = tmp_path / "lots.txt"
+    text.write_bytes(("\r\n".join(lines) + "\r\n").encode("utf-16"))
+    result.spec = result.spec.replace(source=str(text))
+    out = write_results(result, out=tmp_path / "from-text.xlsx")
+    wb = openpyxl.load_workbook(out, read_only=True)
+    assert wb.sheetnames == ["lots", *SHEET_NAMES]
+    got = list(wb["lots"].iter_rows(min_row=1, max_row=3, values_only=True))
+    assert got[0] == ("altitude", "process", "score")
+    read = read_table(text)
+    assert read.reading["delimiter"] == "tab" and read.reading["decimal mark"] == "comma"
+    assert got[1][0] == pytest.approx(read.column("altitude").values[0], rel=1e-15)
+    assert got[2][2] == pytest.approx(read.column("score").values[1], rel=1e-15)
+    assert got[1][1] == rows[0]["process"]
+
+
 def test_exactly_one_mode(tmp_path):
     from engine.errors import InputProblem
 

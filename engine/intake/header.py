@@ -153,25 +153,29 @@ def sub_heading_row(rows: list[list], h: int) -> bool:
     if h + 2 >= len(rows):
         return False
     row = rows[h + 1]
-    # copies of the headings and of this row further down (a report repeating them on every
-    # page) are not data: they say nothing about the columns
-    copies = {_row_key(rows[h]), _row_key(row)}
-    below = [r for r in rows[h + 2 : h + 2 + _SUB_SCAN_ROWS] if _row_key(r) not in copies]
-    over_numbers = False
-    filled = 0
-    for j, value in enumerate(row):
-        if not _filled(value) or value is None:
-            continue
-        filled += 1
-        key = str(value).strip().casefold()
-        if not _is_word(value) or key in MISSING_WORDS:
+    words = [j for j, value in enumerate(row) if _filled(value) and value is not None]
+    for j in words:  # a data row fails here at its first number: the cheap test first
+        if not _is_word(row[j]) or str(row[j]).strip().casefold() in MISSING_WORDS:
             return False
+    # copies of the headings and of this row further down (a report repeating them on every
+    # page) are not data: they say nothing about the columns. Whole rows are compared only
+    # where the first cells agree (a wide sheet has thousands of cells per row)
+    copies = {_row_key(rows[h]), _row_key(row)}
+    starts = {key[0] for key in copies if key}
+
+    def copy_of_headings(r: list) -> bool:
+        return bool(r) and cell_key(r[0]) in starts and _row_key(r) in copies
+
+    below = [r for r in rows[h + 2 : h + 2 + _SUB_SCAN_ROWS] if not copy_of_headings(r)]
+    over_numbers = False
+    for j in words:
+        key = str(row[j]).strip().casefold()
         column = [r[j] for r in below if j < len(r) and _filled(r[j]) and r[j] is not None]
         if any(isinstance(x, str) and x.strip().casefold() == key for x in column):
             return False
         if column and sum(_is_value(x) for x in column) >= 0.8 * len(column):
             over_numbers = True
-    return filled > 0 and over_numbers
+    return bool(words) and over_numbers
 
 
 def cell_key(value: object) -> str:

@@ -111,3 +111,36 @@ def test_columns_compared_in_blocks_find_the_same_first_earlier_column(monkeypat
     mark_near_duplicates(cols)
     assert [c.near_duplicate_of for c in cols] == expected
     assert expected[9] == "c1" and expected[13] == "c6"
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_projection_screen_finds_what_the_exact_pass_finds(monkeypatch, seed):
+    # Simulated wide data (stated as such) with planted copies, scaled copies and mirrors,
+    # among gap-free columns and columns with holes. Source of the expected answer: pandas'
+    # pairwise-complete DataFrame.corr (general-purpose reference library), the first earlier
+    # column beyond the threshold; the screen must neither miss one nor name another.
+    from engine.intake import similarity
+
+    rng = np.random.default_rng(seed)
+    n, p = 80, 300
+    x = rng.normal(size=(n, p))
+    for _ in range(25):
+        i, j = sorted(rng.choice(p, size=2, replace=False))
+        x[:, j] = rng.choice([-3.0, -1.0, 0.5, 1.0, 2.0]) * x[:, i] + rng.normal()
+    # a pair just inside and one just outside the threshold
+    x[:, 40] = x[:, 10] + 0.005 * np.std(x[:, 10]) * rng.normal(size=n)  # r about 0.99999
+    x[:, 41] = x[:, 11] + 0.03 * np.std(x[:, 11]) * rng.normal(size=n)  # r about 0.9996
+    holes = rng.choice(p, size=30, replace=False)
+    for j in holes:
+        x[rng.random(n) < 0.1, j] = np.nan
+    ref = pd.DataFrame(x).corr().to_numpy()
+    expected = []
+    for j in range(p):
+        hits = [i for i in range(j) if abs(ref[i, j]) > NEAR_DUPLICATE_CORRELATION]
+        expected.append(f"c{hits[0]}" if hits else None)
+    monkeypatch.setattr(similarity, "_SCREEN_FROM", 2)  # screen even this small sheet
+    cols = _number_columns({f"c{j}": x[:, j] for j in range(p)})
+    mark_near_duplicates(cols)
+    assert [c.near_duplicate_of for c in cols] == expected
+    assert expected[40] == "c10" and expected[41] is None
+    assert sum(e is not None for e in expected) >= 20

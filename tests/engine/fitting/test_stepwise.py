@@ -79,3 +79,22 @@ def test_many_rows_run_on_the_qr_triangle_with_the_same_steps(monkeypatch):
     assert list(reduced.order) == list(rows.order)
     np.testing.assert_allclose(reduced.rss, rows.rss, rtol=1e-9)
     assert reduced.tss == rows.tss and reduced.note == rows.note
+
+
+def test_exact_ties_go_to_the_lower_column_and_near_copies_keep_their_exact_gain():
+    # Two routes again (naive refits). Column 5 = 3 + 4: once 5 has entered, 3 and 4 keep
+    # opposite remainders and lower the RSS exactly alike, and the documented rule takes the
+    # lower index (4 can then never enter: it is 5 - 3). Column 7 is column 6
+    # plus 1e-4 of noise: after 6 enters, 7's remaining length is 1e-8 of its own, the range
+    # where lengths updated by subtraction are taken afresh.
+    rng = np.random.default_rng(12)
+    n, p = 40, 60
+    X = rng.normal(size=(n, p))
+    X[:, 5] = X[:, 3] + X[:, 4]
+    X[:, 7] = X[:, 6] + 1e-4 * rng.normal(size=n)
+    y = 3 * X[:, 4] + 2 * X[:, 3] + 1.5 * X[:, 6] + 0.8 * X[:, 7] + 0.2 * rng.normal(size=n)
+    path = forward_stepwise(X, y)
+    order, rss = naive_forward(X, y, 8)
+    assert list(path.order[:8]) == order
+    np.testing.assert_allclose(path.rss[:8], rss, rtol=1e-7)
+    assert path.order[0] == 5 and 3 in path.order[:8] and 4 not in path.order

@@ -50,6 +50,30 @@ def test_forward_curve_equals_a_per_part_recomputation():
     assert curve.grid_kind == "size" and list(curve.grid) == list(range(7))
 
 
+def test_forward_curve_on_wide_data_equals_least_squares_refits_at_every_size():
+    # More columns than rows, every size up to saturation, a nearly collinear pair: the held-out
+    # errors from one QR factorization of the columns in their order of entry must equal a
+    # fresh least-squares fit per size (scikit-learn's LinearRegression, reference library)
+    from sklearn.linear_model import LinearRegression
+
+    rng = np.random.default_rng(6)
+    n, p = 45, 90
+    X = rng.normal(size=(n, p))
+    X[:, 9] = X[:, 8] + 1e-5 * rng.normal(size=n)
+    y = 2 * X[:, 0] - X[:, 8] + 0.5 * X[:, 9] + rng.normal(size=n)
+    parts = make_folds(n, "kfold", 3, seed=2)
+    curve = cross_validate_sizes(X, y, parts, "forward-stepwise", workers=1)
+    sizes = len(curve.grid)
+    assert sizes >= 25  # up to about as many columns as training rows (30)
+    for i, (tr, te) in enumerate(parts):
+        path = forward_stepwise(X[tr], y[tr])
+        for k in range(1, sizes):
+            cols = list(path.order[:k])
+            fit = LinearRegression().fit(X[tr][:, cols], y[tr])
+            want = np.mean((y[te] - fit.predict(X[te][:, cols])) ** 2)
+            assert curve.part_errors[i, k] == pytest.approx(want, rel=1e-6), (i, k)
+
+
 def test_known_truth_size_is_chosen():
     # Simulated data with a known truth: 3 of 10 columns matter, strong signal.
     X, y = sparse_problem(2, n=120)

@@ -81,6 +81,14 @@ def _export_button(parent: QWidget, chart_widget, name: str) -> QPushButton:
     return b
 
 
+# the engine's prefix for notes about the focal estimate (engine.study: "double selection: ...")
+_FOCAL_NOTE = "double selection: "
+
+
+def _capitalized(text: str) -> str:
+    return text[:1].upper() + text[1:]
+
+
 class ResultView(QWidget):
     """The Findings page. ``show_result(result)`` fills every tab."""
 
@@ -572,9 +580,17 @@ class ResultView(QWidget):
         )
         column = escape(f.column)  # a user's heading ("R&D", "<5 km") shown as written
         controls = escape(", ".join(f.controls)) or "none"
+        # what the engine said about this estimate (few groups for clustered errors ...) belongs
+        # beside it, not only among the run's notes
+        said = "".join(
+            f"<br><span style='color:{PROBLEM}'>{escape(_capitalized(w[len(_FOCAL_NOTE) :]))}."
+            "</span>"
+            for w in self.result.warnings
+            if w.startswith(_FOCAL_NOTE)
+        )
         self.focal_text.setText(
-            f"<b>Effect of {column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, {f.covariance}); "
-            f"95% interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.<br>"
+            f"<b>Effect of {column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, "
+            f"{escape(f.covariance)}); 95% interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.{said}<br>"
             f"{len(f.controls)} controls: {controls}.{naive}<br>"
             f"<span style='color:{MUTED}'>Read this as the effect of {column} only if every "
             "column that drives both it and the response is among the candidates: double "

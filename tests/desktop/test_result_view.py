@@ -221,3 +221,16 @@ def test_choice_labels_sit_beside_their_lines_and_turn_inwards_at_the_edges(qtbo
         assert chart.label_side("min") == "left"
         chart.set_curve(curve(kind, 8, 3), "one-se")  # simplest near the left edge
         assert chart.label_side("one-se") == "right"
+
+
+def test_notes_on_the_focal_estimate_are_shown_beside_it(qtbot):
+    # a warning the engine gives about the focal estimate (here: clustered errors from few
+    # groups) must be read where the estimate is, not only among the run's notes
+    result = simulated_result()
+    note = "the standard error allows for errors moving together within each of the 12 groups"
+    result.warnings.append(f"double selection: {note}")
+    v = ResultView()
+    qtbot.addWidget(v)
+    v.show_result(result)
+    v.tabs.setCurrentIndex(v.FOCAL_TAB)
+    assert "The standard error allows for errors moving together" in v.focal_text.text()

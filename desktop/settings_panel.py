@@ -40,7 +40,8 @@ SCHEME_TIPS = {
     "kfold": "Rows are shuffled (with the seed) and split into equal parts; each part is held out once.",
     "repeated": "The shuffled split is done several times with different shuffles and the errors averaged; steadier, slower.",
     "grouped": "Rows that share a value in the 'group' column are always held out together (stores, farms, patients).",
-    "time": "Rows are put in time order; each block is checked by a model fitted on the blocks before it.",
+    "time": "Rows are put in time order; each block is checked by a model fitted on the blocks before it. "
+    "Rows sharing one time (several shops in one week) stay in one block.",
     "loo": "Each row is held out on its own; only sensible for small sheets.",
 }
 CHOICE_WORDS = {"min": "Lowest validation error", "one-se": "Simplest within one standard error"}

@@ -100,7 +100,8 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument(
         "--time-order",
         metavar="COLUMN",
-        help="column giving the time order for blocked folds (implies --scheme time)",
+        help="column giving the time order for blocked folds (implies --scheme time); rows "
+        "sharing one time stay in one block",
     )
     f.add_argument(
         "--choose",

@@ -9,7 +9,9 @@ Schemes (all common practice):
   to parts so that part sizes in rows stay balanced (largest group first to the smallest part).
 - "time": rows sorted by ``order`` (stable), cut into ``folds`` consecutive blocks; part k trains
   on blocks 0..k-1 and validates on block k, so there are folds - 1 parts and no part ever
-  trains on a later row than it validates on ("forward chaining").
+  trains on a later row than it validates on ("forward chaining"). Rows sharing one time (six
+  shops' sales of one week) stay in one block: a cut falls where the time changes, so no part
+  trains on rows of the very period it validates on.
 - "loo": leave one row out, n parts.
 """
 
@@ -107,8 +109,31 @@ def make_folds(
             raise InputProblem(f"the order column has {order.shape[0]} values for {n} rows")
         sorted_rows = np.argsort(order, kind="stable")
     blocks = np.array_split(sorted_rows, folds)
+    if order is not None:
+        blocks = _whole_periods(blocks, sorted_rows, order[sorted_rows], folds)
     out: Parts = []
     for k in range(1, folds):
         train = np.sort(np.concatenate(blocks[:k]))
         out.append((train, np.sort(blocks[k])))
     return out
+
+
+def _whole_periods(
+    blocks: list[np.ndarray], sorted_rows: np.ndarray, times: np.ndarray, folds: int
+) -> list[np.ndarray]:
+    """The blocks with each cut moved to the nearest place where the time changes."""
+    changes = np.flatnonzero(times[1:] != times[:-1]) + 1  # positions where a new time starts
+    if changes.size < folds - 1:
+        raise InputProblem(
+            f"the time order has {changes.size + 1} distinct values, too few for {folds} "
+            f"blocks of whole periods; use --folds {max(2, changes.size + 1)} or fewer"
+        )
+    cuts = np.cumsum([len(b) for b in blocks])[:-1]
+    chosen: list[int] = []
+    for i, c in enumerate(cuts):
+        # the nearest change after the last cut that leaves enough changes for the cuts still
+        # to come (ties go to the earlier one)
+        last = changes[changes.size - (cuts.size - i)]
+        free = changes[(changes > (chosen[-1] if chosen else 0)) & (changes <= last)]
+        chosen.append(int(free[np.argmin(np.abs(free - c))]))
+    return np.split(sorted_rows, chosen)

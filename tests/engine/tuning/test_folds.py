@@ -71,6 +71,26 @@ def test_time_parts_train_only_on_the_past():
         assert train.size == 10 * (k + 1) and test.size == 10
 
 
+@pytest.mark.parametrize("periods,per_period,folds", [(156, 6, 10), (12, 5, 10), (10, 1, 10)])
+def test_rows_of_one_period_stay_in_one_time_block(periods, per_period, folds):
+    # common practice (forward chaining): several rows share a time (six shops in one week);
+    # a block boundary inside a week would train on rows of the week it validates on
+    rng = np.random.default_rng(periods)
+    order = np.repeat(np.arange(periods), per_period).astype(float)
+    rng.shuffle(order)
+    parts = make_folds(order.size, "time", folds=folds, order=order)
+    assert len(parts) == folds - 1
+    for train, test in parts:
+        assert order[train].max() < order[test].min()  # strictly earlier: no shared week
+    held = np.concatenate([test for _, test in parts])
+    assert np.unique(held).size == held.size  # each row validated at most once
+    # blocks stay near equal: at most one period away from an even cut
+    sizes = [test.size for _, test in parts]
+    assert max(sizes) - min(sizes) <= 2 * per_period
+    with pytest.raises(InputProblem, match="9 distinct values, too few for 10 blocks"):
+        make_folds(36, "time", folds=10, order=np.repeat(np.arange(9.0), 4))
+
+
 def test_leave_one_out():
     parts = make_folds(7, "loo")
     assert len(parts) == 7

@@ -69,6 +69,19 @@ def _predictions(path: Path, first: int, count: int) -> np.ndarray:
     return np.array([np.nan if v in (None, "") else float(v) for v in vals])
 
 
+def _paste_after_examples(results: Path, headings: list[str], rows: list[tuple], dst: Path) -> Path:
+    """A copy of ``results`` with ``rows`` typed under ``headings`` of the scoring sheet, just
+    below its five example rows (openpyxl keeps the workbook's date system)."""
+    wb = openpyxl.load_workbook(results)
+    ws = wb["TM Scoring"]
+    head, cols = _layout(ws)
+    for i, row in enumerate(rows):
+        for heading, value in zip(headings, row):
+            ws.cell(head + 6 + i, cols[heading]).value = value
+    wb.save(dst)
+    return dst
+
+
 def _plant_wrong_cached_value(src: Path, dst: Path) -> None:
     """Copy ``src`` with the first prediction's cached value replaced by WRONG."""
     wb = openpyxl.load_workbook(src, read_only=True)
@@ -286,14 +299,7 @@ def test_check_mark_column_on_the_recalculated_scoring_sheet(tmp_path):
     results = write_results(res, out=tmp_path / "results.xlsx")
     model = load_scoring_model(results)
     new = [(0.3, "x"), (0.3, None), (-1.0, " X "), (2.0, None)]
-    wb = openpyxl.load_workbook(results)
-    ws = wb["TM Scoring"]
-    head, cols = _layout(ws)
-    for i, (a, b) in enumerate(new):
-        ws.cell(head + 6 + i, cols["x1"]).value = a
-        ws.cell(head + 6 + i, cols["checked"]).value = b
-    pasted = tmp_path / "pasted.xlsx"
-    wb.save(pasted)
+    pasted = _paste_after_examples(results, ["x1", "checked"], new, tmp_path / "pasted.xlsx")
     (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
     got = _predictions(out, 6, len(new))
     m = res.models[0]
@@ -341,15 +347,8 @@ def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp
     write_results(res, in_place=True)
     model = load_scoring_model(book)
     new = [(dt.datetime(2024, 7, 15), 78.0), (dt.datetime(2024, 2, 29), 85.5)]
-    wb = openpyxl.load_workbook(book)
-    assert wb.epoch == CALENDAR_MAC_1904
-    ws = wb["TM Scoring"]
-    head, cols = _layout(ws)
-    for i, (day, temp) in enumerate(new):
-        ws.cell(head + 6 + i, cols["made_on"]).value = day
-        ws.cell(head + 6 + i, cols["temp"]).value = temp
-    pasted = tmp_path / "pasted.xlsx"
-    wb.save(pasted)
+    assert openpyxl.load_workbook(book, read_only=True).epoch == CALENDAR_MAC_1904
+    pasted = _paste_after_examples(book, ["made_on", "temp"], new, tmp_path / "pasted.xlsx")
     rows = openpyxl.Workbook()
     rows.active.append(["made_on", "temp"])
     for day, temp in new:

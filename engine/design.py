@@ -415,6 +415,8 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             else ov.astype(float)
         )
 
+    if y.size and np.all((y == 0.0) | (y == 1.0)) and 0.0 < y.mean() < 1.0:
+        warnings.append(_zero_one_response_note(response.name, y))
     focal_index = names.index(spec.focal) if spec.focal and spec.focal in names else None
     if spec.focal and focal_index is None:
         raise InputProblem(
@@ -441,6 +443,15 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         dropped_columns=dropped_columns,
         category_levels=category_levels,
         warnings=warnings,
+    )
+
+
+def _zero_one_response_note(name: str, y: np.ndarray) -> str:
+    """What fitting a yes/no (1/0) response by least squares gives, said once."""
+    return (
+        f"response '{name}' holds only 1 and 0 (yes {y.mean():.1%} of the rows used): every "
+        "method fits it as a number (a linear probability model), so a prediction is a score "
+        "that ranks rows and can fall below 0 or above 1, not a probability to report as it is"
     )
 
 

@@ -173,6 +173,22 @@ def test_a_default_candidate_blank_in_most_rows_is_left_out_unless_named():
     assert build_design(t2, _spec()).names == ["x", "z"]
 
 
+def test_a_yes_no_response_is_said_to_be_fitted_as_a_linear_probability_model():
+    # common practice: least squares on a 1/0 response is the linear probability model; its
+    # predictions are scores that can leave 0..1, which a credit or quality user must be told
+    x = [1, 3, 2, 5, 4, 6, 8, 7]
+    flag = _table(
+        _col("y", ColumnKind.FLAG, [1, 0, 0, 1, 0, 0, 1, 0]), _col("x", ColumnKind.NUMBER, x, "B")
+    )
+    d = build_design(flag, _spec())
+    note = [w for w in d.warnings if "linear probability model" in w]
+    assert len(note) == 1 and "yes 37.5% of the rows used" in note[0]
+    counts = _table(
+        _col("y", ColumnKind.NUMBER, [1, 0, 2, 1, 0, 0, 1, 0]), _col("x", ColumnKind.NUMBER, x, "B")
+    )
+    assert not any("linear probability" in w for w in build_design(counts, _spec()).warnings)
+
+
 def test_exact_duplicate_columns_are_reported():
     t = _table(
         _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 6]),

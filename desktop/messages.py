@@ -6,7 +6,7 @@ result in its message strip and, when the engine named a column, next to that co
 
 from __future__ import annotations
 
-__all__ = ["UserMessage", "describe_failure", "window_words"]
+__all__ = ["UserMessage", "as_sentence", "describe_failure", "window_words"]
 
 import re
 from dataclasses import dataclass
@@ -32,18 +32,18 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
         where = exc.place.describe()
         return UserMessage(
             "problem",
-            _sentence(window_words(exc.message)),
+            as_sentence(window_words(exc.message)),
             f"Where: {where}." if where else "",
             exc.place.column,
         )
     if isinstance(exc, WriteProblem):
         return UserMessage(
             "problem",
-            _sentence(exc.message),
+            as_sentence(exc.message),
             "The workbook was left as it was. Close it in other programs and try again.",
         )
     if isinstance(exc, TamisError):
-        return UserMessage("problem", _sentence(window_words(exc.message)))
+        return UserMessage("problem", as_sentence(window_words(exc.message)))
     if isinstance(exc, MemoryError):
         return UserMessage(
             "fault",
@@ -74,7 +74,7 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
     )
 
 
-def _sentence(text: str) -> str:
+def as_sentence(text: str) -> str:
     text = text.strip()
     if not text:
         return text

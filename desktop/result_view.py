@@ -37,6 +37,7 @@ from desktop.charts.curve_chart import CurveChart
 from desktop.charts.focal_chart import FocalChart
 from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
+from desktop.messages import as_sentence
 from desktop.rows_model import RowsModel, fmt
 from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
 from desktop.theme import MUTED, PROBLEM
@@ -79,14 +80,6 @@ def _export_button(parent: QWidget, chart_widget, name: str) -> QPushButton:
 
     b.clicked.connect(go)
     return b
-
-
-# the engine's prefix for notes about the focal estimate (engine.study: "double selection: ...")
-_FOCAL_NOTE = "double selection: "
-
-
-def _capitalized(text: str) -> str:
-    return text[:1].upper() + text[1:]
 
 
 class ResultView(QWidget):
@@ -583,10 +576,8 @@ class ResultView(QWidget):
         # what the engine said about this estimate (few groups for clustered errors ...) belongs
         # beside it, not only among the run's notes
         said = "".join(
-            f"<br><span style='color:{PROBLEM}'>{escape(_capitalized(w[len(_FOCAL_NOTE) :]))}."
-            "</span>"
-            for w in self.result.warnings
-            if w.startswith(_FOCAL_NOTE)
+            f"<br><span style='color:{PROBLEM}'>{escape(as_sentence(note))}</span>"
+            for note in f.notes
         )
         self.focal_text.setText(
             f"<b>Effect of {column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, "

@@ -116,6 +116,8 @@ class FocalResult:
     penalty_rule: str  # "plugin" or "cv"
     naive_estimate: float | None = None  # single selection (response equation only), for contrast
     covariance: str = "HC1"
+    # what the estimate's reader must know (few groups for clustered errors, a failed refit)
+    notes: list[str] = field(default_factory=list)
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -130,6 +132,7 @@ class FocalResult:
             "penalty_rule": self.penalty_rule,
             "covariance": self.covariance,
             "naive_estimate": _num(self.naive_estimate),
+            "notes": list(self.notes),
         }
 
 

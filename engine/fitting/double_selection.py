@@ -204,6 +204,7 @@ class DoubleSelection:
             penalty_rule=self.penalty_rule,
             naive_estimate=self.naive_estimate,
             covariance=self.covariance,
+            notes=list(self.notes),
         )
 
 

@@ -228,7 +228,7 @@ def test_notes_on_the_focal_estimate_are_shown_beside_it(qtbot):
     # groups) must be read where the estimate is, not only among the run's notes
     result = simulated_result()
     note = "the standard error allows for errors moving together within each of the 12 groups"
-    result.warnings.append(f"double selection: {note}")
+    result.focal.notes.append(note)
     v = ResultView()
     qtbot.addWidget(v)
     v.show_result(result)

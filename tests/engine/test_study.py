@@ -282,6 +282,7 @@ def test_focal_effect_with_a_group_column_uses_clustered_errors_and_the_grouped_
     focal = result.focal
     assert focal.covariance == "CR1, clustered by 'site'"
     assert any("30 groups" in w and "rough" in w for w in result.warnings)
+    assert any("30 groups" in note and "rough" in note for note in focal.notes)
     design = build_design(read_table(book), spec)
     j = design.names.index("d")
     controls = [i for i in range(design.n_cols) if i != j]

@@ -77,6 +77,14 @@ def build_parser() -> argparse.ArgumentParser:
         "--exclude", nargs="+", metavar="COLUMN", default=[], help="columns to leave out"
     )
     f.add_argument(
+        "--log",
+        nargs="+",
+        metavar="COLUMN",
+        default=[],
+        help="use the natural log of these number columns (the response too, if named; "
+        "predictions then come back in its units); their values must be above 0",
+    )
+    f.add_argument(
         "--methods",
         help="comma-separated methods from: "
         + ", ".join(m.name for m in METHODS)

@@ -10,7 +10,7 @@ are reported. Every refusal names the sheet and column and says what to change.
 
 from __future__ import annotations
 
-__all__ = ["Encoding", "Design", "build_design", "drop_reasons_text", "MAX_LEVELS"]
+__all__ = ["Encoding", "Design", "build_design", "drop_reasons_text", "log_name", "MAX_LEVELS"]
 
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -27,6 +27,11 @@ if TYPE_CHECKING:
 MAX_LEVELS = 60
 
 
+def log_name(column: str) -> str:
+    """The model's name for the natural log of a column."""
+    return f"ln({column})"
+
+
 @dataclass(frozen=True)
 class Encoding:
     """How one model column is computed from one source column (also drives scoring formulas).
@@ -39,6 +44,8 @@ class Encoding:
       "month"    1.0 when the date's month number equals int(level)
       "weekday"  1.0 when the date's ISO weekday (1=Monday) equals int(level)
       "missing"  1.0 when the source cell is missing, else 0.0 (missing policy "fill")
+      "ln"       the natural log of the cell value, for a number column the study logs (a cell
+                 at or below 0 has none: missing in new rows, refused in the data fitted)
     ``fill``: the value used for a missing source cell (median on the rows used) under policy
     "fill"; None under policy "drop".
     """
@@ -76,6 +83,12 @@ class Design:
         default_factory=dict
     )  # source -> all levels, reference first
     warnings: list[str] = field(default_factory=list)
+    response_log: bool = False  # y holds the natural log of the response column
+
+    @property
+    def response_label(self) -> str:
+        """The response as the models see it: "ln(name)" when it was logged."""
+        return log_name(self.response) if self.response_log else self.response
 
     @property
     def n_rows(self) -> int:
@@ -188,6 +201,24 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                 place(focal_col.name),
             )
 
+    logged = set(spec.log_columns)
+    in_study = {c.name for c in chosen} | {spec.response}
+    for name in spec.log_columns:
+        c = table.column(name)
+        if c.name not in in_study:
+            raise InputProblem(
+                f"column '{c.name}' in {where} is to be taken as its natural log but is not in "
+                "the study (neither the response nor a candidate); add it as a candidate or "
+                "take it off the logged columns",
+                place(c.name),
+            )
+        if c.kind is not ColumnKind.NUMBER:
+            raise InputProblem(
+                f"column '{c.name}' in {where} holds {c.kind.value} values; only a number "
+                "column can be taken as its natural log: take it off the logged columns",
+                place(c.name),
+            )
+
     usable: list[Column] = []
     for c in chosen:
         reason = None
@@ -271,6 +302,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         for c in usable:
             drop(c.missing_mask(), f"missing in candidate '{c.name}'")
 
+    for c in [response, *usable] if logged else []:
+        if c.name in logged:
+            _refuse_non_positive(c, keep, table, spec.missing == "fill" and c is not response)
+
     n = int(keep.sum())
     if n < 3:
         raise InputProblem(
@@ -294,6 +329,9 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         fill_policy = spec.missing == "fill" and bool(miss.any())
         if c.kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
             v = np.asarray(c.values, dtype=float)[keep]
+            if c.name in logged:
+                with np.errstate(invalid="ignore", divide="ignore"):
+                    v = np.log(v)  # positive on every row used: checked above
             fill = None
             if fill_policy:
                 fill = float(np.nanmedian(v)) if np.isfinite(v).any() else 0.0
@@ -301,7 +339,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             kind = "number" if c.kind == ColumnKind.NUMBER else "flag"
             if c.blank_means is not None:  # a check-mark column: a blank new cell means no
                 fill = c.blank_means
-            add(Encoding(c.name, c.name, c.letter, kind, fill=fill), v)
+            if c.name in logged:
+                add(Encoding(log_name(c.name), c.name, c.letter, "ln", fill=fill), v)
+            else:
+                add(Encoding(c.name, c.name, c.letter, kind, fill=fill), v)
         elif c.kind == ColumnKind.CATEGORY:
             raw = np.asarray(c.values, dtype=object)[keep]
             labels = np.array(["" if x is None else str(x) for x in raw], dtype=object)
@@ -371,6 +412,9 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     X = np.column_stack(blocks) if blocks else np.empty((n, 0))
     y = y_all[keep]
+    response_log = response.name in logged
+    if response_log:
+        y = np.log(y)  # positive on every row used: checked above
 
     # constant columns carry nothing: drop them with a warning
     sds = X.std(axis=0) if X.size else np.empty(0)
@@ -417,7 +461,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     if y.size and np.all((y == 0.0) | (y == 1.0)) and 0.0 < y.mean() < 1.0:
         warnings.append(_zero_one_response_note(response.name, y))
-    focal_index = names.index(spec.focal) if spec.focal and spec.focal in names else None
+    if logged:
+        warnings.append(_log_note(response.name, response_log, sorted(logged - {response.name})))
+    focal_name = log_name(spec.focal) if spec.focal and spec.focal in logged else spec.focal
+    focal_index = names.index(focal_name) if focal_name and focal_name in names else None
     if spec.focal and focal_index is None:
         raise InputProblem(
             f"the focal column '{spec.focal}' in {where} is constant on the rows used; choose another focal column",
@@ -443,7 +490,52 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         dropped_columns=dropped_columns,
         category_levels=category_levels,
         warnings=warnings,
+        response_log=response_log,
     )
+
+
+def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:
+    """What taking logs means for reading the results, said once."""
+    said = []
+    if response_log:
+        said.append(
+            f"the models explain ln({response}): errors and R squared are on that scale, and "
+            f"a prediction in {response}'s units is exp(prediction) times a smearing factor "
+            "(Duan 1983), which assumes the spread of errors on the ln scale is the same for "
+            "every prediction"
+        )
+    if candidates:
+        shown = ", ".join(f"ln({c})" for c in candidates[:5])
+        more = f" and {len(candidates) - 5} more" if len(candidates) > 5 else ""
+        said.append(
+            f"{shown}{more} enter as logs: their coefficients are per unit of ln, i.e. per "
+            "change by a factor of e (2.718...)"
+        )
+    return "; ".join(said)
+
+
+def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool) -> None:
+    """Refuse a logged column holding a value at or below 0 on a row used, naming the first
+    such cell (the natural log exists only above 0)."""
+    v = np.asarray(c.values, dtype=float)
+    bad = np.flatnonzero(keep & np.isfinite(v) & (v <= 0))
+    if not bad.size:
+        return
+    i = int(bad[0])
+    row = int(table.row_numbers[i])
+    more = f" and {bad.size - 1} more rows" if bad.size > 1 else ""
+    raise InputProblem(
+        f"column '{c.name}' in sheet '{table.sheet}' holds {v[i]:g} in cell {c.letter}{row}"
+        f"{more}; the natural log exists only above 0: take '{c.name}' off the logged columns, "
+        "or correct those cells"
+        + (
+            " (or leave them blank: they are filled like other missing cells)"
+            if filled
+            else " (or leave them blank, which drops their rows)"
+        ),
+        Place(file=str(table.source), sheet=table.sheet, column=c.name, row=row,
+              cell=f"{c.letter}{row}"),
+    )  # fmt: skip
 
 
 def _zero_one_response_note(name: str, y: np.ndarray) -> str:

@@ -114,6 +114,7 @@ def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
         if spec.candidates is None
         else tuple(table.column(n).name for n in spec.candidates),
         exclude=tuple(table.column(n).name for n in spec.exclude),
+        log_columns=tuple(table.column(n).name for n in spec.log_columns),
         focal=name(spec.focal),
         group=name(spec.group),
         time_order=name(spec.time_order),
@@ -298,6 +299,26 @@ def _covariance_words(cov_type: str, spec: StudySpec) -> str:
     return f"CR1, clustered by '{spec.group}'" if cov_type == "CR1" else cov_type
 
 
+def _log_reading(response_log: bool, focal_log: bool, focal: str, d: Design) -> str:
+    """How to read the focal estimate when logs were taken (common practice; close for small
+    changes): an elasticity with both in ln, a relative change with the response alone."""
+    y = d.response
+    if response_log and focal_log:
+        return (
+            f"both in ln: the estimate is an elasticity, the percent change in {y} for a 1% "
+            f"change in {focal}"
+        )
+    if response_log:
+        return (
+            f"{y} in ln: 100 x the estimate is about the percent change in {y} per unit of {focal}"
+        )
+    if focal_log:
+        return (
+            f"{focal} in ln: the estimate / 100 is about the change in {y} for a 1% rise in {focal}"
+        )
+    return ""
+
+
 class _MethodRunner:
     """Fits one method at a time on a fixed design and fixed validation parts."""
 
@@ -330,6 +351,9 @@ class _MethodRunner:
         tss = float(np.sum((d.y - d.y.mean()) ** 2))
         selected = [nm for nm, b in zip(d.names, coef) if b != 0.0]
         cv_error = kw.get("cv_error")
+        # back to the response's own units from its ln: Duan's (1983) smearing estimate,
+        # E[exp(error)] taken as the mean of exp(residual) on the rows used
+        smearing = float(np.mean(np.exp(d.y - fitted))) if d.response_log else None
         cv_r2 = None
         if cv_error is not None and np.isfinite(cv_error) and tss > 0:
             cv_r2 = 1.0 - float(cv_error) / (tss / d.n_rows)
@@ -342,6 +366,7 @@ class _MethodRunner:
             r2=1.0 - rss / tss if tss > 0 else None,
             cv_r2=cv_r2,
             fitted=fitted,
+            smearing=smearing,
             **kw,
         )
 
@@ -719,6 +744,9 @@ class _MethodRunner:
             self.notes.append(f"double selection: {note}")
         found = ds.to_focal(d.names[j], [d.names[i] for i in controls])
         found.covariance = _covariance_words(ds.covariance, spec)
+        reading = _log_reading(d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d)
+        if reading:
+            found.notes.append(reading)
         return found
 
     def stability(self, progress: Progress):

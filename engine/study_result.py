@@ -78,6 +78,9 @@ class ModelResult:
     std_errors: dict[str, float] | None = None  # robust (HC) standard errors where meaningful
     approximate: bool = False  # a labelled approximate search (best subset above the exact limit)
     notes: list[str] = field(default_factory=list)
+    # response fitted as its ln: the factor a prediction exp(intercept + x'b) is multiplied by
+    # to estimate the mean in the response's own units (Duan 1983); None otherwise
+    smearing: float | None = None
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {
@@ -96,6 +99,8 @@ class ModelResult:
             "approximate": self.approximate,
             "notes": list(self.notes),
         }
+        if self.smearing is not None:
+            out["smearing"] = float(self.smearing)
         if self.std_errors is not None:
             out["std_errors"] = {k: float(v) for k, v in self.std_errors.items()}
         return out
@@ -184,6 +189,8 @@ class StudyResult:
             "rows_dropped": int(d.rows_dropped),
             "drop_reasons": dict(d.drop_reasons),
             "candidates": list(d.names),
+            # "ln" when the models explain the natural log of the response
+            "response_scale": "ln" if d.response_log else "original",
             "models": [m.to_json() for m in self.models],
             "output": self.output,
             "warnings": list(self.warnings),

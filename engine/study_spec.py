@@ -34,6 +34,8 @@ class StudySpec:
     header_row: int | None = None  # 1-based; None: detected
     candidates: tuple[str, ...] | None = None  # None: every usable column but the response
     exclude: tuple[str, ...] = ()
+    # columns (the response among them, if wanted) that enter the model as their natural log
+    log_columns: tuple[str, ...] = ()
     focal: str | None = None  # column whose effect double selection estimates
     focal_penalty: str = "plugin"
     group: str | None = None  # column whose rows stay in one fold
@@ -98,6 +100,7 @@ class StudySpec:
         if self.candidates is not None:
             object.__setattr__(self, "candidates", tuple(self.candidates))
         object.__setattr__(self, "exclude", tuple(self.exclude))
+        object.__setattr__(self, "log_columns", tuple(dict.fromkeys(self.log_columns)))
 
     def replace(self, **changes: Any) -> StudySpec:
         return dataclasses.replace(self, **changes)
@@ -122,7 +125,7 @@ class StudySpec:
             )
         names = {f.name for f in dataclasses.fields(cls)}
         kwargs = {k: v for k, v in d.items() if k in names}
-        for k in ("candidates", "exclude", "methods"):
+        for k in ("candidates", "exclude", "methods", "log_columns"):
             if isinstance(kwargs.get(k), list):
                 kwargs[k] = tuple(kwargs[k])
         return cls(**kwargs)

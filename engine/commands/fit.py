@@ -42,6 +42,7 @@ def spec_from_args(args) -> StudySpec:
         header_row=args.header_row,
         candidates=tuple(args.candidates) if args.candidates else None,
         exclude=tuple(args.exclude or ()),
+        log_columns=tuple(args.log or ()),
         focal=args.focal,
         focal_penalty=args.focal_penalty,
         group=args.group,

@@ -49,7 +49,7 @@ def summary_text(result) -> str:
     """A readable summary of a study result for the terminal."""
     d = result.design
     lines = [
-        f"{d.response} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
+        f"{d.response_label} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
         + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
@@ -77,6 +77,7 @@ def summary_text(result) -> str:
             f"(robust se {f.std_error:.3g}; 95% interval {f.ci_low:.4g} to {f.ci_high:.4g}); "
             f"{len(f.controls)} controls",
         ]
+        lines += [f"  {note}" for note in f.notes]
     if result.stability is not None:
         s = result.stability
         lines += [

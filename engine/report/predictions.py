@@ -43,7 +43,7 @@ def _sheet(
             fm.note,
         )
         sources = model.sources
-        heads = ["Source row", *sources, f"Prediction of {model.response}", "Note"]
+        heads = ["Source row", *sources, model.prediction_label, "Note"]
         for c, h in enumerate(heads):
             text(ws, 3, c, h, fm.heading)
         cols = {c.name: c for c in table.columns}

@@ -7,7 +7,10 @@ One object serves three routes that must agree:
 - ``ScoringModel.predict(table)``: new rows read by intake, encoded the way the design was;
 - the fitted values of the study (the same linear predictor on the design matrix).
 
-Prediction (original units): yhat = intercept + sum_j b_j x_j. The sheet writes the same
+Prediction (original units): yhat = intercept + sum_j b_j x_j. When the study fitted the
+natural log of the response, that sum estimates ln(y) and the prediction in the response's units
+is exp(sum) times the model's smearing factor (Duan 1983, J. Amer. Statist. Assoc. 78(383)),
+the mean of exp(residual) on the rows fitted. The sheet writes the same
 number in centred and standardized form, centre + sum_j beta_j (x_j - mean_j) / sd_j with
 beta_j = b_j sd_j and centre = intercept + sum_j b_j mean_j, so means and standard deviations
 are visible cells (penalty convention of Friedman, Hastie & Tibshirani 2010).
@@ -88,6 +91,9 @@ class ScoringModel:
     # (k,) smallest and largest value of each model column on the rows used; NaN unknown
     lows: np.ndarray | None = None
     highs: np.ndarray | None = None
+    # the linear predictor estimates ln(response): predictions are exp(.) * smearing
+    response_log: bool = False
+    smearing: float = 1.0
 
     @classmethod
     def from_parts(
@@ -102,7 +108,10 @@ class ScoringModel:
         category_levels: dict[str, list[str]],
         cv_error: float | None = None,
         ranges: dict[str, tuple[float, float]] | None = None,
+        smearing: float | None = None,
     ) -> ScoringModel:
+        """smearing: the model's factor when it explains ln of the response; None when the
+        response is modelled in its own units."""
         used = [e for e in encodings if float(coefficients.get(e.name, 0.0)) != 0.0]
         ranges = ranges or {}
         nan = (math.nan, math.nan)
@@ -120,6 +129,8 @@ class ScoringModel:
             cv_error=cv_error,
             lows=np.array([ranges.get(e.name, nan)[0] for e in used], dtype=float),
             highs=np.array([ranges.get(e.name, nan)[1] for e in used], dtype=float),
+            response_log=smearing is not None,
+            smearing=1.0 if smearing is None else float(smearing),
         )
 
     @classmethod
@@ -142,6 +153,7 @@ class ScoringModel:
             }
             if d.n_rows
             else None,
+            m.smearing if d.response_log else None,
         )
 
     # -- the centred and standardized form written in the sheet
@@ -162,6 +174,21 @@ class ScoringModel:
                 out.append(e.source)
         return out
 
+    def to_response_units(self, linear: np.ndarray) -> np.ndarray:
+        """Predictions in the response's own units from the linear predictor."""
+        linear = np.asarray(linear, dtype=float)
+        if not self.response_log:
+            return linear
+        with np.errstate(over="ignore"):
+            return np.exp(linear) * self.smearing
+
+    @property
+    def prediction_label(self) -> str:
+        """What the prediction column holds, for headings."""
+        if self.response_log:
+            return f"Prediction of {self.response} (from its ln, smearing applied)"
+        return f"Prediction of {self.response}"
+
     # -- predictions on rows read by intake
     def predict(self, table) -> np.ndarray:
         """Predictions for every data row of an intake ``Table`` (NaN where a value is missing)."""
@@ -172,13 +199,21 @@ class ScoringModel:
         n = table.n_rows
         X = np.empty((n, len(self.encodings)))
         missing_in: list[list[str]] = [[] for _ in range(n)]
+        not_positive: dict[int, list[str]] = {}
         for j, enc in enumerate(self.encodings):
             col = self._find_column(table, enc.source)
             X[:, j] = self._encode(enc, col, table)
+            if enc.kind == "ln":
+                raw = self._encode(Encoding("", enc.source, "", "number"), col, table)
+                for i in np.flatnonzero(np.isfinite(raw) & (raw <= 0)):
+                    if enc.source not in not_positive.setdefault(int(i), []):
+                        not_positive[int(i)].append(enc.source)
             for i in np.flatnonzero(~np.isfinite(X[:, j])):
-                if enc.source not in missing_in[i]:
+                if enc.source not in missing_in[i] and enc.source not in not_positive.get(
+                    int(i), []
+                ):
                     missing_in[i].append(enc.source)
-        pred = (
+        pred = self.to_response_units(
             self.intercept + X @ self.coefficients
             if len(self.encodings)
             else np.full(n, self.intercept)
@@ -197,9 +232,10 @@ class ScoringModel:
         for row, m in enumerate(missing_in):
             said = unseen.get(row, [])
             rest = [s for s in m if not any(f"of '{s}'" in u for u in said)]
-            parts = said + (
-                ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
-            )
+            parts = said + [
+                f"'{s}' is not above 0, so it has no ln" for s in not_positive.get(row, [])
+            ]
+            parts += ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
             notes.append("; ".join(parts))
         return np.asarray(pred, dtype=float), notes
 
@@ -212,7 +248,9 @@ class ScoringModel:
             return ["" for _ in range(n)]
         for j, enc in enumerate(self.encodings):
             lo, hi = float(self.lows[j]), float(self.highs[j])
-            if enc.kind not in ("number", "trend") or not (math.isfinite(lo) and math.isfinite(hi)):
+            if enc.kind not in ("number", "trend", "ln") or not (
+                math.isfinite(lo) and math.isfinite(hi)
+            ):
                 continue
             v = self._encode(enc, self._find_column(table, enc.source), table)
             slack = 1e-9 * max(1.0, abs(lo), abs(hi))
@@ -221,6 +259,8 @@ class ScoringModel:
                 if enc.kind == "trend" and enc.origin:  # days since the origin date
                     day = _dt.date.fromisoformat(str(enc.origin)[:10])
                     return (day + _dt.timedelta(days=round(x))).isoformat()
+                if enc.kind == "ln":  # the bounds are logs: say them in the column's units
+                    return f"{math.exp(x):.6g}"
                 return f"{x:.6g}"
 
             for i in np.flatnonzero(np.isfinite(v) & ((v < lo - slack) | (v > hi + slack))):
@@ -251,6 +291,11 @@ class ScoringModel:
         kind = col.kind
         values = col.values
         miss = np.nan if enc.fill is None else float(enc.fill)
+        if enc.kind == "ln":  # a value at or below 0 has no log: no prediction for that row
+            v = self._encode(Encoding(enc.name, enc.source, enc.letter, "number"), col, table)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                logged = np.log(np.where(v > 0, v, np.nan))
+            return np.where(np.isfinite(v), logged, miss)
         if enc.kind in ("number", "flag"):
             if kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
                 v = np.asarray(values, dtype=float).copy()
@@ -316,6 +361,10 @@ class ScoringModel:
         is_num = num is not None
         if enc.kind == "number":
             return float(num) if num is not None else miss
+        if enc.kind == "ln":
+            if num is None:
+                return miss
+            return math.log(num) if num > 0 else math.nan
         if enc.kind == "flag":
             if is_num:
                 return 1.0 if raw != 0 else 0.0
@@ -357,7 +406,8 @@ class ScoringModel:
     def sheet_prediction(self, encoded: list[float]) -> float:
         """The prediction formula of the sheet, evaluated in the same centred form."""
         x = np.asarray(encoded, dtype=float)
-        return float(self.centre + np.sum(self.std_coefficients * ((x - self.means) / self.sds)))
+        linear = self.centre + np.sum(self.std_coefficients * ((x - self.means) / self.sds))
+        return float(self.to_response_units(np.array([linear]))[0])
 
 
 def _low(x: object) -> str:

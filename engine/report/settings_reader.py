@@ -6,7 +6,13 @@ refuses layouts newer than this Tamis knows, naming the file and the version.
 
 from __future__ import annotations
 
-__all__ = ["read_settings", "read_settings_v1", "load_scoring_model", "SettingsRecord"]
+__all__ = [
+    "read_settings",
+    "read_settings_v1",
+    "read_settings_v2",
+    "load_scoring_model",
+    "SettingsRecord",
+]
 
 import json
 from dataclasses import dataclass, field
@@ -48,6 +54,16 @@ class SettingsRecord:
             )
         m = self.models[chosen]
         cv_error = m.get("cv_error")
+        smearing = None
+        if self.design.get("response scale") == "ln":
+            factor = m.get("smearing")
+            smearing = factor if isinstance(factor, float) and factor > 0 else None
+            if smearing is None:
+                raise InputProblem(
+                    f"model '{chosen}' explains the ln of the response but its smearing factor "
+                    "is missing from the settings sheet; write the results again with `tamis fit`",
+                    place,
+                )
         return ScoringModel.from_parts(
             chosen,
             str(self.design.get("response", "")),
@@ -60,6 +76,7 @@ class SettingsRecord:
             self.levels,
             cv_error if isinstance(cv_error, float) else None,
             self.ranges,
+            smearing,
         )
 
 
@@ -106,11 +123,32 @@ def _record(path: str | Path) -> SettingsRecord:
             f"Tamis reads ({LAYOUT_VERSION}); update Tamis",
             place,
         )
-    return read_settings_v1(rows, place)
+    if version == 1:
+        return read_settings_v1(rows, place)
+    return read_settings_v2(rows, place)
+
+
+def read_settings_v2(rows: list[tuple], place: Place | None = None) -> SettingsRecord:
+    """Parse the rows of a layout-version-2 settings sheet: version 1 plus the response's
+    scale in [design] and a smearing column in [models] (studies that took logs)."""
+    record = _parse(rows, place)
+    if record.design.get("response scale") not in ("ln", "original"):
+        raise InputProblem(
+            "the settings sheet does not say whether the response was modelled as its ln; it "
+            "was changed by hand or damaged: write the results again with `tamis fit`",
+            place,
+        )
+    return record
 
 
 def read_settings_v1(rows: list[tuple], place: Place | None = None) -> SettingsRecord:
-    """Parse the rows of a layout-version-1 settings sheet."""
+    """Parse the rows of a layout-version-1 settings sheet (no logs: the response in its units)."""
+    record = _parse(rows, place)
+    record.design.pop("response scale", None)
+    return record
+
+
+def _parse(rows: list[tuple], place: Place | None) -> SettingsRecord:
     sections: dict[str, list[tuple]] = {}
     current = None
     for r in rows[1:]:

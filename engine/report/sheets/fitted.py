@@ -18,10 +18,11 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         ws,
         1,
         0,
-        "Source row is the row number in that sheet; residual = response - fitted.",
+        "Source row is the row number in that sheet; residual = response - fitted"
+        + (f", both on the ln scale of {d.response}." if d.response_log else "."),
         fm.note,
     )
-    heads = ["Source row", d.response]
+    heads = ["Source row", d.response_label]
     for m in models:
         heads += [f"Fitted ({m.method})", f"Residual ({m.method})"]
     for c, h in enumerate(heads):

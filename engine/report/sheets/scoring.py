@@ -12,7 +12,8 @@ Layout (rows top to bottom, written in order for xlsxwriter's constant_memory mo
 - the first rows of the study's data as examples, then empty rows ready for pasting.
 
 Every formula uses only functions every spreadsheet program has (IF, ISNUMBER, ISLOGICAL,
-ISBLANK, ISERROR, EXACT, LOWER, TRIM, OR, INT, MONTH, WEEKDAY, COUNTA, SUMPRODUCT, NA), and
+ISBLANK, ISERROR, EXACT, LOWER, TRIM, OR, AND, INT, MONTH, WEEKDAY, COUNTA, SUMPRODUCT, NA, and
+LN and EXP where the study took logs), and
 reads means, standard deviations, coefficients and the centre from cells rather than baking them
 in. Cached values are real numbers (Python mirror of each formula), so every reader shows them.
 """
@@ -102,9 +103,11 @@ def example_rows(
                         d.X[i, idx[trend[0].name]]
                     )
             else:
-                main = [e for e in encs if e.kind in ("number", "flag")]
+                main = [e for e in encs if e.kind in ("number", "flag", "ln")]
                 if main:
                     value = float(d.X[i, idx[main[0].name]])
+                    if main[0].kind == "ln":
+                        value = float(np.exp(value))
             row[source] = value
         rows.append(row)
     return rows
@@ -128,6 +131,8 @@ def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> st
     no_test = "OR(" + ",".join(f'{low}="{t}"' for t in no) + ")"
     if enc.kind == "number":
         return f"IF(ISNUMBER({src}),{src},{miss})"
+    if enc.kind == "ln":  # a number at or below 0 has no log: no prediction (the check says why)
+        return f"IF(ISNUMBER({src}),IF({src}>0,LN({src}),NA()),{miss})"
     if enc.kind == "flag":
         return (
             f"IF(ISNUMBER({src}),IF({src}<>0,1,0),IF(ISLOGICAL({src}),IF({src},1,0),"
@@ -220,7 +225,15 @@ def write(
         ),
         ("Centre (prediction at the column means)", model.centre),
         ("Intercept (original units)", model.intercept),
-        (f"Response predicted: {model.response}", None),
+        (
+            (
+                f"Smearing factor: the model explains ln({model.response}); the prediction in "
+                f"{model.response}'s units is EXP(centre + sum) times this factor (Duan 1983)",
+                model.smearing,
+            )
+            if model.response_log
+            else (f"Response predicted: {model.response}", None)
+        ),
     ]
     row = 0
     param_top = 8
@@ -229,6 +242,7 @@ def write(
     header = last_param_row + 2
     first = header + 1
     centre_cell = cell_ref(5, 1, True, True)
+    smearing_cell = cell_ref(7, 1, True, True)
     # fixed references to parameter rows (absolute row, relative column)
     prow = {name: param_top + i for i, name in enumerate(_PARAM_ROWS)}
     level_rows = {s: param_top + len(_PARAM_ROWS) + i for i, s in enumerate(cat_sources)}
@@ -293,7 +307,7 @@ def write(
     # header row
     for s_i, s in enumerate(sources):
         text(ws, header, s_i, s, fm.heading)
-    text(ws, header, pred_col, f"Prediction of {model.response}", fm.heading)
+    text(ws, header, pred_col, model.prediction_label, fm.heading)
     text(ws, header, check_col, "Check", fm.heading)
     text(ws, header, label_col, "(encoded values below)", fm.note)
     for j, enc in enumerate(encs):
@@ -325,6 +339,7 @@ def write(
         for s_i, s in enumerate(sources)
         if (kind := source_kind(encs, s)) in ("number", "date")
     ]
+    logged_sources = sorted({sources.index(e.source) for e in encs if e.kind == "ln"})
     for t in range(n_rows):
         r = first + t
         ex = examples[t] if t < len(examples) else None
@@ -370,8 +385,10 @@ def write(
             body = f"{centre_cell}+SUMPRODUCT({beta_rng},({cell_ref(r, enc0)}:{cell_ref(r, enc0 + k - 1)}-{mean_rng})/{sd_rng})"
         else:
             body = centre_cell
+        if model.response_log:
+            body = f"EXP({body})*{smearing_cell}"
         if ex is not None:
-            pv = model.sheet_prediction(encoded) if k else model.centre
+            pv = model.sheet_prediction(encoded)
             pcached: object = "#N/A" if not np.isfinite(pv) else pv
         else:
             pcached = ""
@@ -396,9 +413,14 @@ def write(
             checks.append(
                 f'IF(OR(ISBLANK({cell}),ISNUMBER({cell})),"","not a {kind} in {col_name(s_i)}; ")'
             )
+        for s_i in logged_sources:  # a number with no log
+            cell = cell_ref(r, s_i, False, True)
+            checks.append(
+                f'IF(ISNUMBER({cell}),IF({cell}<=0,"not above 0 (no ln) in {col_name(s_i)}; ",""),"")'
+            )
         for j, enc in enumerate(encs):
             lows, highs = model.lows, model.highs
-            if enc.kind not in ("number", "trend") or lows is None or highs is None:
+            if enc.kind not in ("number", "trend", "ln") or lows is None or highs is None:
                 continue
             if not (math.isfinite(float(lows[j])) and math.isfinite(float(highs[j]))):
                 continue

@@ -1,18 +1,22 @@
 """The settings sheet: the study specification and everything scoring needs, machine-readable.
 
-Layout version 1 (read by ``engine.report.settings_reader.read_settings_v1``). Column A holds
+Layout version 2 when the study took natural logs (read by ``read_settings_v2``), else layout
+version 1 (``read_settings_v1``), so that such workbooks stay readable by an older Tamis, while
+one that could not apply the logs refuses the newer layout. Column A holds
 keys or section markers in square brackets; values follow in columns B onwards. Text values
 are JSON; a JSON text longer than one cell holds is split over consecutive cells of its row.
 
     A1  "Tamis settings"            B1  layout version (1)
     [about]        tool version, specification schema version, written at, scoring model
     [study]        one row per StudySpec field (JSON), the schema version included
-    [design]       response, sheet, header row, rows used, response mean
+    [design]       response, sheet, header row, rows used, response mean; version 2 adds
+                   "response scale": "ln" or "original"
     [encodings]    header row, then per model column: name, source, letter, kind, level, fill,
                    origin, reference, mean, sd (level/origin/reference as JSON)
     [levels]       per category source: source, JSON list of its levels (reference first)
     [models]       header row, then per method: method, intercept, penalty, mix, choice,
-                   cv_error, cv_error_se, r2
+                   cv_error, cv_error_se, r2; version 2 adds smearing (the factor that takes an
+                   ln-scale prediction back to the response's units)
     [coefficients] header row (name, then one column per method), one row per model column
     [end]
 """
@@ -28,7 +32,7 @@ import json
 
 from engine.report.sheets.cells import Formats, number, text
 
-LAYOUT_VERSION = 1
+LAYOUT_VERSION = 2  # the newest layout this Tamis writes and reads
 TITLE = "Tamis settings"
 CHUNK = 30_000  # characters per cell; spreadsheet cells hold at most 32,767
 
@@ -46,7 +50,8 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     ws.set_column(0, 0, 22)
     ws.set_column(1, 12, 16)
     text(ws, 0, 0, TITLE, fm.title)
-    ws.write_number(0, 1, LAYOUT_VERSION)
+    uses_logs = d.response_log or any(e.kind == "ln" for e in d.encodings)
+    ws.write_number(0, 1, LAYOUT_VERSION if uses_logs else 1)
     text(
         ws,
         1,
@@ -86,6 +91,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         ("rows used", d.n_rows),
         ("rows dropped", d.rows_dropped),
         ("response mean", d.y_mean),
+        *((("response scale", "ln" if d.response_log else "original"),) if uses_logs else ()),
     ):
         key(k)
         _json_cells(ws, r, v)
@@ -123,9 +129,19 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         r += 1
     text(ws, r, 0, "[models]", fm.label)
     r += 1
-    for c, h in enumerate(
-        ("method", "intercept", "penalty", "mix", "choice", "cv_error", "cv_error_se", "r2")
-    ):
+    model_heads = [
+        "method",
+        "intercept",
+        "penalty",
+        "mix",
+        "choice",
+        "cv_error",
+        "cv_error_se",
+        "r2",
+    ]
+    if uses_logs:
+        model_heads.append("smearing")
+    for c, h in enumerate(model_heads):
         text(ws, r, c, h, fm.heading)
     r += 1
     for m in result.models:
@@ -138,6 +154,8 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         number(ws, r, 5, m.cv_error)
         number(ws, r, 6, m.cv_error_se)
         number(ws, r, 7, m.r2)
+        if uses_logs:
+            number(ws, r, 8, m.smearing)
         r += 1
     text(ws, r, 0, "[coefficients]", fm.label)
     r += 1

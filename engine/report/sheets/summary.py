@@ -58,7 +58,7 @@ def write(book, ws, result, fm: Formats) -> None:
         ("Rows used", d.n_rows),
         ("Rows dropped", d.rows_dropped),
         ("Why rows were dropped", reasons),
-        ("Response", d.response),
+        ("Response", d.response_label),
         ("Candidate columns (model columns after encoding)", d.n_cols),
         (
             "Columns left out",

@@ -507,6 +507,7 @@ class MainWindow(QMainWindow):
 
         memory = self.store.book(loaded.path)
         roles = default_roles(t)
+        kept_logged = self.ledger.model.logged()
         if self._pending_spec is not None:
             roles = roles_from_spec(t, self._pending_spec)
         elif previous is not None and previous.path == loaded.path:
@@ -525,6 +526,12 @@ class MainWindow(QMainWindow):
             else:
                 self.results.set_outdated(True)
         self.ledger.model.set_table(t, roles)
+        if self._pending_spec is not None:
+            self.ledger.model.set_logged(self._pending_spec.log_columns, announce=False)
+        elif previous is not None and previous.path == loaded.path:
+            self.ledger.model.set_logged(kept_logged, announce=False)
+        elif memory.get("sheet") == t.sheet and isinstance(memory.get("logged"), list):
+            self.ledger.model.set_logged(memory["logged"], announce=False)
         if self._pending_spec is not None:
             self.settings_panel.set_values(settings_from_spec(self._pending_spec))
         elif previous is None or previous.path != loaded.path:
@@ -619,7 +626,11 @@ class MainWindow(QMainWindow):
             return []
         values = self.settings_panel.values()
         self.problems = check_roles(
-            self.book.table, self.ledger.model.roles(), values["scheme"], values["methods"]
+            self.book.table,
+            self.ledger.model.roles(),
+            values["scheme"],
+            values["methods"],
+            self.ledger.model.logged(),
         )
         per_column: dict[str, str] = {}
         general: list[str] = []
@@ -656,6 +667,7 @@ class MainWindow(QMainWindow):
             sheet=self.book.table.sheet,
             header_row=self.book.table.header_row,
             roles={n: r.value for n, r in self.ledger.model.roles().items()},
+            logged=list(self.ledger.model.logged()),
             settings={
                 k: (list(v) if isinstance(v, tuple) else v)
                 for k, v in self.settings_panel.values().items()
@@ -673,6 +685,7 @@ class MainWindow(QMainWindow):
             self.ledger.model.roles(),
             self.settings_panel.values(),
             header_row=self.book.table.header_row,
+            logged=self.ledger.model.logged(),
         )
 
     def run_study(self, spec_override: StudySpec | None = None) -> bool:

@@ -363,7 +363,7 @@ class ResultView(QWidget):
         dropped = f", {d.rows_dropped} left out" if d.rows_dropped else ""
         took = f" in {result.seconds:.1f} s" if result.seconds else ""
         self.summary.setText(
-            f"{d.response} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"
+            f"{d.response_label} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"
         )
         self.outdated_note.hide()
         self.method_box.blockSignals(True)

@@ -54,6 +54,8 @@ ROLE_HELP: dict[Role, str] = {
 }
 
 _SINGLE = (Role.RESPONSE, Role.FOCAL, Role.GROUP, Role.TIME_ORDER)
+# the roles whose column enters the model, so that its natural log can be taken
+_LOGGABLE_ROLES = (Role.RESPONSE, Role.CANDIDATE, Role.FOCAL)
 _NUMERIC_KINDS = (ColumnKind.NUMBER, ColumnKind.FLAG)
 
 
@@ -111,9 +113,21 @@ def check_roles(
     roles: Mapping[str, Role],
     scheme: str = "kfold",
     methods: tuple[str, ...] = ("lasso",),
+    logged: tuple[str, ...] = (),
 ) -> list[RoleProblem]:
     """Every reason the run cannot start yet; empty when it can."""
     problems: list[RoleProblem] = []
+    for c in table.columns:  # the engine names the first such cell; here the column suffices
+        in_study = roles.get(c.name, Role.IGNORE) in _LOGGABLE_ROLES
+        low = c.minimum if isinstance(c.minimum, (int, float)) else None
+        if c.name in logged and in_study and low is not None and low <= 0:
+            problems.append(
+                RoleProblem(
+                    f"This column holds values at or below 0 (lowest {low:g}), which have no "
+                    "natural log; untick ln or correct those cells.",
+                    c.name,
+                )
+            )
     by_role: dict[Role, list[str]] = {r: [] for r in Role}
     for c in table.columns:
         role = roles.get(c.name, Role.IGNORE)
@@ -148,11 +162,14 @@ def build_spec(
     roles: Mapping[str, Role],
     settings: Mapping[str, Any],
     header_row: int | None = None,
+    logged: tuple[str, ...] = (),
 ) -> StudySpec:
     """The frozen request for ``engine.study.run_study``. Call only when ``check_roles`` is empty.
 
     ``settings`` holds StudySpec field names (methods, folds, scheme, choose, seed, missing ...).
     The focal column is also passed as a candidate: double selection needs it in the design.
+    ``logged``: columns ticked for their natural log; a tick on a column outside the model
+    (ignored, group, time order) is kept on screen but not sent.
     """
 
     def one(role: Role) -> str | None:
@@ -172,6 +189,7 @@ def build_spec(
         focal=focal,
         group=one(Role.GROUP),
         time_order=one(Role.TIME_ORDER),
+        log_columns=tuple(n for n in logged if roles.get(n) in _LOGGABLE_ROLES),
         **dict(settings),
     )
 

@@ -92,16 +92,24 @@ def _column_tooltip(col: Column) -> str:
     return "\n".join(lines)
 
 
-LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "Check")
-COL_NAME, COL_LETTER, COL_KIND, COL_MISSING, COL_ROLE, COL_CHECK = range(6)
+LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "ln", "Check")
+COL_NAME, COL_LETTER, COL_KIND, COL_MISSING, COL_ROLE, COL_LOG, COL_CHECK = range(7)
+
+LOG_HELP = (
+    "Tick to use the natural log of this number column (every value must be above 0). Suits "
+    "amounts that vary by factors, such as prices, sales or incomes: effects become relative, "
+    "and with both the response and a column in ln the effect is an elasticity (percent per "
+    "percent). A response in ln is predicted back in its own units."
+)
 
 
 class ColumnLedgerModel(QAbstractTableModel):
-    """One row per column: name, letter, kind, missing count, role (editable), check.
+    """One row per column: name, letter, kind, missing count, role (editable), ln (a tick box
+    on number columns), check.
 
     The Check cell shows the blocking problem for that column in the problem colour, or the
     intake notes (numbers stored as text, near duplicates ...) in a muted colour.
-    ``roles_changed`` fires after any role edit, with the full mapping.
+    ``roles_changed`` fires after any role edit or ln tick, with the full role mapping.
     """
 
     roles_changed = Signal(object)  # dict[str, Role]
@@ -112,6 +120,7 @@ class ColumnLedgerModel(QAbstractTableModel):
         self._roles: dict[str, Role] = {}
         self._problems: dict[str, str] = {}
         self._highlight: str | None = None
+        self._logged: set[str] = set()
 
     # state ------------------------------------------------------------------------------
     @property
@@ -128,7 +137,27 @@ class ColumnLedgerModel(QAbstractTableModel):
         given = roles or {}
         self._roles = {n: given.get(n, Role.IGNORE) for n in names}
         self._problems = {}
+        self._logged = set()
         self.endResetModel()
+
+    def logged(self) -> tuple[str, ...]:
+        """Columns ticked for their natural log, in sheet order."""
+        if self._table is None:
+            return ()
+        return tuple(c.name for c in self._table.columns if c.name in self._logged)
+
+    def set_logged(self, names, announce: bool = True) -> None:
+        """Tick exactly these columns (those that can be logged); ``announce``: emit
+        roles_changed (not while a sheet is being loaded, as for set_table)."""
+        if self._table is None:
+            return
+        loggable = {c.name for c in self._table.columns if c.kind is ColumnKind.NUMBER}
+        new = set(names) & loggable
+        if new != self._logged:
+            self._logged = new
+            self._emit_all(COL_LOG)
+            if announce:
+                self.roles_changed.emit(self.roles())
 
     def set_roles(self, changes: Mapping[str, Role]) -> None:
         """Change some roles (unknown names are ignored) and announce the new mapping once."""
@@ -183,13 +212,25 @@ class ColumnLedgerModel(QAbstractTableModel):
         f = super().flags(index)
         if index.isValid() and index.column() == COL_ROLE:
             f |= Qt.ItemFlag.ItemIsEditable
+        if index.isValid() and index.column() == COL_LOG and self._loggable(index.row()):
+            f |= Qt.ItemFlag.ItemIsUserCheckable
         return f
+
+    def _loggable(self, row: int) -> bool:
+        return self._table is not None and self._table.columns[row].kind is ColumnKind.NUMBER
 
     def data(self, index: _Index, role: int = _DISPLAY):
         if self._table is None or not index.isValid():
             return None
         col = self._table.columns[index.row()]
         c = index.column()
+        if c == COL_LOG and role == Qt.ItemDataRole.CheckStateRole:
+            if not self._loggable(index.row()):
+                return None
+            ticked = col.name in self._logged
+            return Qt.CheckState.Checked if ticked else Qt.CheckState.Unchecked
+        if c == COL_LOG and role == Qt.ItemDataRole.ToolTipRole:
+            return LOG_HELP if self._loggable(index.row()) else "Only number columns can be logged."
         if role in (_DISPLAY, Qt.ItemDataRole.EditRole):
             if c == COL_NAME:
                 return col.name
@@ -238,7 +279,16 @@ class ColumnLedgerModel(QAbstractTableModel):
         return None
 
     def setData(self, index: _Index, value, role: int = Qt.ItemDataRole.EditRole) -> bool:
-        if self._table is None or not index.isValid() or index.column() != COL_ROLE:
+        if self._table is None or not index.isValid():
+            return False
+        if index.column() == COL_LOG and role == Qt.ItemDataRole.CheckStateRole:
+            if not self._loggable(index.row()):
+                return False
+            name = self._table.columns[index.row()].name
+            ticked = Qt.CheckState(value) == Qt.CheckState.Checked
+            self.set_logged(self._logged | {name} if ticked else self._logged - {name})
+            return True
+        if index.column() != COL_ROLE:
             return False
         try:
             new = Role(value)
@@ -254,5 +304,6 @@ _HEADING_TIPS = (
     "What the column holds, as Tamis read it: number, flag (yes/no), category, date, identifier or empty.",
     "Cells that are empty, hold an error value or text that is not a number.",
     "What the column is for in this study. Select several rows to set them together.",
+    LOG_HELP,
     "Problems that stop the run (highlighted) and notes from reading the sheet.",
 )

@@ -125,3 +125,29 @@ def test_preview_of_100000_rows_formats_only_what_is_asked(qtbot):
     assert m.data(m.index(n - 1, 1)) == str(np.datetime_as_string(dates[-1], unit="D"))
     assert m.headerData(n - 1, Qt.Orientation.Vertical) == str(n + 1)  # the sheet's own row number
     assert format_value(cols[0], 1) == f"{v[1]:.6g}"
+
+
+def test_ln_tick_box_only_on_number_columns_and_announced(qtbot):
+    from desktop.table_models import COL_LOG
+
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    m = led.model
+    seen = []
+    m.roles_changed.connect(seen.append)
+    ident, x2 = 0, m.row_of("x2")
+    check = Qt.ItemDataRole.CheckStateRole
+    assert not m.flags(m.index(ident, COL_LOG)) & Qt.ItemFlag.ItemIsUserCheckable
+    assert m.data(m.index(ident, COL_LOG), check) is None
+    assert not m.setData(m.index(ident, COL_LOG), Qt.CheckState.Checked.value, check)
+    assert m.flags(m.index(x2, COL_LOG)) & Qt.ItemFlag.ItemIsUserCheckable
+    assert m.data(m.index(x2, COL_LOG), check) == Qt.CheckState.Unchecked
+    assert m.setData(m.index(x2, COL_LOG), Qt.CheckState.Checked.value, check)
+    assert m.logged() == ("x2",) and len(seen) == 1
+    assert m.data(m.index(x2, COL_LOG), check) == Qt.CheckState.Checked
+    m.set_logged(["x2", "lot_id", "x4"])  # an identifier cannot be logged
+    assert m.logged() == ("x2", "x4")
+    m.set_table(t, default_roles(t))  # another sheet: no ticks carried silently
+    assert m.logged() == ()

@@ -20,6 +20,7 @@ from PySide6.QtGui import QDropEvent, QKeySequence
 from desktop.engine_calls import EngineCalls
 from desktop.main_window import PAGE_FINDINGS, MainWindow
 from desktop.roles import Role
+from desktop.table_models import COL_CHECK
 from engine.errors import InputProblem, Place
 
 
@@ -125,7 +126,7 @@ def test_roles_block_the_run_until_a_response_is_chosen(qtbot, store, book):
     w.ledger.model.set_roles({"region": Role.RESPONSE})
     assert not w.run_action.isEnabled()
     row = w.ledger.model.row_of("region")
-    assert "numbers" in w.ledger.model.data(w.ledger.model.index(row, 5))
+    assert "numbers" in w.ledger.model.data(w.ledger.model.index(row, COL_CHECK))
     w.ledger.model.set_roles({"region": Role.IGNORE, "response_y": Role.RESPONSE})
     assert w.run_action.isEnabled() and w.readiness.text() == "Ready to run."
 

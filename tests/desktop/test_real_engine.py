@@ -7,10 +7,13 @@ import time
 from pathlib import Path
 
 import numpy as np
+import pytest
 from conftest import TableCalls, simulated_table
 from openpyxl import load_workbook
+from PySide6.QtCore import Qt
 from test_main_window import make_window, open_and_wait, wait_idle
 
+from desktop.engine_calls import EngineCalls
 from desktop.roles import Role
 from engine.report import read_settings
 
@@ -18,7 +21,7 @@ DEMO = Path(__file__).resolve().parents[2] / "demo" / "tamis_demo.xlsx"
 
 
 def test_real_run_cursor_and_save_in_place(qtbot, store, book):
-    w = make_window(qtbot, store)  # the real EngineCalls
+    w = make_window(qtbot, store, EngineCalls())
     open_and_wait(qtbot, w, book)
     w.ledger.model.set_roles({"response_y": Role.RESPONSE})
     w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 50})
@@ -79,3 +82,49 @@ def test_demo_workbook_opens_with_its_sheets(qtbot, store, tmp_path):
     wait_idle(qtbot, w)
     assert w.book.table.sheet == "Bakery demand"
     assert w.ledger.model.row_of("loaves_sold") >= 0 and w.ledger.model.row_of("price") >= 0
+
+
+def test_real_run_with_ln_ticks_saves_and_reopens_them(qtbot, store, tmp_path):
+    # units sold falls with price at a constant elasticity (-1.2): ticking ln on both makes the
+    # window's study explain ln(units), and the saved analysis ticks them again on reopening
+    from openpyxl import Workbook
+    from test_main_window import StandIn
+
+    from desktop.table_models import COL_LOG
+
+    rng = np.random.default_rng(5)
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Sales"
+    ws.append(["units", "price", "shelf_m"])
+    for _ in range(80):
+        price, shelf = float(rng.uniform(1.5, 4.0)), float(rng.uniform(5, 15))
+        units = float(np.exp(5.0 - 1.2 * np.log(price) + 0.03 * shelf + rng.normal(0, 0.1)))
+        ws.append([units, price, shelf])
+    book = tmp_path / "sales.xlsx"
+    wb.save(book)
+    w = make_window(qtbot, store, EngineCalls())
+    open_and_wait(qtbot, w, book)
+    m = w.ledger.model
+    m.set_roles({"units": Role.RESPONSE})
+    check = Qt.ItemDataRole.CheckStateRole
+    for name in ("units", "price"):
+        assert m.setData(m.index(m.row_of(name), COL_LOG), Qt.CheckState.Checked.value, check)
+    w.settings_panel.set_values({"methods": ["ols"], "folds": 5})
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    res = w.result
+    assert res.design.response_log and "ln(price)" in res.design.names
+    assert res.model("ols").coefficients["ln(price)"] == pytest.approx(-1.2, abs=0.1)
+    assert res.model("ols").smearing > 1.0
+    with qtbot.waitSignal(w.saved, timeout=120_000):
+        assert w.save_in_place()
+    wait_idle(qtbot, w)
+    assert read_settings(book).log_columns == ("units", "price")
+    w2 = make_window(qtbot, store, StandIn())
+    open_and_wait(qtbot, w2, book)
+    with qtbot.waitSignal(w2.study_finished, timeout=60_000):
+        w2.message.action_button.click()
+    wait_idle(qtbot, w2)
+    assert w2.ledger.model.logged() == ("units", "price")

@@ -108,3 +108,24 @@ def test_spec_round_trip_through_roles_is_the_identity():
     back = roles_from_spec(t, StudySpec.from_dict(spec.to_dict()))
     assert back == roles
     assert settings_from_spec(spec)["methods"] == ["lasso", "ridge"]
+
+
+def test_ln_ticks_reach_the_request_only_for_columns_in_the_model():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles.update({"response_y": Role.RESPONSE, "x0": Role.FOCAL, "x5": Role.IGNORE})
+    spec = build_spec(t, roles, {"methods": ("lasso",)}, logged=("x0", "x1", "x5"))
+    assert spec.log_columns == ("x0", "x1")  # x5 is ignored: its tick is not sent
+
+
+def test_an_ln_tick_on_a_column_with_values_at_or_below_zero_blocks_the_run():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles["response_y"] = Role.RESPONSE
+    x1 = next(c for c in t.columns if c.name == "x1")
+    assert x1.minimum is not None and x1.minimum <= 0  # simulated normal values
+    problems = check_roles(t, roles, logged=("x1",))
+    assert [p.column for p in problems] == ["x1"]
+    assert "no natural log" in problems[0].message
+    roles["x1"] = Role.IGNORE  # out of the model: the tick does not matter
+    assert check_roles(t, roles, logged=("x1",)) == []

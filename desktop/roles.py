@@ -230,6 +230,7 @@ SETTING_FIELDS = (
     "date_parts",
     "stability_runs",
     "focal_penalty",
+    "scoring_method",
 )
 
 

@@ -50,6 +50,7 @@ MISSING_WORDS = {
     "fill": "Fill with the median and mark the gap",
 }
 FOCAL_WORDS = {"plugin": "Formula-based (plug-in)", "cv": "By validation"}
+SCORING_AUTO = "Smallest held-out error"
 
 _DEFAULT = StudySpec(source="", response="")
 _CATALOGUE = [m.name for m in METHODS]
@@ -136,6 +137,17 @@ class SettingsPanel(QScrollArea):
             self.choose,
             "Lowest validation error: the best-scoring point. Simplest within one standard error: "
             "the fewest columns whose error is statistically as good; usually a smaller set.",
+        )
+        self.scoring = QComboBox()
+        self.scoring.addItem(SCORING_AUTO, None)
+        self.scoring.currentIndexChanged.connect(self._on_change)
+        self._row(
+            form,
+            "Scoring sheet uses",
+            self.scoring,
+            "Which method's model goes into the workbook's scoring sheet, where colleagues paste "
+            "new rows. By default the one with the smallest held-out error; a simpler model "
+            "(the lasso rather than least squares after it, say) may be easier to hand over.",
         )
         self.seed = self._spin(0, 2_147_483_647, _DEFAULT.seed)
         self._row(
@@ -239,10 +251,27 @@ class SettingsPanel(QScrollArea):
         self.changed.emit()
 
     def _sync_enabled(self) -> None:
+        self._refill_scoring()
         scheme = self.scheme.currentData()
         self.folds.setEnabled(scheme != "loo")
         self.repeats.setEnabled(scheme == "repeated")
         self.mix.setEnabled(self.method_boxes["elastic-net"].isChecked())
+
+    def _refill_scoring(self, wanted: str | None = None) -> None:
+        """The scoring choices follow the ticked methods; a choice whose method was unticked
+        falls back to the default."""
+        current = wanted if wanted is not None else self.scoring.currentData()
+        ticked = [m for m in METHODS if self.method_boxes[m.name].isChecked()]
+        self.scoring.blockSignals(True)
+        try:
+            self.scoring.clear()
+            self.scoring.addItem(SCORING_AUTO, None)
+            for m in ticked:
+                self.scoring.addItem(m.title, m.name)
+            at = self.scoring.findData(current) if current is not None else 0
+            self.scoring.setCurrentIndex(max(at, 0))
+        finally:
+            self.scoring.blockSignals(False)
 
     # values -----------------------------------------------------------------------------
     def values(self) -> dict[str, Any]:
@@ -263,6 +292,7 @@ class SettingsPanel(QScrollArea):
             "date_parts": bool(self.date_parts.isChecked()),
             "stability_runs": int(self.stability_runs.value()),
             "focal_penalty": self.focal_penalty.currentData(),
+            "scoring_method": self.scoring.currentData(),
         }
 
     def set_values(self, values: Mapping[str, Any]) -> None:
@@ -294,6 +324,10 @@ class SettingsPanel(QScrollArea):
                 self.mix.setValue(float(values["mix"]))
             if "date_parts" in values:
                 self.date_parts.setChecked(bool(values["date_parts"]))
+            wanted = values.get("scoring_method")
+            self._refill_scoring(wanted if isinstance(wanted, str) else None)
+            if "scoring_method" in values and not isinstance(wanted, str):
+                self.scoring.setCurrentIndex(0)
         finally:
             self.blockSignals(False)
         self._sync_enabled()

@@ -77,6 +77,12 @@ def build_parser() -> argparse.ArgumentParser:
         "--exclude", nargs="+", metavar="COLUMN", default=[], help="columns to leave out"
     )
     f.add_argument(
+        "--scoring-method",
+        metavar="METHOD",
+        help="the method the scoring sheet uses, one of --methods (default: the one with the "
+        "smallest cross-validated error)",
+    )
+    f.add_argument(
         "--log",
         nargs="+",
         metavar="COLUMN",
@@ -190,6 +196,12 @@ def build_parser() -> argparse.ArgumentParser:
     sc.add_argument("book", help="workbook or CSV file with new rows")
     sc.add_argument("--results", required=True, help="a workbook written by 'tamis fit'")
     sc.add_argument("--sheet", help="sheet of BOOK holding the new rows")
+    sc.add_argument(
+        "--method",
+        metavar="METHOD",
+        help="which of the results workbook's models predicts (default: the one its scoring "
+        "sheet uses)",
+    )
     sc.add_argument(
         "--out", metavar="PATH", help="where to write the predictions (default: BOOK-scored.xlsx)"
     )

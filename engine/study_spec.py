@@ -57,6 +57,8 @@ class StudySpec:
         40  # above this many candidates best subset switches to a labelled approximate search
     )
     workers: int | None = None  # parallel workers; None: the machine's cores
+    # the method the scoring sheet uses; None: the smallest cross-validated error
+    scoring_method: str | None = None
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "methods", parse_methods(self.methods))
@@ -97,6 +99,11 @@ class StudySpec:
             raise InputProblem("grouped folds need a group column (--group COLUMN)")
         if self.scheme == "time" and not self.time_order:
             raise InputProblem("time-ordered folds need a time-order column (--time-order COLUMN)")
+        if self.scoring_method is not None and self.scoring_method not in self.methods:
+            raise InputProblem(
+                f"the scoring method '{self.scoring_method}' is not among the methods run "
+                f"({', '.join(self.methods)}); add it to the methods or choose one of them"
+            )
         if self.candidates is not None:
             object.__setattr__(self, "candidates", tuple(self.candidates))
         object.__setattr__(self, "exclude", tuple(self.exclude))

@@ -61,6 +61,7 @@ def spec_from_args(args) -> StudySpec:
         date_parts=args.date_parts,
         stability_runs=args.stability,
         workers=args.workers,
+        scoring_method=args.scoring_method,
     )
 
 

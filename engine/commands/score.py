@@ -1,4 +1,4 @@
-"""`tamis score BOOK --results RESULTS_BOOK [--sheet NAME] [--out PATH]`.
+"""`tamis score BOOK --results RESULTS_BOOK [--sheet NAME] [--method M] [--out PATH]`.
 
 Applies the model stored in a results workbook (its settings sheet) to the rows of another
 workbook and writes the predictions to a new workbook (default: BOOK's stem + "-scored.xlsx",
@@ -26,7 +26,7 @@ def run(args, ctx) -> int:
     book = Path(args.book)
     if not book.exists():
         raise InputProblem(f"file '{book}' does not exist", Place(file=str(book)))
-    model = load_scoring_model(args.results)
+    model = load_scoring_model(args.results, getattr(args, "method", None))
     out = Path(args.out) if getattr(args, "out", None) else default_out(book)
     if out.exists() and out.resolve() == book.resolve():
         raise InputProblem(

@@ -21,6 +21,7 @@ from __future__ import annotations
 __all__ = [
     "ScoringModel",
     "choose_scoring_method",
+    "scoring_reason",
     "source_kind",
     "date_serial",
     "EXCEL_EPOCH",
@@ -68,11 +69,33 @@ def source_kind(encodings: list[Encoding], source: str) -> str:
 
 
 def choose_scoring_method(result) -> str:
-    """The method the scoring sheet uses: smallest cross-validated error, else the first."""
+    """The method the scoring sheet uses: the one the study names, else the smallest
+    cross-validated error, else the first."""
+    named = getattr(result.spec, "scoring_method", None)
+    if named and any(m.method == named for m in result.models):
+        return named
     with_cv = [m for m in result.models if m.cv_error is not None and math.isfinite(m.cv_error)]
     if with_cv:
         return min(with_cv, key=lambda m: m.cv_error).method
     return result.models[0].method
+
+
+def scoring_reason(result) -> str:
+    """Why the scoring sheet uses its method, in words for the sheet."""
+    named = getattr(result.spec, "scoring_method", None)
+    if named and choose_scoring_method(result) == named:
+        return "chosen in the study's settings"
+    if _has_cv(result):
+        reason = "the smallest cross-validated error among the methods of this study"
+    else:
+        reason = "the first method of this study"
+    if named:  # the named method gave no model (least squares with more columns than rows)
+        reason += f" ('{named}', named in the settings, gave no model)"
+    return reason
+
+
+def _has_cv(result) -> bool:
+    return any(m.cv_error is not None and math.isfinite(m.cv_error) for m in result.models)
 
 
 @dataclass

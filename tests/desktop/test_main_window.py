@@ -352,6 +352,21 @@ def test_every_setting_has_a_plain_tooltip_and_defaults_match_the_spec(qtbot):
         assert v == getattr(default, k), k
 
 
+def test_scoring_choice_follows_the_ticked_methods(qtbot):
+    from desktop.settings_panel import SCORING_AUTO, SettingsPanel
+
+    p = SettingsPanel()
+    qtbot.addWidget(p)
+    p.set_values({"methods": ["lasso", "ridge"], "scoring_method": "ridge"})
+    items = [p.scoring.itemText(i) for i in range(p.scoring.count())]
+    assert items[0] == SCORING_AUTO and len(items) == 3
+    assert p.values()["scoring_method"] == "ridge"
+    p.method_boxes["ridge"].setChecked(False)  # its method unticked: back to the default
+    assert p.values()["scoring_method"] is None and p.scoring.count() == 2
+    p.set_values({"methods": ["lasso", "ridge"], "scoring_method": None})
+    assert p.values()["scoring_method"] is None
+
+
 def test_findings_follow_their_workbook_and_say_when_settings_changed(qtbot, store, book, tmp_path):
     # findings of one file must not be shown (or saved) under another; after a role changes
     # they say they are from the last run

@@ -519,3 +519,18 @@ def test_elastic_net_degrees_of_freedom_are_the_trace_of_the_hat_matrix(tmp_path
             hat = ZA @ np.linalg.solve(ZA.T @ ZA + shift * np.eye(act.size), ZA.T)
             want = float(np.trace(hat))
         assert m.criteria.df[i] == pytest.approx(want, rel=1e-9, abs=1e-12)
+
+
+def test_scoring_method_option_reaches_the_workbook_and_a_wrong_one_exits_2(tmp_path):
+    from engine.report import load_scoring_model
+
+    X, y, _ = _sparse_problem()
+    book = _write_csv(tmp_path / "d.csv", X, y)
+    out = tmp_path / "r.xlsx"
+    argv = _fit_json_argv(book, 4, "lasso,ridge", "--scoring-method", "ridge", "--out", str(out))
+    code, stdout, err = _fit(argv, tmp_path)
+    assert code == 0, err
+    assert json.loads(stdout)["spec"]["scoring_method"] == "ridge"
+    assert load_scoring_model(out).method == "ridge"
+    code, _, err = _fit(_fit_json_argv(book, 4, "lasso", "--scoring-method", "ridge"), tmp_path)
+    assert code == 2 and "not among the methods run" in err

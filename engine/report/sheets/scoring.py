@@ -31,6 +31,7 @@ from engine.report.scoring_model import (
     DAYS_1900_TO_1904,
     ScoringModel,
     date_serial,
+    scoring_reason,
     source_kind,
 )
 from engine.report.sheets.cells import Formats, cell_ref, col_name, number, text
@@ -219,9 +220,7 @@ def write(
         ("Model used", model.method),
         (
             "Why this model",
-            "the smallest cross-validated error among the methods of this study"
-            if model.cv_error is not None
-            else "the first method of this study",
+            scoring_reason(result),
         ),
         ("Centre (prediction at the column means)", model.centre),
         ("Intercept (original units)", model.intercept),

@@ -139,3 +139,49 @@ def test_rows_beyond_the_fitted_range_are_scored_with_an_extrapolation_caution(s
     assert f"'{source}' {high + 10.0 * (high - float(model.lows[j])):.6g} outside" in after[1]
     assert after[1].startswith("extrapolation: ")
     assert after[:1] + after[2:] == before[:1] + before[2:]
+
+
+def test_score_with_another_stored_model_and_an_unknown_one(setup, tmp_path):
+    result, results, new = setup
+    ctx = _ctx()
+    out = tmp_path / "ridge.xlsx"
+    args = SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(out))
+    args.method = "ridge"
+    assert score.run(args, ctx) == 0
+    assert "with 'ridge'" in ctx.stdout.getvalue()
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Predictions"]
+    head = next(ws.iter_rows(min_row=4, max_row=4, values_only=True))
+    k = next(i for i, h in enumerate(head) if str(h).startswith("Prediction"))
+    got = np.array([r[k] for r in ws.iter_rows(min_row=5, values_only=True)], dtype=float)
+    # ridge by hand from the study's own coefficients (every model column, original units)
+    ridge = result.model("ridge")
+    table = read_table(new)
+    model = load_scoring_model(results, "ridge")
+    assert model.method == "ridge"
+    X = np.column_stack(
+        [model._encode(e, model._find_column(table, e.source), table) for e in model.encodings]
+    )
+    want = ridge.intercept + X @ np.array([ridge.coefficients[e.name] for e in model.encodings])
+    np.testing.assert_allclose(got, want, rtol=1e-12)
+    args.method, args.out = "best-subset", str(tmp_path / "none.xlsx")
+    with pytest.raises(InputProblem, match="holds no model 'best-subset'"):
+        score.run(args, _ctx())
+
+
+def test_the_study_can_name_the_scoring_sheets_method(tmp_path):
+    from engine.report.scoring_model import choose_scoring_method, scoring_reason
+    from engine.study_spec import StudySpec
+
+    result, _ = make_result(tmp_path)
+    assert scoring_reason(result).startswith("the smallest cross-validated error")
+    result.spec = result.spec.replace(scoring_method="forward-stepwise")
+    assert choose_scoring_method(result) == "forward-stepwise"
+    assert scoring_reason(result) == "chosen in the study's settings"
+    out = write_results(result, out=tmp_path / "named.xlsx")
+    assert load_scoring_model(out).method == "forward-stepwise"
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Scoring"]
+    top = [r[:2] for r in ws.iter_rows(max_row=6, values_only=True)]
+    assert ("Model used", "forward-stepwise") in top
+    assert ("Why this model", "chosen in the study's settings") in top
+    with pytest.raises(InputProblem, match="not among the methods run"):
+        StudySpec(source="x.xlsx", response="y", methods=("lasso",), scoring_method="ridge")

@@ -31,10 +31,10 @@ __all__ = [
 
 import posixpath
 import re
-from collections.abc import Callable, Iterable
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import BinaryIO
+from typing import BinaryIO, Protocol
 
 from defusedxml import ElementTree
 
@@ -219,20 +219,33 @@ def _next_name(part: str, taken: set[str]) -> str:
     return f"{stem}{start}{ext}"
 
 
+class RowAddition(Protocol):
+    """Rows to splice into one of our sheets (``bulk_rows.BulkSheet``)."""
+
+    def styles(self) -> set[int]:
+        """Our cell style numbers the rows use."""
+        ...
+
+    def inject(self, xml: str, styles: dict[int, int]) -> str:
+        """The sheet's XML with the rows in place, their styles renumbered by ``styles``."""
+        ...
+
+
 def merge_package(
     base_path: str,
     ours_path: str,
     out: BinaryIO,
     our_names: list[str],
-    transforms: dict[str, Callable[[str], str]] | None = None,
+    additions: dict[str, RowAddition] | None = None,
 ) -> None:
     """Write base + our sheets (replacing our previous ones) to the open binary file ``out``.
 
-    ``transforms`` maps one of our sheet names to a function applied to its XML text last
-    (used to splice in large numeric blocks, see ``bulk_rows``).
+    ``additions`` maps one of our sheet names to rows spliced into its XML text last (large
+    blocks of rows, see ``bulk_rows.BulkSheet``); the cell styles they use are merged with
+    those of our sheets.
     """
     with ZipSource(base_path) as base, ZipSource(ours_path) as ours:
-        _merge(base, ours, out, our_names, transforms or {})
+        _merge(base, ours, out, our_names, additions or {})
 
 
 def _merge(
@@ -240,7 +253,7 @@ def _merge(
     ours: ZipSource,
     out: BinaryIO,
     our_names: list[str],
-    transforms: dict[str, Callable[[str], str]],
+    additions: dict[str, RowAddition],
 ) -> None:
     pkg = _open_package(base)
     mine = _open_package(ours)
@@ -317,6 +330,8 @@ def _merge(
         sheet_texts[s.part] = text
         used.update(int(v) for v in re.findall(r'<(?:c|row)\b[^>]*?\ss="(\d+)"', text))
         used.update(int(v) for v in re.findall(r'<col\b[^>]*?\sstyle="(\d+)"', text))
+        if s.name in additions:
+            used.update(additions[s.name].styles())
     styles_part = _styles_part(base, pkg)
     mapping: dict[int, int] = {}
     if used:
@@ -377,8 +392,8 @@ def _merge(
         new = rename[part]
         if part in sheet_texts:
             text = _restyle_sheet(sheet_texts.pop(part), mapping)
-            transform = transforms.get(part_names[part])
-            data = (transform(text) if transform else text).encode("utf-8")
+            addition = additions.get(part_names[part])
+            data = (addition.inject(text, mapping) if addition else text).encode("utf-8")
         else:
             data = ours.read(part)
         writer.add(new, data)

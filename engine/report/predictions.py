@@ -10,6 +10,7 @@ from __future__ import annotations
 __all__ = ["write_predictions"]
 
 import datetime as _dt
+import math
 import tempfile
 from pathlib import Path
 
@@ -19,17 +20,28 @@ import xlsxwriter
 from engine.errors import WriteProblem
 from engine.report import names
 from engine.report.build_sheets import WORKBOOK_OPTIONS
+from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn, style_index
 from engine.report.data_copy import copy_to_xlsx
-from engine.report.package_merge import SheetNameTaken, merge_package
+from engine.report.package_merge import SheetNameTaken, merge_package, uses_1904_dates
 from engine.report.safe_write import commit
-from engine.report.sheets.cells import Formats, number, text
+from engine.report.scoring_model import DAYS_1900_TO_1904, EXCEL_EPOCH
+from engine.report.sheets.cells import Formats, text
 from engine.report.writer import verify_results_file
 
 
 def _sheet(
-    path: Path, table, model, preds: np.ndarray, notes: list[str], results_book: str
-) -> None:
-    book = xlsxwriter.Workbook(str(path), WORKBOOK_OPTIONS)
+    path: Path,
+    table,
+    model,
+    preds: np.ndarray,
+    notes: list[str],
+    results_book: str,
+    date1904: bool = False,
+) -> BulkSheet:
+    """Write the sheet's top rows; return its data rows as a block for the package merge
+    (about a hundred times faster than xlsxwriter's cell by cell for 100,000 rows)."""
+    book = xlsxwriter.Workbook(str(path), {**WORKBOOK_OPTIONS, "date_1904": date1904})
+    bulk = BulkSheet()
     try:
         fm = Formats(book)
         ws = book.add_worksheet(names.PREDICTIONS)
@@ -46,31 +58,54 @@ def _sheet(
         heads = ["Source row", *sources, model.prediction_label, "Note"]
         for c, h in enumerate(heads):
             text(ws, 3, c, h, fm.heading)
-        cols = {c.name: c for c in table.columns}
         ws.set_column(0, len(heads), 15)
         ws.freeze_panes(4, 1)
-        for i in range(table.n_rows):
-            r = 4 + i
-            ws.write_number(r, 0, int(table.row_numbers[i]))
-            for c, s in enumerate(sources, start=1):
-                col = cols.get(s)
-                if col is None:
-                    continue
-                v = col.values[i]
-                if isinstance(v, np.datetime64):
-                    if not np.isnat(v):
-                        ws.write_datetime(
-                            r, c, v.astype("datetime64[ms]").astype(_dt.datetime), fm.date
-                        )
-                elif isinstance(v, (float, np.floating, int, np.integer)):
-                    number(ws, r, c, float(v))
-                elif v is not None:
-                    text(ws, r, c, v)
-            number(ws, r, len(sources) + 1, float(preds[i]), fm.prediction)
-            if notes[i]:
-                text(ws, r, len(sources) + 2, notes[i], fm.note)
+        cols = {c.name: c for c in table.columns}
+        columns: list[NumberColumn | TextColumn] = [
+            NumberColumn(np.asarray(table.row_numbers, dtype=float))
+        ]
+        date_style = style_index(fm.date)
+        for s in sources:
+            columns.append(_values_column(cols.get(s), table.n_rows, date_style, date1904))
+        columns.append(NumberColumn(np.asarray(preds, dtype=float), style_index(fm.prediction)))
+        columns.append(TextColumn([n or None for n in notes], style_index(fm.note)))
+        bulk.add_columns(4, 0, columns)
     finally:
         book.close()
+    return bulk
+
+
+def _values_column(col, n: int, date_style: int | None, date1904: bool):
+    """A source column's cells as the scored sheet holds them: numbers, dates (serial numbers
+    in the workbook's date system, shown as dates) or text."""
+    if col is None:
+        return TextColumn([None] * n)
+    values = col.values
+    arr = np.asarray(values)
+    if arr.dtype.kind == "M":
+        days = arr.astype("datetime64[D]")
+        serial = (days - np.datetime64(EXCEL_EPOCH.isoformat(), "D")).astype(float)
+        serial[np.isnat(days)] = np.nan
+        if date1904:
+            serial = serial - DAYS_1900_TO_1904
+        return NumberColumn(serial, date_style)
+    if arr.dtype.kind in "fiub":
+        return NumberColumn(arr.astype(float))
+    # mixed cells (a category, text, numbers typed among words): each as it is
+    if all(isinstance(v, (float, int, np.floating, np.integer)) or v is None for v in values):
+        return NumberColumn(np.array([np.nan if v is None else float(v) for v in values]))
+    return TextColumn(
+        [
+            None if v is None or (isinstance(v, float) and math.isnan(v)) else _plain(v)
+            for v in values
+        ]
+    )
+
+
+def _plain(v: object) -> str:
+    if isinstance(v, (float, np.floating)) and float(v).is_integer():
+        return str(int(v))
+    return str(v)
 
 
 def write_predictions(
@@ -85,15 +120,17 @@ def write_predictions(
     book, out = Path(book), Path(out)
     with tempfile.TemporaryDirectory(prefix="tamis-score-") as tmp:
         ours = Path(tmp) / "ours.xlsx"
-        _sheet(ours, table, model, preds, notes, results_book)
         base = book
         if book.suffix.lower() not in (".xlsx", ".xlsm"):
             base = Path(tmp) / "data.xlsx"
             copy_to_xlsx(book, base)
+        bulk = _sheet(ours, table, model, preds, notes, results_book, uses_1904_dates(base))
 
         def build(fh) -> None:
             try:
-                merge_package(str(base), str(ours), fh, [names.PREDICTIONS])
+                merge_package(
+                    str(base), str(ours), fh, [names.PREDICTIONS], {names.PREDICTIONS: bulk}
+                )
             except SheetNameTaken as exc:
                 raise WriteProblem(
                     f"'{book}' already has a sheet named '{exc.name}'; rename it"

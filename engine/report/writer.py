@@ -140,7 +140,7 @@ def write_results(
                     str(ours),
                     fh,
                     list(names.ALL_SHEETS),
-                    {n: b.inject for n, b in bulks.items()},
+                    dict(bulks),
                 )
             except SheetNameTaken as exc:
                 raise WriteProblem(

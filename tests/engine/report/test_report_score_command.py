@@ -185,3 +185,65 @@ def test_the_study_can_name_the_scoring_sheets_method(tmp_path):
     assert ("Why this model", "chosen in the study's settings") in top
     with pytest.raises(InputProblem, match="not among the methods run"):
         StudySpec(source="x.xlsx", response="y", methods=("lasso",), scoring_method="ridge")
+
+
+def test_prediction_rows_keep_text_dates_and_styles_as_written(tmp_path):
+    # the rows are spliced into the sheet as XML (bulk_rows): text with XML's special characters,
+    # one XML cannot hold or one that looks like an escape must read back as written
+    # (ECMA-376 Part 1, 22.9.2.19, ST_Xstring: _xHHHH_), dates as dates in the scored book's
+    # own date system (1900 or 1904), and the prediction and note columns keep their styles.
+    # Read back by openpyxl and by calamine (general-purpose reader libraries).
+    import datetime as dt
+
+    from openpyxl.utils.datetime import CALENDAR_MAC_1904
+    from python_calamine import CalamineWorkbook
+
+    from engine.design import Encoding
+    from engine.report.predictions import write_predictions
+    from engine.report.scoring_model import ScoringModel
+
+    labels = ["north", "south", "east & west", "plain", "last"]
+    # notes are our own text, written as given: the hard cases go there
+    notes = ["a<b & c>d", "bell\x07 in a note", "_x0041_ stays", "  spaces kept  ", ""]
+    for epoch in (None, CALENDAR_MAC_1904):
+        wb = openpyxl.Workbook()
+        if epoch is not None:
+            wb.epoch = epoch
+        ws = wb.active
+        ws.title = "New"
+        ws.append(["made_on", "label", "x"])
+        for i, t in enumerate(labels):
+            ws.append([dt.datetime(2024, 3, 1 + i), t, float(i)])
+            ws.cell(i + 2, 1).number_format = "yyyy-mm-dd"
+        tag = "1904" if epoch is not None else "1900"
+        book = tmp_path / f"new-{tag}.xlsx"
+        wb.save(book)
+        encodings = [
+            Encoding("made_on:trend", "made_on", "A", "trend", origin="2024-01-01"),
+            Encoding("label=plain", "label", "B", "level", level="plain"),
+            Encoding("x", "x", "C", "number"),
+        ]
+        coefs = {"made_on:trend": 0.5, "label=plain": 1.0, "x": 2.0}
+        zeros = dict.fromkeys(coefs, 0.0)
+        model = ScoringModel.from_parts("ols", "y", 1.0, encodings, coefs, zeros,
+                                        dict.fromkeys(coefs, 1.0), {"label": labels})  # fmt: skip
+        preds = np.arange(5.0) * 2 + 1
+        out = write_predictions(
+            read_table(book), model, preds, notes, book, tmp_path / f"p-{tag}.xlsx", "r.xlsx"
+        )
+        got = openpyxl.load_workbook(out)["TM Predictions"]
+        assert got.parent.epoch == wb.epoch
+        assert [got.cell(5 + i, 3).value for i in range(5)] == labels
+        assert [got.cell(5 + i, 2).value for i in range(5)] == [
+            dt.datetime(2024, 3, 1 + i) for i in range(5)
+        ]
+        assert got.cell(5, 2).number_format == "yyyy-mm-dd"
+        assert [got.cell(5 + i, 5).value for i in range(5)] == preds.tolist()
+        assert got.cell(5, 5).font.b  # the prediction column's style
+        # openpyxl reads inline strings without undoing _xHHHH_ escapes: plain ones here,
+        # every one through calamine below
+        assert [got.cell(5 + i, 6).value for i in (0, 3, 4)] == [notes[0], notes[3], None]
+        assert got.cell(6, 6).font.i
+        cal = CalamineWorkbook.from_path(str(out)).get_sheet_by_name("TM Predictions").to_python()
+        assert [row[2] for row in cal[4:9]] == labels
+        assert [row[5] for row in cal[4:8]] == notes[:4]

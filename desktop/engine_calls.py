@@ -60,6 +60,20 @@ class EngineCalls:
 
         return write_results(result, out=out, in_place=in_place, progress=progress)
 
+    def score_rows(
+        self, result: Any, book: Path, out: Path, sheet: str | None, progress: Progress
+    ) -> Any:
+        """Predict the rows of ``book`` with the model a study's scoring sheet would hold."""
+        from engine.report import ScoringModel, score_rows
+
+        model = ScoringModel.from_result(result)
+        d = result.design
+        said = f"from the study of '{Path(d.source).name}' (sheet '{d.sheet}') in the window"
+        return score_rows(
+            book, model, out=out, sheet=sheet, model_from=said, progress=progress,
+            replace_only_ours=False,
+        )  # fmt: skip
+
     def read_settings(self, path: Path) -> StudySpec:
         from engine.report import read_settings
 

@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
     QFrame,
     QHBoxLayout,
     QHeaderView,
+    QInputDialog,
     QLabel,
     QListWidget,
     QListWidgetItem,
@@ -63,6 +64,7 @@ from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
 from engine.intake.workbook import SUPPORTED_SUFFIXES
+from engine.report.score_rows import ScoreOutcome, default_out
 from engine.study_result import StudyResult
 from engine.study_spec import StudySpec
 
@@ -142,6 +144,7 @@ class MainWindow(QMainWindow):
     book_loaded = Signal()
     study_finished = Signal()
     saved = Signal(str)
+    predicted = Signal(str)  # the predictions workbook written
 
     def __init__(self, store: SettingsStore, calls: EngineCalls | None = None) -> None:
         super().__init__()
@@ -223,6 +226,13 @@ class MainWindow(QMainWindow):
             self.choose_save_as,
             QKeySequence(std.SaveAs),
         )
+        self.predict_action = self._action(
+            "Predict new rows…",
+            "Predict the rows of another workbook with this study's scoring model; the "
+            "predictions go to a copy of that workbook",
+            self.choose_rows_to_predict,
+            QKeySequence("Ctrl+P"),
+        )
         self.cautions_action = self._action(
             "Read before use", "What these results can and cannot tell you", self.show_cautions
         )
@@ -241,6 +251,7 @@ class MainWindow(QMainWindow):
             None,
             self.save_action,
             self.save_as_action,
+            self.predict_action,
             None,
             self.cautions_action,
         ):
@@ -259,6 +270,8 @@ class MainWindow(QMainWindow):
         s = mb.addMenu("&Study")
         s.addAction(self.run_action)
         s.addAction(self.stop_action)
+        s.addSeparator()
+        s.addAction(self.predict_action)
         h = mb.addMenu("&Help")
         h.addAction(self.cautions_action)
         h.addAction(self.about_action)
@@ -744,6 +757,47 @@ class MainWindow(QMainWindow):
             "save", lambda p: calls.write_results(result, out=out, in_place=False, progress=p)
         )
 
+    # predicting new rows ----------------------------------------------------------------
+    def choose_rows_to_predict(self) -> None:
+        """Ask for the workbook of new rows (and its sheet, when it has several), then where
+        the predictions go."""
+        if self.result is None or self.runner.busy:
+            return
+        start = str(self.book.path.parent) if self.book is not None else ""
+        path, _ = QFileDialog.getOpenFileName(
+            self, "Workbook with the new rows to predict", start, OPEN_FILTER
+        )
+        if not path:
+            return
+        book = Path(path)
+        sheet = None
+        if book.suffix.lower() in (".xlsx", ".xlsm", ".xls", ".ods"):
+            try:
+                names = [s.name for s in self.calls.list_sheets(book) if not s.hidden]
+            except Exception as exc:  # noqa: BLE001 - shown to the user as any failure is
+                self._show_failure(describe_failure(exc, "reading the file"))
+                return
+            if len(names) > 1:
+                sheet, ok = QInputDialog.getItem(
+                    self, "Predict new rows", "Sheet holding the new rows:", names, 0, False
+                )
+                if not ok:
+                    return
+        out, _ = QFileDialog.getSaveFileName(
+            self, "Save the predictions as", str(default_out(book)), SAVE_FILTER
+        )
+        if out:
+            self.predict_rows(book, out, sheet)
+
+    def predict_rows(self, book: str | Path, out: str | Path, sheet: str | None = None) -> bool:
+        """Predict the rows of ``book`` with the study's scoring model, in the background."""
+        if self.result is None or self.runner.busy:
+            return False
+        result, calls = self.result, self.calls
+        return self.runner.start(
+            "predict", lambda p: calls.score_rows(result, Path(book), Path(out), sheet, p)
+        )
+
     # task signals (the one place outcomes arrive) ---------------------------------------
     def _on_task_started(self, label: str) -> None:
         if label == "run":
@@ -753,7 +807,12 @@ class MainWindow(QMainWindow):
         self.progress_bar.show()
         self.stop_button.show()
         self.step_label.setText(
-            {"open": "Reading…", "run": "Starting the study…", "save": "Writing…"}.get(label, "")
+            {
+                "open": "Reading…",
+                "run": "Starting the study…",
+                "save": "Writing…",
+                "predict": "Predicting…",
+            }.get(label, "")
         )
         self._sync_actions()
 
@@ -803,11 +862,27 @@ class MainWindow(QMainWindow):
                 )
             )
             self.saved.emit(str(value))
+        elif label == "predict":
+            done = cast(ScoreOutcome, value)
+            cautions = done.cautions()
+            self._say(
+                UserMessage(
+                    "info",
+                    f"Predicted {done.scored:,} of {done.rows:,} rows with '{done.method}'; "
+                    f"written to {done.out.name}.",
+                    " ".join([*(c[0].upper() + c[1:] + "." for c in cautions),
+                              f"Folder: {done.out.parent}"]),
+                )
+            )  # fmt: skip
+            self.predicted.emit(str(done.out))
 
     def _on_task_failed(self, label: str, exc: object) -> None:
-        doing = {"open": "reading the file", "run": "the run", "save": "saving"}.get(
-            label, "the task"
-        )
+        doing = {
+            "open": "reading the file",
+            "run": "the run",
+            "save": "saving",
+            "predict": "predicting the new rows",
+        }.get(label, "the task")
         self._pending_spec = None
         msg = describe_failure(
             exc if isinstance(exc, BaseException) else RuntimeError(str(exc)), doing
@@ -855,6 +930,7 @@ class MainWindow(QMainWindow):
             and self.book.path.suffix.lower() in (".xlsx", ".xlsm")
         )
         self.save_as_action.setEnabled(self.result is not None and not busy)
+        self.predict_action.setEnabled(self.result is not None and not busy)
         self.open_action.setEnabled(not busy)
         self.sheet_box.setEnabled(
             not busy and self.book is not None and self.book.table.file_format != "csv"

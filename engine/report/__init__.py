@@ -9,7 +9,11 @@ Public names:
   the study specification stored on a results workbook's settings sheet.
 - ``load_scoring_model(results_book, method=None) -> ScoringModel``
   the model stored in a results workbook; ``.predict(table)`` scores an intake ``Table``.
-- ``ScoringModel``        the linear predictor with its encodings (shared by sheet and command).
+- ``ScoringModel``        the linear predictor with its encodings (shared by sheet and command);
+  ``ScoringModel.from_result(result)`` the one a study's scoring sheet would hold.
+- ``score_rows(book, model, *, out=None, sheet=None, ...) -> ScoreOutcome``
+  predict the rows of another workbook and write them to a copy of it (``tamis score`` and the
+  window's "Predict new rows").
 - ``fingerprint(path) -> Fingerprint``
   size, mtime and SHA-256 of a file, taken when it is read, so writing can refuse a file that
   changed on disk since (store it as ``StudyResult.source_fingerprint``).
@@ -25,6 +29,7 @@ from __future__ import annotations
 
 from engine.report.names import ALL_SHEETS as SHEET_NAMES
 from engine.report.safe_write import Fingerprint, fingerprint
+from engine.report.score_rows import ScoreOutcome, score_rows
 from engine.report.scoring_model import ScoringModel
 from engine.report.settings_reader import load_scoring_model, read_settings
 from engine.report.writer import write_results
@@ -34,6 +39,8 @@ __all__ = [
     "read_settings",
     "load_scoring_model",
     "ScoringModel",
+    "score_rows",
+    "ScoreOutcome",
     "fingerprint",
     "Fingerprint",
     "SHEET_NAMES",

@@ -35,7 +35,7 @@ def _sheet(
     model,
     preds: np.ndarray,
     notes: list[str],
-    results_book: str,
+    model_from: str,
     date1904: bool = False,
 ) -> BulkSheet:
     """Write the sheet's top rows; return its data rows as a block for the package merge
@@ -50,7 +50,7 @@ def _sheet(
             ws,
             1,
             0,
-            f"Model '{model.method}' from '{results_book}', applied to sheet '{table.sheet}' "
+            f"Model '{model.method}' {model_from}, applied to sheet '{table.sheet}' "
             f"of '{table.source}' on {_dt.date.today().isoformat()}.",
             fm.note,
         )
@@ -115,7 +115,7 @@ def write_predictions(
     notes: list[str],
     book: str | Path,
     out: str | Path,
-    results_book: str,
+    model_from: str,
 ) -> Path:
     book, out = Path(book), Path(out)
     with tempfile.TemporaryDirectory(prefix="tamis-score-") as tmp:
@@ -124,7 +124,7 @@ def write_predictions(
         if book.suffix.lower() not in (".xlsx", ".xlsm"):
             base = Path(tmp) / "data.xlsx"
             copy_to_xlsx(book, base)
-        bulk = _sheet(ours, table, model, preds, notes, results_book, uses_1904_dates(base))
+        bulk = _sheet(ours, table, model, preds, notes, model_from, uses_1904_dates(base))
 
         def build(fh) -> None:
             try:

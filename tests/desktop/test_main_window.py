@@ -417,3 +417,36 @@ def test_sheet_notes_show_as_written_one_per_line(qtbot, store, tmp_path):
     shown = w.message.label.text()
     assert "'&lt;0.3'" in shown and "R&amp;D site" in shown
     assert shown.count("<br>• ") == len(w.book.table.warnings) >= 2
+
+
+def test_predict_new_rows_asks_for_the_sheet_and_the_output(
+    qtbot, store, book, tmp_path, monkeypatch
+):
+    from openpyxl import load_workbook as open_book
+    from PySide6.QtWidgets import QFileDialog, QInputDialog
+
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    new = write_book(tmp_path / "new.xlsx", n=20, seed=5, extra_sheet=False)
+    wb = open_book(new)
+    wb.create_sheet("Notes", 0).append(["nothing to score here"])  # first, but not the rows
+    wb.save(new)
+    out = tmp_path / "new-scored.xlsx"
+    asked = {}
+
+    def pick_sheet(parent, title, label, items, current, editable):
+        asked["sheets"] = list(items)
+        return "Lots", True
+
+    monkeypatch.setattr(QFileDialog, "getOpenFileName", lambda *a, **k: (str(new), ""))
+    monkeypatch.setattr(QFileDialog, "getSaveFileName", lambda *a, **k: (str(out), ""))
+    monkeypatch.setattr(QInputDialog, "getItem", pick_sheet)
+    with qtbot.waitSignal(w.predicted, timeout=60_000):
+        w.predict_action.trigger()
+    wait_idle(qtbot, w)
+    assert asked["sheets"] == ["Notes", "Lots"]
+    assert out.exists() and "Predicted 20 of 20 rows" in w.last_message.headline

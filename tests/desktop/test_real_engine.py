@@ -128,3 +128,37 @@ def test_real_run_with_ln_ticks_saves_and_reopens_them(qtbot, store, tmp_path):
         w2.message.action_button.click()
     wait_idle(qtbot, w2)
     assert w2.ledger.model.logged() == ("units", "price")
+
+
+def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book, tmp_path):
+    # the window scores another workbook with the study's scoring model (the one its scoring
+    # sheet would hold), through the same engine routine as `tamis score`
+    from conftest import write_book
+
+    from engine.intake import read_table
+    from engine.report import ScoringModel
+
+    w = make_window(qtbot, store, EngineCalls())
+    open_and_wait(qtbot, w, book)
+    assert not w.predict_action.isEnabled()  # no study yet
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 50})
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    assert w.predict_action.isEnabled()
+    new = write_book(tmp_path / "new-lots.xlsx", n=30, seed=11, extra_sheet=False)
+    before = new.read_bytes()
+    out = tmp_path / "new-lots-scored.xlsx"
+    with qtbot.waitSignal(w.predicted, timeout=120_000):
+        assert w.predict_rows(new, out)
+    wait_idle(qtbot, w)
+    assert new.read_bytes() == before
+    assert w.last_message.tone == "info", w.last_message
+    assert "Predicted 30 of 30 rows with 'lasso'" in w.last_message.headline
+    ws = load_workbook(out, read_only=True)["TM Predictions"]
+    head = next(ws.iter_rows(min_row=4, max_row=4, values_only=True))
+    k = next(i for i, h in enumerate(head) if str(h).startswith("Prediction"))
+    got = np.array([r[k] for r in ws.iter_rows(min_row=5, values_only=True)], dtype=float)
+    want = ScoringModel.from_result(w.result).predict(read_table(new))
+    np.testing.assert_allclose(got, want, rtol=1e-12)

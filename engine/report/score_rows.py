@@ -1,0 +1,142 @@
+"""Predict the rows of another workbook with a fitted model and write them beside it.
+
+The one routine behind ``tamis score`` and the window's "Predict new rows": it reads the rows
+through intake, predicts them (``ScoringModel.predict_with_notes``), marks predictions outside the
+fitted range, and writes a copy of the book with the predictions sheet (``predictions``). The
+book itself is never written; the output may not be the book or the results workbook.
+"""
+
+from __future__ import annotations
+
+__all__ = ["ScoreOutcome", "score_rows", "default_out"]
+
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from engine.errors import InputProblem, Place
+from engine.progress import Progress, silent
+
+
+@dataclass
+class ScoreOutcome:
+    """What a scoring run did, for both fronts to report."""
+
+    out: Path
+    sheet: str
+    method: str
+    rows: int
+    scored: int
+    # (sheet row, why) of the first row left without a prediction, and of the first
+    # prediction outside the fitted range
+    first_unscored: tuple[int, str] | None = None
+    extrapolated: int = 0
+    first_extrapolated: tuple[int, str] | None = None
+    notes: list[str] = field(default_factory=list)  # intake's warnings about the new rows
+
+    def cautions(self) -> list[str]:
+        """What a user must know besides the count: rows left without a prediction and
+        predictions beyond the fitted range, each with the first such row."""
+        lines = []
+        unscored = self.rows - self.scored
+        if self.first_unscored is not None:
+            row, why = self.first_unscored
+            lines.append(
+                f"{unscored} {'row' if unscored == 1 else 'rows'} left without a prediction "
+                f"(first: row {row}, {why})"
+            )
+        if self.first_extrapolated is not None:
+            row, why = self.first_extrapolated
+            one = self.extrapolated == 1
+            lines.append(
+                f"{self.extrapolated} {'row lies' if one else 'rows lie'} outside the range the "
+                "model was fitted on: "
+                + (
+                    "its prediction is an extrapolation"
+                    if one
+                    else "their predictions are extrapolations"
+                )
+                + f", not supported by the data (first: row {row}, {why})"
+            )
+        return lines
+
+
+def default_out(book: str | Path) -> Path:
+    """Where predictions go unless told: beside the book, its name + "-scored.xlsx"."""
+    book = Path(book)
+    return book.with_name(book.stem + "-scored.xlsx")
+
+
+def score_rows(
+    book: str | Path,
+    model,
+    *,
+    out: str | Path | None = None,
+    sheet: str | None = None,
+    results_book: str | Path | None = None,
+    model_from: str | None = None,
+    progress: Progress | None = None,
+    replace_only_ours: bool = True,
+) -> ScoreOutcome:
+    """Predict the rows of ``book`` (sheet ``sheet``, default the first visible) with the
+    ``ScoringModel`` ``model`` and write them to ``out`` (default ``default_out(book)``).
+
+    ``results_book``: the results workbook the model was read from (never replaced);
+    ``model_from``: where the model came from, in words for the predictions sheet (default:
+    that workbook). ``replace_only_ours``: refuse to replace an existing file that Tamis did not
+    write (the command line; the window asks through its save dialog).
+    """
+    from engine.intake import read_table
+    from engine.report.predictions import write_predictions
+    from engine.report.safe_write import refuse_to_replace_users_file
+
+    progress = progress or silent()
+    book = Path(book)
+    if not book.exists():
+        raise InputProblem(f"file '{book}' does not exist", Place(file=str(book)))
+    target = Path(out) if out else default_out(book)
+    if target.exists() and target.resolve() == book.resolve():
+        raise InputProblem(
+            f"the output '{target}' is the workbook being scored; choose another output file",
+            Place(file=str(target)),
+        )
+    if results_book and target.exists() and target.resolve() == Path(results_book).resolve():
+        raise InputProblem(
+            f"the output '{target}' is the results workbook that holds the model; choose "
+            "another output file",
+            Place(file=str(target)),
+        )
+    if replace_only_ours:
+        refuse_to_replace_users_file(target)
+    if target.suffix.lower() not in (".xlsx", ".xlsm"):
+        raise InputProblem(
+            f"predictions are written as an .xlsx workbook; the output '{target}' is not one",
+            Place(file=str(target)),
+        )
+    progress.step(0.0, "reading the new rows")
+    table = read_table(book, sheet=sheet, progress=progress.part(0.0, 0.5, "reading the new rows"))
+    progress.step(0.5, "predicting")
+    preds, notes = model.predict_with_notes(table)
+    cautions = model.range_cautions(table)
+    shown = [n or c for n, c in zip(notes, cautions)]  # a row without a prediction needs none
+    progress.step(0.6, "writing the predictions")
+    said = model_from or (f"from '{results_book}'" if results_book else "")
+    written = write_predictions(table, model, preds, shown, book, target, said)
+    rows = [int(r) for r in table.row_numbers]
+    unscored = [i for i, n in enumerate(notes) if n]
+    beyond = [i for i, (n, c) in enumerate(zip(notes, cautions)) if c and not n]
+    progress.step(1.0, "done")
+    return ScoreOutcome(
+        out=written,
+        sheet=table.sheet,
+        method=model.method,
+        rows=table.n_rows,
+        scored=table.n_rows - len(unscored),
+        first_unscored=(rows[unscored[0]], notes[unscored[0]]) if unscored else None,
+        extrapolated=len(beyond),
+        first_extrapolated=(
+            (rows[beyond[0]], cautions[beyond[0]].removeprefix("extrapolation: "))
+            if beyond
+            else None
+        ),
+        notes=list(table.warnings),
+    )

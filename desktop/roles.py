@@ -124,7 +124,7 @@ def check_roles(
             problems.append(
                 RoleProblem(
                     f"This column holds values at or below 0 (lowest {low:g}), which have no "
-                    "natural log; untick ln or correct those cells.",
+                    "natural log; untick Log or correct those cells.",
                     c.name,
                 )
             )

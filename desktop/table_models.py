@@ -92,7 +92,7 @@ def _column_tooltip(col: Column) -> str:
     return "\n".join(lines)
 
 
-LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "ln", "Check")
+LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "Log", "Check")
 COL_NAME, COL_LETTER, COL_KIND, COL_MISSING, COL_ROLE, COL_LOG, COL_CHECK = range(7)
 
 LOG_HELP = (
@@ -104,7 +104,7 @@ LOG_HELP = (
 
 
 class ColumnLedgerModel(QAbstractTableModel):
-    """One row per column: name, letter, kind, missing count, role (editable), ln (a tick box
+    """One row per column: name, letter, kind, missing count, role (editable), Log (a tick box for the natural log
     on number columns), check.
 
     The Check cell shows the blocking problem for that column in the problem colour, or the

@@ -104,8 +104,8 @@ LOG_HELP = (
 
 
 class ColumnLedgerModel(QAbstractTableModel):
-    """One row per column: name, letter, kind, missing count, role (editable), Log (a tick box for the natural log
-    on number columns), check.
+    """One row per column: name, letter, kind, missing count, role (editable), Log (a tick box
+    for the natural log, on number columns), check.
 
     The Check cell shows the blocking problem for that column in the problem colour, or the
     intake notes (numbers stored as text, near duplicates ...) in a muted colour.

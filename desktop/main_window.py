@@ -887,7 +887,8 @@ class MainWindow(QMainWindow):
         msg = describe_failure(
             exc if isinstance(exc, BaseException) else RuntimeError(str(exc)), doing
         )
-        self._show_failure(msg)
+        # a column named by a failure in another workbook (the new rows) is not the open one's
+        self._show_failure(msg, mark_column=label != "predict")
 
     def _on_task_finished(self, label: str) -> None:
         if label == "run" and self.readiness.text() == _RUNNING:
@@ -900,9 +901,14 @@ class MainWindow(QMainWindow):
             self._run_when_idle = False
             self.run_study()
 
-    def _show_failure(self, msg: UserMessage) -> None:
+    def _show_failure(self, msg: UserMessage, mark_column: bool = True) -> None:
         self._say(msg)
-        if msg.column and self.book is not None and self.ledger.model.row_of(msg.column) >= 0:
+        if (
+            mark_column
+            and msg.column
+            and self.book is not None
+            and self.ledger.model.row_of(msg.column) >= 0
+        ):
             self.ledger.model.set_problems(
                 {
                     **{p.column: p.message for p in self.problems if p.column},

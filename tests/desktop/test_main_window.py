@@ -450,3 +450,28 @@ def test_predict_new_rows_asks_for_the_sheet_and_the_output(
     wait_idle(qtbot, w)
     assert asked["sheets"] == ["Notes", "Lots"]
     assert out.exists() and "Predicted 20 of 20 rows" in w.last_message.headline
+
+
+def test_a_column_missing_from_the_new_rows_is_said_without_marking_the_open_sheet(
+    qtbot, store, book, tmp_path
+):
+    from openpyxl import Workbook
+
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    wb = Workbook()
+    wb.active.append(["something", "else"])
+    wb.active.append([1.0, 2.0])
+    new = tmp_path / "unrelated.xlsx"
+    wb.save(new)
+    assert w.predict_rows(new, tmp_path / "out.xlsx")
+    wait_idle(qtbot, w)
+    assert w.last_message.tone == "problem"
+    assert "needs column" in w.last_message.headline + w.last_message.detail
+    assert not (tmp_path / "out.xlsx").exists()
+    row = w.ledger.model.row_of(w.last_message.column)
+    assert row >= 0 and not w.ledger.model.problem(w.last_message.column)

@@ -222,8 +222,18 @@ def write(
             "Why this model",
             scoring_reason(result),
         ),
-        ("Centre (prediction at the column means)", model.centre),
-        ("Intercept (original units)", model.intercept),
+        (
+            "Centre (ln-scale prediction at the column means)"
+            if model.response_log
+            else "Centre (prediction at the column means)",
+            model.centre,
+        ),
+        (
+            "Intercept (ln scale, columns in their own units)"
+            if model.response_log
+            else "Intercept (original units)",
+            model.intercept,
+        ),
         (
             (
                 f"Smearing factor: the model explains ln({model.response}); the prediction in "

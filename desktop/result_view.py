@@ -426,7 +426,7 @@ class ResultView(QWidget):
         else:
             self._on_cursor(self.path_chart.index)
         rule = m.choice if m.choice in ("min", "one-se") else None
-        self.curve_chart.set_curve(m.curve, rule)
+        self.curve_chart.set_curve(m.curve, rule, ln_scale=self.result.design.response_log)
         if m.curve is not None:
             c = m.curve
             scheme = SCHEME_WORDS.get(c.scheme, c.scheme)

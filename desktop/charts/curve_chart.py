@@ -38,7 +38,16 @@ class CurveChart(QWidget):
         self._x = np.zeros(0)
         self.marks: dict[str, float] = {}  # "min" / "one-se" -> view x
 
-    def set_curve(self, curve: ValidationCurve | None, chosen_rule: str | None = None) -> None:
+    def set_curve(
+        self,
+        curve: ValidationCurve | None,
+        chosen_rule: str | None = None,
+        ln_scale: bool = False,
+    ) -> None:
+        """ln_scale: the response was modelled as its natural log, so are the errors."""
+        self.item.setLabel(
+            "left", "Mean squared error on held-out rows" + (" (ln scale)" if ln_scale else "")
+        )
         self.item.clear()
         self.legend.clear()
         self.curve = curve

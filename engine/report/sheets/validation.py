@@ -25,8 +25,9 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
         ws,
         1,
         0,
-        "Mean held-out squared error at each penalty (or size) with one standard error; "
-        f"validation: {spec.scheme}, {spec.folds} parts, seed {spec.seed}.",
+        "Mean held-out squared error at each penalty (or size) with one standard error"
+        + (f", on the ln scale of {result.design.response}" if result.design.response_log else "")
+        + f"; validation: {spec.scheme}, {spec.folds} parts, seed {spec.seed}.",
         fm.note,
     )
     ws.set_column(0, 0, 14)
@@ -138,7 +139,9 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
             if is_pen:
                 xa["log_base"] = 10
             chart.set_x_axis(xa)
-            ya: dict[str, object] = {"name": "mean squared error"}
+            ya: dict[str, object] = {
+                "name": "mean squared error" + (" (ln scale)" if result.design.response_log else "")
+            }
             if lo > 0 and hi / lo > 20:
                 # errors spanning decades (the empty model's error dwarfs the interesting
                 # region near the minimum): a log scale keeps the minimum readable

@@ -526,8 +526,9 @@ def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool
     more = f" and {bad.size - 1} more rows" if bad.size > 1 else ""
     raise InputProblem(
         f"column '{c.name}' in sheet '{table.sheet}' holds {v[i]:g} in cell {c.letter}{row}"
-        f"{more}; the natural log exists only above 0: take '{c.name}' off the logged columns, "
-        "or correct those cells"
+        f"{more}; the natural log exists only above 0: take '{c.name}' off the logged columns "
+        "(a column with genuine zeros stays in its own units), or correct those cells if they "
+        "are mistakes"
         + (
             " (or leave them blank: they are filled like other missing cells)"
             if filled

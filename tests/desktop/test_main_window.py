@@ -73,6 +73,17 @@ def open_and_wait(qtbot, w: MainWindow, path) -> None:
     assert w.book is not None, w.last_message
 
 
+def window_with_a_study(qtbot, store, book, calls=None) -> MainWindow:
+    """A window on ``book`` whose study (response 'response_y', default settings) has run."""
+    w = make_window(qtbot, store, calls)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    return w
+
+
 def heading_row(path: Path, sheet: str, first_heading: str) -> int:
     """Where the headings really are, read independently with openpyxl."""
     ws = load_workbook(path, read_only=True)[sheet]
@@ -257,12 +268,7 @@ def test_save_in_place_then_reopen_shows_the_analysis_again(qtbot, store, book):
 
 def test_save_as_new_workbook_leaves_the_source_alone(qtbot, store, book, tmp_path):
     original = book.read_bytes()
-    w = make_window(qtbot, store)
-    open_and_wait(qtbot, w, book)
-    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    with qtbot.waitSignal(w.study_finished, timeout=60_000):
-        w.run_study()
-    wait_idle(qtbot, w)
+    w = window_with_a_study(qtbot, store, book)
     out = tmp_path / "results.xlsx"
     with qtbot.waitSignal(w.saved, timeout=60_000):
         w.save_as(out)
@@ -425,12 +431,7 @@ def test_predict_new_rows_asks_for_the_sheet_and_the_output(
     from openpyxl import load_workbook as open_book
     from PySide6.QtWidgets import QFileDialog, QInputDialog
 
-    w = make_window(qtbot, store)
-    open_and_wait(qtbot, w, book)
-    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    with qtbot.waitSignal(w.study_finished, timeout=60_000):
-        w.run_study()
-    wait_idle(qtbot, w)
+    w = window_with_a_study(qtbot, store, book)
     new = write_book(tmp_path / "new.xlsx", n=20, seed=5, extra_sheet=False)
     wb = open_book(new)
     wb.create_sheet("Notes", 0).append(["nothing to score here"])  # first, but not the rows
@@ -457,12 +458,7 @@ def test_a_column_missing_from_the_new_rows_is_said_without_marking_the_open_she
 ):
     from openpyxl import Workbook
 
-    w = make_window(qtbot, store)
-    open_and_wait(qtbot, w, book)
-    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    with qtbot.waitSignal(w.study_finished, timeout=60_000):
-        w.run_study()
-    wait_idle(qtbot, w)
+    w = window_with_a_study(qtbot, store, book)
     wb = Workbook()
     wb.active.append(["something", "else"])
     wb.active.append([1.0, 2.0])

@@ -44,17 +44,21 @@ def _engel_book(path: Path) -> tuple[Path, np.ndarray, np.ndarray]:
     return path, income, food
 
 
+def _log_log_study(book: Path):
+    """Least squares of ln(foodexp) on ln(income), through the whole study."""
+    spec = StudySpec(
+        source=str(book),
+        response="foodexp",
+        methods=("ols",),
+        folds=5,
+        log_columns=("foodexp", "income"),
+    )
+    return run_study(spec)
+
+
 def test_log_log_least_squares_and_smearing_match_statsmodels_on_engel_data(tmp_path):
     book, income, food = _engel_book(tmp_path / "engel.xlsx")
-    res = run_study(
-        StudySpec(
-            source=str(book),
-            response="foodexp",
-            methods=("ols",),
-            folds=5,
-            log_columns=("foodexp", "income"),
-        )
-    )
+    res = _log_log_study(book)
     ours = res.models[0]
     ref = statsmodels.OLS(np.log(food), statsmodels.add_constant(np.log(income))).fit()
     assert ours.intercept == pytest.approx(ref.params[0], rel=1e-10)
@@ -75,15 +79,7 @@ def test_ln_scoring_sheet_recalculated_by_libreoffice_equals_the_engine(tmp_path
     if soffice() is None:  # loud: the reference check is not silently skipped
         pytest.fail("LibreOffice (soffice) is not installed: the recalculation check cannot run")
     book, income, food = _engel_book(tmp_path / "engel.xlsx")
-    res = run_study(
-        StudySpec(
-            source=str(book),
-            response="foodexp",
-            methods=("ols",),
-            folds=5,
-            log_columns=("foodexp", "income"),
-        )
-    )
+    res = _log_log_study(book)
     results = write_results(res, out=tmp_path / "results.xlsx")
     model = load_scoring_model(results)
     new_income = [650.0, 1200.5, 0.0, 3000.0]

@@ -8,10 +8,10 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from conftest import TableCalls, simulated_table
+from conftest import TableCalls, simulated_table, write_book
 from openpyxl import load_workbook
 from PySide6.QtCore import Qt
-from test_main_window import make_window, open_and_wait, wait_idle
+from test_main_window import StandIn, make_window, open_and_wait, wait_idle
 
 from desktop.engine_calls import EngineCalls
 from desktop.roles import Role
@@ -88,7 +88,6 @@ def test_real_run_with_ln_ticks_saves_and_reopens_them(qtbot, store, tmp_path):
     # units sold falls with price at a constant elasticity (-1.2): ticking ln on both makes the
     # window's study explain ln(units), and the saved analysis ticks them again on reopening
     from openpyxl import Workbook
-    from test_main_window import StandIn
 
     from desktop.table_models import COL_LOG
 
@@ -133,7 +132,6 @@ def test_real_run_with_ln_ticks_saves_and_reopens_them(qtbot, store, tmp_path):
 def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book, tmp_path):
     # the window scores another workbook with the study's scoring model (the one its scoring
     # sheet would hold), through the same engine routine as `tamis score`
-    from conftest import write_book
 
     from engine.intake import read_table
     from engine.report import ScoringModel

@@ -192,6 +192,20 @@ def build_parser() -> argparse.ArgumentParser:
     )
     f.add_argument("--json", action="store_true", help="print one JSON document with the result")
 
+    r = sub.add_parser(
+        "rerun",
+        help="run again the study saved in a results workbook, on the data it holds, and say "
+        "whether the saved results are reproduced",
+    )
+    r.add_argument("book", help="a workbook written by 'tamis fit' (or saved from the window)")
+    r.add_argument("--workers", type=int, help="parallel workers (default: the machine's cores)")
+    r_where = r.add_mutually_exclusive_group()
+    r_where.add_argument("--out", metavar="PATH", help="write the new results to a new workbook")
+    r_where.add_argument(
+        "--in-place", action="store_true", help="replace the results in BOOK itself"
+    )
+    r.add_argument("--json", action="store_true", help="print one JSON document with the result")
+
     sc = sub.add_parser("score", help="predict new rows with a model stored in a results workbook")
     sc.add_argument("book", help="workbook or CSV file with new rows")
     sc.add_argument("--results", required=True, help="a workbook written by 'tamis fit'")

@@ -79,8 +79,8 @@ def run(args, ctx) -> int:
     return finish(result, args, ctx)
 
 
-def finish(result, args, ctx) -> int:
-    """Write (when asked), then print the summary or the JSON document."""
+def finish(result, args, ctx, extra: dict | None = None) -> int:
+    """Write (when asked), then print the summary or the JSON document (with ``extra`` keys)."""
     out = getattr(args, "out", None)
     in_place = bool(getattr(args, "in_place", False))
     if out or in_place:
@@ -95,7 +95,10 @@ def finish(result, args, ctx) -> int:
         ctx.written.append(result.output)
     if args.json:
         json.dump(
-            {**result.to_json(), "cautions": list(CAUTIONS)}, ctx.stdout, indent=2, allow_nan=False
+            {**result.to_json(), "cautions": list(CAUTIONS), **(extra or {})},
+            ctx.stdout,
+            indent=2,
+            allow_nan=False,
         )
         ctx.stdout.write("\n")
         if result.output:

@@ -11,6 +11,7 @@ __all__ = [
     "read_settings_v1",
     "read_settings_v2",
     "load_scoring_model",
+    "load_settings",
     "SettingsRecord",
 ]
 
@@ -211,6 +212,11 @@ def _parse(rows: list[tuple], place: Place | None) -> SettingsRecord:
     return SettingsRecord(
         spec, about, design, encodings, means, sds, levels, models, coefficients, ranges
     )
+
+
+def load_settings(results_book: str | Path) -> SettingsRecord:
+    """Everything a results workbook's settings sheet holds (specification, design, models)."""
+    return _record(results_book)
 
 
 def read_settings(results_book: str | Path) -> StudySpec:

@@ -1,0 +1,92 @@
+"""`tamis rerun`: a study run again from its results workbook alone, and the reproduction check.
+
+Invariant (the issue's "same seed, same data: identical output"): running the saved settings on
+the data the results workbook holds gives the saved cross-validated errors and kept columns; a
+changed data cell is reported as not reproduced.
+"""
+
+from __future__ import annotations
+
+import io
+import json
+
+import numpy as np
+import openpyxl
+
+from engine import cli
+from engine.context import Context
+
+
+def _main(argv, tmp_path):
+    out, err = io.StringIO(), io.StringIO()
+    code = cli.main(argv, Context(stdout=out, stderr=err, config_dir=tmp_path / "cfg"))
+    return code, out.getvalue(), err.getvalue()
+
+
+def _csv(path, n=60, seed=2):
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, 6))
+    y = 1.0 + 2.0 * X[:, 0] - X[:, 3] + rng.normal(0, 0.5, n)
+    lines = ["y," + ",".join(f"x{j}" for j in range(6))]
+    lines += [",".join(repr(float(v)) for v in (y[i], *X[i])) for i in range(n)]
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def test_rerun_from_the_results_workbook_alone_reproduces_the_study(tmp_path):
+    source = _csv(tmp_path / "lab.csv")
+    results = tmp_path / "results.xlsx"
+    argv = ["fit", str(source), "--response", "y", "--methods", "lasso,ridge", "--folds", "5"]
+    code, _, err = _main([*argv, "--seed", "4", "--out", str(results)], tmp_path)
+    assert code == 0, err
+    source.unlink()  # the workbook alone must suffice
+    code, out, err = _main(["rerun", str(results), "--json"], tmp_path)
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["reproduced"] is True and doc["differences"] == []
+    assert doc["spec"]["seed"] == 4 and doc["spec"]["methods"] == ["lasso", "ridge"]
+    assert "saved results reproduced" in err
+
+
+def test_a_changed_cell_is_reported_as_not_reproduced(tmp_path):
+    source = _csv(tmp_path / "lab.csv")
+    results = tmp_path / "results.xlsx"
+    code, _, err = _main(
+        ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5",
+         "--out", str(results)],
+        tmp_path,
+    )  # fmt: skip
+    assert code == 0, err
+    wb = openpyxl.load_workbook(results)
+    ws = wb["lab"]
+    ws.cell(10, 1).value = float(ws.cell(10, 1).value) + 25.0  # one response value changed
+    wb.save(results)
+    code, out, err = _main(["rerun", str(results)], tmp_path)
+    assert code == 0, err
+    assert "NOT reproduced" in err and "lasso cross-validated error" in err
+    assert "not reproduced:" in out  # among the run's warnings too
+
+
+def test_rerun_of_a_workbook_without_our_settings_exits_2(tmp_path):
+    wb = openpyxl.Workbook()
+    wb.active.append(["a", "b"])
+    book = tmp_path / "plain.xlsx"
+    wb.save(book)
+    code, _, err = _main(["rerun", str(book)], tmp_path)
+    assert code == 2 and "not a Tamis results workbook" in err
+
+
+def test_rerun_names_a_renamed_data_sheet(tmp_path):
+    source = _csv(tmp_path / "lab.csv")
+    results = tmp_path / "results.xlsx"
+    code, _, err = _main(
+        ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5",
+         "--out", str(results)],
+        tmp_path,
+    )  # fmt: skip
+    assert code == 0, err
+    wb = openpyxl.load_workbook(results)
+    wb["lab"].title = "lab (old)"
+    wb.save(results)
+    code, _, err = _main(["rerun", str(results)], tmp_path)
+    assert code == 2 and "'lab'" in err and "'lab (old)'" in err

@@ -74,10 +74,12 @@ class EngineCalls:
             replace_only_ours=False,
         )  # fmt: skip
 
-    def read_settings(self, path: Path) -> StudySpec:
-        from engine.report import read_settings
+    def load_settings(self, path: Path) -> Any:
+        """The saved study of a results workbook (``SettingsRecord``: its ``.spec`` and what
+        the saved run found, to check a re-run against)."""
+        from engine.report.settings_reader import load_settings
 
-        return read_settings(path)
+        return load_settings(path)
 
 
 @dataclass
@@ -86,6 +88,7 @@ class LoadedBook:
     sheets: list[SheetInfo]
     table: Table
     saved_spec: StudySpec | None  # the analysis stored in a results workbook, if any
+    saved_record: Any = None  # all of its settings sheet (engine SettingsRecord), if any
 
 
 def load_book(
@@ -94,12 +97,13 @@ def load_book(
     """Sheets, the chosen sheet as a table, and a saved analysis if the workbook holds one."""
     progress.step(0.0, "looking at the sheets")
     sheets = calls.list_sheets(path)
-    saved = None
+    saved = record = None
     if not is_text_table(path):
         try:
-            saved = calls.read_settings(path)
+            record = calls.load_settings(path)
+            saved = record.spec
         except (InputProblem, ImportError, KeyError, ValueError, OSError):
-            saved = None  # an ordinary workbook: no settings sheet of ours
+            saved = record = None  # an ordinary workbook: no settings sheet of ours
         except Cancelled:
             raise
     names = [s.name for s in sheets]
@@ -108,7 +112,7 @@ def load_book(
         header_row = saved.header_row if saved is not None and sheet is not None else None
     progress.step(0.1, "reading the sheet")
     table = calls.read_table(path, sheet, header_row, progress.part(0.1, 1.0, "reading the sheet"))
-    return LoadedBook(path, sheets, table, saved)
+    return LoadedBook(path, sheets, table, saved, record)
 
 
 _warm_lock = threading.Lock()

@@ -64,6 +64,7 @@ from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
 from engine.intake.workbook import SUPPORTED_SUFFIXES
+from engine.report.reproduce import differences
 from engine.report.score_rows import ScoreOutcome, default_out
 from engine.study_result import StudyResult
 from engine.study_spec import StudySpec
@@ -159,6 +160,8 @@ class MainWindow(QMainWindow):
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
+        # the saved study being shown again, to say whether the re-run reproduces it
+        self._rerun_record: Any = None
         # set by `tamis demo`: re-run a saved analysis as soon as its workbook is open
         self.show_saved_on_open = False
         self._remember_timer = QTimer(self)
@@ -558,6 +561,7 @@ class MainWindow(QMainWindow):
         notes = list(t.warnings)
         if self._pending_spec is not None:
             self._pending_spec = None
+            self._rerun_record = loaded.saved_record
             self._say(
                 UserMessage(
                     "info", "Showing the saved analysis again: running it with its own settings."
@@ -844,11 +848,20 @@ class MainWindow(QMainWindow):
                 if any(m.path is not None for m in result.models)
                 else ""
             )
+            record, self._rerun_record = self._rerun_record, None
+            audit = ""
+            if record is not None:  # the saved analysis shown again: does it reproduce?
+                found = differences(record, result)
+                audit = (
+                    "The saved results are reproduced (rows, held-out errors, kept columns). "
+                    if not found
+                    else "The saved results are NOT reproduced: " + "; ".join(found) + ". "
+                )
             self._say(
                 UserMessage(
                     "info",
                     f"Study finished in {secs:.1f} s.",
-                    drag + "Read the cautions before acting on the result.",
+                    audit + drag + "Read the cautions before acting on the result.",
                 ),
                 ("Read before use", self.show_cautions),
             )
@@ -884,6 +897,8 @@ class MainWindow(QMainWindow):
             "predict": "predicting the new rows",
         }.get(label, "the task")
         self._pending_spec = None
+        if label == "run":
+            self._rerun_record = None
         msg = describe_failure(
             exc if isinstance(exc, BaseException) else RuntimeError(str(exc)), doing
         )

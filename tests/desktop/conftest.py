@@ -171,7 +171,7 @@ class TableCalls:
         progress.step(1.0, "read")
         return self.table
 
-    def read_settings(self, path):
+    def load_settings(self, path):
         from engine.errors import InputProblem
 
         raise InputProblem("no settings sheet")

@@ -160,3 +160,32 @@ def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book,
     got = np.array([r[k] for r in ws.iter_rows(min_row=5, values_only=True)], dtype=float)
     want = ScoringModel.from_result(w.result).predict(read_table(new))
     np.testing.assert_allclose(got, want, rtol=1e-12)
+
+
+def test_showing_a_saved_analysis_again_says_whether_it_reproduces(qtbot, store, book):
+    w = make_window(qtbot, store, EngineCalls())
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 40})
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    with qtbot.waitSignal(w.saved, timeout=120_000):
+        assert w.save_in_place()
+    wait_idle(qtbot, w)
+
+    def show_again():
+        w2 = make_window(qtbot, store, EngineCalls())
+        open_and_wait(qtbot, w2, book)
+        with qtbot.waitSignal(w2.study_finished, timeout=120_000):
+            w2.message.action_button.click()
+        wait_idle(qtbot, w2)
+        return w2.last_message.detail
+
+    assert "The saved results are reproduced" in show_again()
+    wb = load_workbook(book)
+    ws = wb["Lots"]
+    col = next(c.column for c in ws[3] if c.value == "response_y")
+    ws.cell(10, col).value = float(ws.cell(10, col).value) + 30.0  # one response value changed
+    wb.save(book)
+    assert "NOT reproduced: lasso cross-validated error" in show_again()

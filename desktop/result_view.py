@@ -492,10 +492,15 @@ class ResultView(QWidget):
 
     def _fill_compare(self) -> None:
         assert self.result is not None
+        from engine.report.scoring_model import choose_scoring_method
+
+        scoring = choose_scoring_method(self.result) if self.result.models else None
         rows = []
         for m in self.result.models:
             kept = sorted(m.selected, key=lambda n: -abs(m.std_coefficients.get(n, 0.0)))
             title = method_info(m.method).title + (" (approximate search)" if m.approximate else "")
+            if m.method == scoring:  # what a saved workbook's scoring sheet and Predict use
+                title += " · scoring sheet"
             rows.append(
                 [
                     title,

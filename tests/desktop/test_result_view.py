@@ -141,6 +141,12 @@ def test_other_tabs_are_filled(view):
     view.tabs.setCurrentIndex(view.STABILITY_TAB)
     view.tabs.setCurrentIndex(view.FOCAL_TAB)
     assert view.compare_model.rowCount() == 2
+    from engine.methods import method_info
+    from engine.report.scoring_model import choose_scoring_method
+
+    titles = [view.compare_model.data(view.compare_model.index(r, 0)) for r in range(2)]
+    marked = [t for t in titles if t.endswith(" · scoring sheet")]
+    assert marked == [method_info(choose_scoring_method(view.result)).title + " · scoring sheet"]
     assert view.sizes_model.rowCount() == 4
     assert "x0" in view.focal_text.text()
     assert view.share_chart.shown[0] in view.result.stability.stable

@@ -241,6 +241,8 @@ class ResultView(QWidget):
                 "Held-out error",
                 "± SE",
                 "Held-out R squared",
+                "Test error",
+                "Test R squared",
                 "R squared",
                 "Penalty",
                 "Chosen by",
@@ -253,6 +255,8 @@ class ResultView(QWidget):
                 "Standard error of that mean over the validation parts.",
                 "Share of the response's variation predicted on held-out rows: 1 minus the "
                 "held-out error over the response's variance (below 0: worse than the mean).",
+                "Mean squared error on the rows held back as a final test (no fit or choice saw them).",
+                "Share of the final test rows' variation the model predicts.",
                 "Share of the response's variation explained, on the rows used (in-sample; flatters large models).",
                 "The chosen penalty, where the method has one.",
                 "The rule that picked the point.",
@@ -508,6 +512,8 @@ class ResultView(QWidget):
                     m.cv_error,
                     m.cv_error_se,
                     m.cv_r2,
+                    m.test_error,
+                    m.test_r2,
                     m.r2,
                     m.penalty,
                     CHOICE_WORDS.get(m.choice or "", m.choice or "–"),
@@ -515,6 +521,9 @@ class ResultView(QWidget):
                 ]
             )
         self.compare_model.set_rows(rows)
+        tested = self.result.test_rows is not None
+        for col in (5, 6):  # the final test's columns, only when rows were held back
+            self.compare_view.setColumnHidden(col, not tested)
         self.compare_view.resizeColumnsToContents()
 
     def _fill_sizes(self, *_: object) -> None:

@@ -231,6 +231,7 @@ SETTING_FIELDS = (
     "stability_runs",
     "focal_penalty",
     "scoring_method",
+    "test_share",
 )
 
 

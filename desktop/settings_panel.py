@@ -27,7 +27,7 @@ from PySide6.QtWidgets import (
 )
 
 from engine.methods import DEFAULT_METHODS, METHODS
-from engine.study_spec import StudySpec
+from engine.study_spec import MAX_TEST_SHARE, StudySpec
 
 SCHEME_WORDS = {
     "kfold": "Shuffled folds",
@@ -148,6 +148,19 @@ class SettingsPanel(QScrollArea):
             "Which method's model goes into the workbook's scoring sheet, where colleagues paste "
             "new rows. By default the one with the smallest held-out error; a simpler model "
             "(the lasso rather than least squares after it, say) may be easier to hand over.",
+        )
+        self.test_percent = self._spin(
+            0, int(MAX_TEST_SHARE * 100), round(_DEFAULT.test_share * 100)
+        )
+        self.test_percent.setSuffix(" %")
+        self.test_percent.setSpecialValueText("none")
+        self._row(
+            form,
+            "Final test rows",
+            self.test_percent,
+            "Hold back this share of the rows before anything is fitted: no fit and no choice "
+            "sees them, and each method's error on them is shown beside the validation error. "
+            "With a time order, the latest rows are held back; with a group column, whole groups.",
         )
         self.seed = self._spin(0, 2_147_483_647, _DEFAULT.seed)
         self._row(
@@ -293,6 +306,7 @@ class SettingsPanel(QScrollArea):
             "stability_runs": int(self.stability_runs.value()),
             "focal_penalty": self.focal_penalty.currentData(),
             "scoring_method": self.scoring.currentData(),
+            "test_share": self.test_percent.value() / 100.0,
         }
 
     def set_values(self, values: Mapping[str, Any]) -> None:
@@ -320,6 +334,8 @@ class SettingsPanel(QScrollArea):
             ):
                 if isinstance(values.get(key), int | float):
                     spin.setValue(int(values[key]))
+            if isinstance(values.get("test_share"), int | float):
+                self.test_percent.setValue(round(float(values["test_share"]) * 100))
             if isinstance(values.get("mix"), int | float):
                 self.mix.setValue(float(values["mix"]))
             if "date_parts" in values:

@@ -182,6 +182,14 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="add month and weekday categories for date columns",
     )
+    f.add_argument(
+        "--hold-back",
+        type=float,
+        default=0.0,
+        metavar="SHARE",
+        help="hold back this share of the rows (e.g. 0.2) as a final test: no fit or choice sees "
+        "them, and each model's error on them is reported (the latest rows with --time-order)",
+    )
     f.add_argument("--workers", type=int, help="parallel workers (default: the machine's cores)")
     where = f.add_mutually_exclusive_group()
     where.add_argument(

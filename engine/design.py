@@ -12,6 +12,7 @@ from __future__ import annotations
 
 __all__ = ["Encoding", "Design", "build_design", "drop_reasons_text", "log_name", "MAX_LEVELS"]
 
+import dataclasses
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
 
@@ -89,6 +90,21 @@ class Design:
     def response_label(self) -> str:
         """The response as the models see it: "ln(name)" when it was logged."""
         return log_name(self.response) if self.response_log else self.response
+
+    def rows(self, index: np.ndarray) -> Design:
+        """The same design on some of its rows (means and deviations recomputed on them)."""
+        X = np.ascontiguousarray(self.X[index])
+        return dataclasses.replace(
+            self,
+            X=X,
+            y=self.y[index],
+            row_numbers=self.row_numbers[index],
+            means=X.mean(axis=0),
+            sds=X.std(axis=0),
+            groups=None if self.groups is None else self.groups[index],
+            order=None if self.order is None else self.order[index],
+            warnings=list(self.warnings),
+        )
 
     @property
     def n_rows(self) -> int:

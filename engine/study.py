@@ -28,6 +28,7 @@ from engine.methods import method_info
 from engine.progress import Progress, silent
 from engine.study_result import Criteria, ModelResult, StudyResult
 from engine.study_spec import StudySpec
+from engine.tuning.final_test import HeldBack, hold_back_test_rows
 
 # relative cost of each method, to move one progress bar evenly
 _COST = {
@@ -140,6 +141,10 @@ def run_study(
     progress.step(0.04, "building the design matrix")
     design = build_design(table, spec)
     notes: list[str] = list(table.warnings) + list(design.warnings)
+    test: HeldBack | None = None
+    if spec.test_share > 0:
+        design, test = hold_back_test_rows(design, spec)
+        notes.extend(test.notes)
 
     if set(spec.methods) == {"ols"} and design.n_rows <= design.n_cols + 1 and not spec.focal:
         raise InputProblem(
@@ -188,6 +193,8 @@ def run_study(
     for w in caught:
         if issubclass(w.category, TamisWarning):
             notes.append(str(w.message))
+    if test is not None:
+        test.measure(models, design.names)
     progress.step(1.0, "done")
     return StudyResult(
         spec=spec,
@@ -200,6 +207,7 @@ def run_study(
         started=started,
         seconds=time.perf_counter() - t0,
         source_fingerprint=fingerprint,
+        test_rows=None if test is None else test.row_numbers,
     )
 
 

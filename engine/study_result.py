@@ -78,6 +78,10 @@ class ModelResult:
     std_errors: dict[str, float] | None = None  # robust (HC) standard errors where meaningful
     approximate: bool = False  # a labelled approximate search (best subset above the exact limit)
     notes: list[str] = field(default_factory=list)
+    # on the rows held back as a final test (StudySpec.test_share): mean squared error and
+    # R squared (1 - SSE / SST on the test rows); None when no rows were held back
+    test_error: float | None = None
+    test_r2: float | None = None
     # response fitted as its ln: the factor a prediction exp(intercept + x'b) is multiplied by
     # to estimate the mean in the response's own units (Duan 1983); None otherwise
     smearing: float | None = None
@@ -101,6 +105,9 @@ class ModelResult:
         }
         if self.smearing is not None:
             out["smearing"] = float(self.smearing)
+        if self.test_error is not None:
+            out["test_error"] = _num(self.test_error)
+            out["test_r2"] = _num(self.test_r2)
         if self.std_errors is not None:
             out["std_errors"] = {k: float(v) for k, v in self.std_errors.items()}
         return out
@@ -174,6 +181,8 @@ class StudyResult:
     # size, mtime and SHA-256 of the source when it was read (engine.report.fingerprint(path)
     # .to_dict()); in-place writing refuses a file that no longer matches it
     source_fingerprint: dict[str, Any] | None = None
+    # sheet rows held back as the final test (StudySpec.test_share); None when none were
+    test_rows: np.ndarray | None = None
 
     def model(self, method: str) -> ModelResult:
         for m in self.models:
@@ -198,6 +207,8 @@ class StudyResult:
             "spec": self.spec.to_dict(),
             "tool_version": self.tool_version,
         }
+        if self.test_rows is not None:
+            out["test_rows"] = int(len(self.test_rows))
         if self.focal is not None:
             out["focal"] = self.focal.to_json()
         if self.stability is not None:

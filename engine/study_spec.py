@@ -6,7 +6,14 @@ sheet of a results workbook stores one, so an analysis can be re-run from the wo
 
 from __future__ import annotations
 
-__all__ = ["SPEC_SCHEMA_VERSION", "StudySpec", "SCHEMES", "CHOICE_RULES", "MISSING_POLICIES"]
+__all__ = [
+    "SPEC_SCHEMA_VERSION",
+    "StudySpec",
+    "SCHEMES",
+    "CHOICE_RULES",
+    "MISSING_POLICIES",
+    "MAX_TEST_SHARE",
+]
 
 import dataclasses
 from dataclasses import dataclass
@@ -24,6 +31,8 @@ CHOICE_RULES = ("min", "one-se")
 # drop rows with a missing candidate, or fill with the median and add a missing-indicator column
 MISSING_POLICIES = ("drop", "fill")
 FOCAL_PENALTIES = ("plugin", "cv")
+# at most this share of the rows may be held back for the final test
+MAX_TEST_SHARE = 0.5
 
 
 @dataclass(frozen=True)
@@ -59,6 +68,9 @@ class StudySpec:
     workers: int | None = None  # parallel workers; None: the machine's cores
     # the method the scoring sheet uses; None: the smallest cross-validated error
     scoring_method: str | None = None
+    # share of the rows held back as a final test: never used to fit or to choose, only to
+    # measure each model's error on rows it has not seen (the latest rows with a time order)
+    test_share: float = 0.0
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "methods", parse_methods(self.methods))
@@ -99,6 +111,11 @@ class StudySpec:
             raise InputProblem("grouped folds need a group column (--group COLUMN)")
         if self.scheme == "time" and not self.time_order:
             raise InputProblem("time-ordered folds need a time-order column (--time-order COLUMN)")
+        if not 0.0 <= self.test_share <= MAX_TEST_SHARE:
+            raise InputProblem(
+                f"the share of rows held back for the final test must lie between 0 and "
+                f"{MAX_TEST_SHARE:g} (got {self.test_share:g})"
+            )
         if self.scoring_method is not None and self.scoring_method not in self.methods:
             raise InputProblem(
                 f"the scoring method '{self.scoring_method}' is not among the methods run "

@@ -62,6 +62,7 @@ def spec_from_args(args) -> StudySpec:
         stability_runs=args.stability,
         workers=args.workers,
         scoring_method=args.scoring_method,
+        test_share=args.hold_back,
     )
 
 

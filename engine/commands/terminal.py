@@ -48,18 +48,20 @@ def _fmt(x: float | None, digits: int = 4) -> str:
 def summary_text(result) -> str:
     """A readable summary of a study result for the terminal."""
     d = result.design
+    tested = result.test_rows is not None
     lines = [
         f"{d.response_label} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
         + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
         f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'cv R2':>8}{'kept':>6}"
-        f"{'R2':>8}",
+        f"{'R2':>8}" + (f"{'test error':>12}{'test R2':>9}" if tested else ""),
     ]
     for m in result.models:
         lines.append(
             f"{m.method:<18}{_fmt(m.penalty):>11}{_fmt(m.cv_error):>12}{_fmt(m.cv_error_se, 3):>11}"
             f"{_fmt(m.cv_r2, 3):>8}{len(m.selected):>6}{_fmt(m.r2, 3):>8}"
+            + (f"{_fmt(m.test_error):>12}{_fmt(m.test_r2, 3):>9}" if tested else "")
             + ("  (approximate search)" if m.approximate else "")
         )
     for m in result.models:

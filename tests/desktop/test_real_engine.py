@@ -189,3 +189,26 @@ def test_showing_a_saved_analysis_again_says_whether_it_reproduces(qtbot, store,
     ws.cell(10, col).value = float(ws.cell(10, col).value) + 30.0  # one response value changed
     wb.save(book)
     assert "NOT reproduced: lasso cross-validated error" in show_again()
+
+
+def test_final_test_rows_from_the_window_show_in_the_comparison(qtbot, store, book):
+    w = make_window(qtbot, store, EngineCalls())
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "test_share": 0.25})
+    assert w.current_spec().test_share == 0.25
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    res = w.result
+    assert len(res.test_rows) == 20 and res.design.n_rows == 60
+    view = w.results
+    view.tabs.setCurrentIndex(view.tabs.indexOf(view.compare_view.parentWidget()))
+    m = view.compare_model
+    heads = [m.headerData(c, Qt.Orientation.Horizontal) for c in range(m.columnCount())]
+    col = heads.index("Test R squared")
+    assert not view.compare_view.isColumnHidden(col)
+    shown = m.data(m.index(0, col))
+    assert shown not in (None, "", "–") and float(shown) == pytest.approx(
+        res.models[0].test_r2, abs=5e-4
+    )

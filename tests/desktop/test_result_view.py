@@ -7,6 +7,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from conftest import simulated_result
+from PySide6.QtCore import Qt
 
 from desktop.charts.common import export_plot
 from desktop.result_view import ResultView, cursor_rows
@@ -147,6 +148,10 @@ def test_other_tabs_are_filled(view):
     titles = [view.compare_model.data(view.compare_model.index(r, 0)) for r in range(2)]
     marked = [t for t in titles if t.endswith(" · scoring sheet")]
     assert marked == [method_info(choose_scoring_method(view.result)).title + " · scoring sheet"]
+    # no rows held back as a final test: its two columns stay hidden
+    heads = [view.compare_model.headerData(c, Qt.Orientation.Horizontal) for c in range(11)]
+    for name in ("Test error", "Test R squared"):
+        assert view.compare_view.isColumnHidden(heads.index(name))
     assert view.sizes_model.rowCount() == 4
     assert "x0" in view.focal_text.text()
     assert view.share_chart.shown[0] in view.result.stability.stable

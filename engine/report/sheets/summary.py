@@ -72,6 +72,15 @@ def write(book, ws, result, fm: Formats) -> None:
         ("Run time (seconds)", round(float(result.seconds), 2)),
         ("Tool version", f"Tamis {result.tool_version}"),
     ]
+    if result.test_rows is not None:
+        facts.insert(
+            5,
+            (
+                "Rows held back as a final test",
+                f"{len(result.test_rows)}: never fitted or used to choose; "
+                "see the test columns of the comparison",
+            ),
+        )
     if spec.focal:
         facts.append(("Focal column", spec.focal))
     for label, value in facts:
@@ -97,6 +106,9 @@ def write(book, ws, result, fm: Formats) -> None:
         "Choice",
         "Notes",
     ]
+    tested = result.test_rows is not None
+    if tested:
+        heads += ["Error on the final test rows", "R squared on the final test rows"]
     for c, h in enumerate(heads):
         text(ws, r, c, h, fm.heading)
     r += 1
@@ -119,6 +131,9 @@ def write(book, ws, result, fm: Formats) -> None:
             notes.insert(0, "used on the scoring sheet")
         if notes:
             text(ws, r, 9, "; ".join(notes))
+        if tested:
+            number(ws, r, 10, m.test_error)
+            number(ws, r, 11, m.test_r2)
         r += 1
     if result.focal is not None:
         f = result.focal

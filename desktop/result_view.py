@@ -365,6 +365,8 @@ class ResultView(QWidget):
         self.result = result
         d = result.design
         dropped = f", {d.rows_dropped} left out" if d.rows_dropped else ""
+        if result.test_rows is not None:
+            dropped += f", {len(result.test_rows)} held back as a final test"
         took = f" in {result.seconds:.1f} s" if result.seconds else ""
         self.summary.setText(
             f"{d.response_label} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"

@@ -51,7 +51,8 @@ def summary_text(result) -> str:
     tested = result.test_rows is not None
     lines = [
         f"{d.response_label} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
-        + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else ""),
+        + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else "")
+        + (f"; {len(result.test_rows)} held back as a final test" if tested else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
         "",
         f"{'method':<18}{'penalty':>11}{'cv error':>12}{'± se':>11}{'cv R2':>8}{'kept':>6}"

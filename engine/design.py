@@ -477,8 +477,9 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     if y.size and np.all((y == 0.0) | (y == 1.0)) and 0.0 < y.mean() < 1.0:
         warnings.append(_zero_one_response_note(response.name, y))
-    if logged:
-        warnings.append(_log_note(response.name, response_log, sorted(logged - {response.name})))
+    logged_kept = [e.source for e in encodings if e.kind == "ln"]
+    if response_log or logged_kept:
+        warnings.append(_log_note(response.name, response_log, logged_kept))
     focal_name = log_name(spec.focal) if spec.focal and spec.focal in logged else spec.focal
     focal_index = names.index(focal_name) if focal_name and focal_name in names else None
     if spec.focal and focal_index is None:

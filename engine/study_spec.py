@@ -22,7 +22,10 @@ from typing import Any
 from engine.errors import InputProblem
 from engine.methods import DEFAULT_METHODS, parse_methods
 
-SPEC_SCHEMA_VERSION = 1
+# 2: log_columns and test_share. A specification using either is written as version 2, so
+# that a Tamis that does not know them refuses it instead of re-running another analysis;
+# one using neither stays version 1, readable by every Tamis
+SPEC_SCHEMA_VERSION = 2
 
 # validation schemes: shuffled K-fold, repeated K-fold, grouped K-fold (rows of one group stay
 # together), time-ordered blocks (train on the past, validate on the next block), leave-one-out
@@ -126,6 +129,11 @@ class StudySpec:
         object.__setattr__(self, "exclude", tuple(self.exclude))
         object.__setattr__(self, "log_columns", tuple(dict.fromkeys(self.log_columns)))
 
+    @property
+    def schema_version(self) -> int:
+        """The oldest schema version that holds this specification."""
+        return 2 if self.log_columns or self.test_share else 1
+
     def replace(self, **changes: Any) -> StudySpec:
         return dataclasses.replace(self, **changes)
 
@@ -134,7 +142,7 @@ class StudySpec:
         for k, v in d.items():
             if isinstance(v, tuple):
                 d[k] = list(v)
-        d["schema_version"] = SPEC_SCHEMA_VERSION
+        d["schema_version"] = self.schema_version
         return d
 
     @classmethod

@@ -211,3 +211,16 @@ def test_cli_log_option_reaches_the_json(tmp_path):
     assert doc["candidates"] == ["ln(price)", "shelf_m"]
     assert doc["spec"]["log_columns"] == ["units", "price"]
     assert doc["models"][0]["smearing"] > 1.0
+
+
+def test_a_specification_with_logs_or_test_rows_refuses_an_older_reader():
+    # a Tamis knowing only schema version 1 must not re-run such a study without its logs or
+    # its final test rows: the new fields raise the version, which older readers refuse
+    plain = StudySpec(source="b.xlsx", response="y")
+    assert plain.to_dict()["schema_version"] == 1
+    for changed in (plain.replace(log_columns=("y",)), plain.replace(test_share=0.2)):
+        d = changed.to_dict()
+        assert d["schema_version"] == 2
+        assert StudySpec.from_dict(d) == changed
+        with pytest.raises(InputProblem, match="newer Tamis"):
+            StudySpec.from_dict({**d, "schema_version": 3})

@@ -44,8 +44,6 @@ def _json_cells(ws, r: int, value: object) -> None:
 
 
 def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
-    from engine.study_spec import SPEC_SCHEMA_VERSION
-
     d = result.design
     ws.set_column(0, 0, 22)
     ws.set_column(1, 12, 16)
@@ -69,7 +67,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     r += 1
     for k, v in (
         ("tool version", result.tool_version),
-        ("spec schema version", SPEC_SCHEMA_VERSION),
+        ("spec schema version", result.spec.schema_version),
         ("written", _dt.datetime.now().astimezone().isoformat(timespec="seconds")),
         ("scoring model", scoring_method),
     ):

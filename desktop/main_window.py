@@ -234,7 +234,6 @@ class MainWindow(QMainWindow):
             "Predict the rows of another workbook with this study's scoring model; the "
             "predictions go to a copy of that workbook",
             self.choose_rows_to_predict,
-            QKeySequence("Ctrl+P"),
         )
         self.cautions_action = self._action(
             "Read before use", "What these results can and cannot tell you", self.show_cautions

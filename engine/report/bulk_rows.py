@@ -110,10 +110,16 @@ class _Columns:
             cells: list[str] = []
             if isinstance(col, NumberColumn):
                 vals = np.asarray(col.values, dtype=float)
-                ok = np.isfinite(vals).tolist()
-                for i, (v, good) in enumerate(zip(vals.tolist(), ok)):
+                finite = np.isfinite(vals)
+                # whole numbers (row numbers, counts) as integers: "12", not "12.0"
+                with np.errstate(invalid="ignore"):
+                    whole = finite & (vals == np.round(vals)) & (np.abs(vals) < 2**53)
+                for i, (v, good, w) in enumerate(
+                    zip(vals.tolist(), finite.tolist(), whole.tolist())
+                ):
                     r = self.first_row + i + 1
-                    cells.append(f'<c r="{letter}{r}"{style}><v>{v!r}</v></c>' if good else "")
+                    shown = int(v) if w else v
+                    cells.append(f'<c r="{letter}{r}"{style}><v>{shown!r}</v></c>' if good else "")
             else:
                 for i, t in enumerate(col.values):
                     r = self.first_row + i + 1

@@ -73,12 +73,15 @@ def open_and_wait(qtbot, w: MainWindow, path) -> None:
     assert w.book is not None, w.last_message
 
 
-def window_with_a_study(qtbot, store, book, calls=None) -> MainWindow:
-    """A window on ``book`` whose study (response 'response_y', default settings) has run."""
+def window_with_a_study(qtbot, store, book, calls=None, settings=None) -> MainWindow:
+    """A window on ``book`` whose study (response 'response_y', the given run settings, else
+    the defaults) has run."""
     w = make_window(qtbot, store, calls)
     open_and_wait(qtbot, w, book)
     w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+    if settings:
+        w.settings_panel.set_values(settings)
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
         w.run_study()
     wait_idle(qtbot, w)
     return w

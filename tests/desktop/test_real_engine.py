@@ -11,7 +11,7 @@ import pytest
 from conftest import TableCalls, simulated_table, write_book
 from openpyxl import load_workbook
 from PySide6.QtCore import Qt
-from test_main_window import StandIn, make_window, open_and_wait, wait_idle
+from test_main_window import StandIn, make_window, open_and_wait, wait_idle, window_with_a_study
 
 from desktop.engine_calls import EngineCalls
 from desktop.roles import Role
@@ -21,13 +21,8 @@ DEMO = Path(__file__).resolve().parents[2] / "demo" / "tamis_demo.xlsx"
 
 
 def test_real_run_cursor_and_save_in_place(qtbot, store, book):
-    w = make_window(qtbot, store, EngineCalls())
-    open_and_wait(qtbot, w, book)
-    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 50})
-    with qtbot.waitSignal(w.study_finished, timeout=120_000):
-        w.run_study()
-    wait_idle(qtbot, w)
+    settings = {"methods": ["lasso"], "folds": 5, "n_penalties": 50}
+    w = window_with_a_study(qtbot, store, book, EngineCalls(), settings)
     res = w.result
     lasso = res.model("lasso")
     # simulated truth: x0, x1, x2 carry the signal, so the lasso keeps them
@@ -132,7 +127,6 @@ def test_real_run_with_ln_ticks_saves_and_reopens_them(qtbot, store, tmp_path):
 def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book, tmp_path):
     # the window scores another workbook with the study's scoring model (the one its scoring
     # sheet would hold), through the same engine routine as `tamis score`
-
     from engine.intake import read_table
     from engine.report import ScoringModel
 
@@ -163,13 +157,8 @@ def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book,
 
 
 def test_showing_a_saved_analysis_again_says_whether_it_reproduces(qtbot, store, book):
-    w = make_window(qtbot, store, EngineCalls())
-    open_and_wait(qtbot, w, book)
-    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
-    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 40})
-    with qtbot.waitSignal(w.study_finished, timeout=120_000):
-        w.run_study()
-    wait_idle(qtbot, w)
+    settings = {"methods": ["lasso"], "folds": 5, "n_penalties": 40}
+    w = window_with_a_study(qtbot, store, book, EngineCalls(), settings)
     with qtbot.waitSignal(w.saved, timeout=120_000):
         assert w.save_in_place()
     wait_idle(qtbot, w)

@@ -33,6 +33,16 @@ def _csv(path, n=60, seed=2):
     return path
 
 
+def _lasso_results(tmp_path):
+    """A results workbook of a lasso study of a text table (its data copied in as sheet 'lab')."""
+    source = _csv(tmp_path / "lab.csv")
+    results = tmp_path / "results.xlsx"
+    argv = ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5"]
+    code, _, err = _main([*argv, "--out", str(results)], tmp_path)
+    assert code == 0, err
+    return results
+
+
 def test_rerun_from_the_results_workbook_alone_reproduces_the_study(tmp_path):
     source = _csv(tmp_path / "lab.csv")
     results = tmp_path / "results.xlsx"
@@ -49,14 +59,7 @@ def test_rerun_from_the_results_workbook_alone_reproduces_the_study(tmp_path):
 
 
 def test_a_changed_cell_is_reported_as_not_reproduced(tmp_path):
-    source = _csv(tmp_path / "lab.csv")
-    results = tmp_path / "results.xlsx"
-    code, _, err = _main(
-        ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5",
-         "--out", str(results)],
-        tmp_path,
-    )  # fmt: skip
-    assert code == 0, err
+    results = _lasso_results(tmp_path)
     wb = openpyxl.load_workbook(results)
     ws = wb["lab"]
     ws.cell(10, 1).value = float(ws.cell(10, 1).value) + 25.0  # one response value changed
@@ -77,14 +80,7 @@ def test_rerun_of_a_workbook_without_our_settings_exits_2(tmp_path):
 
 
 def test_rerun_names_a_renamed_data_sheet(tmp_path):
-    source = _csv(tmp_path / "lab.csv")
-    results = tmp_path / "results.xlsx"
-    code, _, err = _main(
-        ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5",
-         "--out", str(results)],
-        tmp_path,
-    )  # fmt: skip
-    assert code == 0, err
+    results = _lasso_results(tmp_path)
     wb = openpyxl.load_workbook(results)
     wb["lab"].title = "lab (old)"
     wb.save(results)

@@ -77,6 +77,15 @@ def build_parser() -> argparse.ArgumentParser:
         "--exclude", nargs="+", metavar="COLUMN", default=[], help="columns to leave out"
     )
     f.add_argument(
+        "--interact",
+        nargs=2,
+        action="append",
+        default=[],
+        metavar=("COLUMN", "COLUMN"),
+        help="also let two candidate columns act together: their product enters as a candidate "
+        "(for a category, one product per level); repeat for more pairs",
+    )
+    f.add_argument(
         "--scoring-method",
         metavar="METHOD",
         help="the method the scoring sheet uses, one of --methods (default: the one with the "

@@ -10,7 +10,15 @@ are reported. Every refusal names the sheet and column and says what to change.
 
 from __future__ import annotations
 
-__all__ = ["Encoding", "Design", "build_design", "drop_reasons_text", "log_name", "MAX_LEVELS"]
+__all__ = [
+    "Encoding",
+    "Design",
+    "build_design",
+    "drop_reasons_text",
+    "log_name",
+    "without_orphan_products",
+    "MAX_LEVELS",
+]
 
 import dataclasses
 from dataclasses import dataclass, field
@@ -47,6 +55,8 @@ class Encoding:
       "missing"  1.0 when the source cell is missing, else 0.0 (missing policy "fill")
       "ln"       the natural log of the cell value, for a number column the study logs (a cell
                  at or below 0 has none: missing in new rows, refused in the data fitted)
+      "product"  the product of two other model columns, ``factors`` (an interaction of two
+                 source columns); ``source`` is the first factor's
     ``fill``: the value used for a missing source cell (median on the rows used) under policy
     "fill"; None under policy "drop".
     """
@@ -59,6 +69,8 @@ class Encoding:
     fill: float | None = None
     origin: str | None = None
     reference: str | None = None  # the reference level left out, for "level" encodings
+    # "product": the names of the two model columns multiplied (an interaction)
+    factors: tuple[str, str] | None = None
 
 
 @dataclass
@@ -426,6 +438,41 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         if fill_policy and c.kind != ColumnKind.CATEGORY:  # a category's blanks are a level
             add(Encoding(f"{c.name}:missing", c.name, c.letter, "missing"), miss.astype(float))
 
+    if spec.interactions:
+        in_model = {e.source for e in encodings}
+        for a, b in spec.interactions:
+            for col in (a, b):
+                c = table.column(col)
+                if c.name not in in_study or c.name == response.name:
+                    raise InputProblem(
+                        f"column '{c.name}' in {where} is in an interaction but is not a "
+                        "candidate of the study; make it a candidate or drop the interaction",
+                        place(c.name),
+                    )
+            missing_from = [c for c in (a, b) if c not in in_model]
+            if missing_from:
+                why = dropped_columns.get(missing_from[0], "it has no usable values")
+                warnings.append(
+                    f"the interaction of '{a}' and '{b}' was left out: '{missing_from[0]}' is "
+                    f"not in the model ({why})"
+                )
+                continue
+            # the columns each source made (not products of an earlier interaction)
+            main = [(e, blocks[j]) for j, e in enumerate(encodings) if e.kind != "product"]
+            of_a = [(e, v) for e, v in main if e.source == a]
+            of_b = [(e, v) for e, v in main if e.source == b]
+            for ea, va in of_a:
+                for eb, vb in of_b:
+                    if "missing" in (ea.kind, eb.kind):
+                        continue
+                    add(
+                        Encoding(
+                            f"{ea.name} × {eb.name}", ea.source, ea.letter, "product",
+                            factors=(ea.name, eb.name),
+                        ),
+                        va * vb,
+                    )  # fmt: skip
+
     X = np.column_stack(blocks) if blocks else np.empty((n, 0))
     y = y_all[keep]
     response_log = response.name in logged
@@ -443,6 +490,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         X = X[:, keep_cols]
         names = [nm for nm, k in zip(names, keep_cols) if k]
         encodings = [e for e, k in zip(encodings, keep_cols) if k]
+    X, names, encodings = without_orphan_products(X, names, encodings, dropped_columns, warnings)
     if X.shape[1] == 0:
         raise InputProblem(
             f"no usable candidate column in {where}: every candidate is constant or empty on the "
@@ -509,6 +557,31 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         warnings=warnings,
         response_log=response_log,
     )
+
+
+def without_orphan_products(
+    X: np.ndarray,
+    names: list[str],
+    encodings: list[Encoding],
+    dropped_columns: dict[str, str],
+    warnings: list[str],
+) -> tuple[np.ndarray, list[str], list[Encoding]]:
+    """Leave out product columns one of whose factors was left out (its formula needs both)."""
+    present = set(names)
+    orphan = [
+        j
+        for j, e in enumerate(encodings)
+        if e.kind == "product" and not set(e.factors or ()) <= present
+    ]
+    if not orphan:
+        return X, names, encodings
+    for j in orphan:
+        dropped_columns[names[j]] = "one of the two columns it multiplies was left out"
+        warnings.append(
+            f"column '{names[j]}' left out: one of the two columns it multiplies was left out"
+        )
+    keep = np.setdiff1d(np.arange(len(names)), orphan)
+    return X[:, keep], [names[j] for j in keep], [encodings[j] for j in keep]
 
 
 def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:

@@ -116,6 +116,9 @@ def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
         else tuple(table.column(n).name for n in spec.candidates),
         exclude=tuple(table.column(n).name for n in spec.exclude),
         log_columns=tuple(table.column(n).name for n in spec.log_columns),
+        interactions=tuple(
+            (table.column(a).name, table.column(b).name) for a, b in spec.interactions
+        ),
         focal=name(spec.focal),
         group=name(spec.group),
         time_order=name(spec.time_order),

@@ -22,7 +22,7 @@ from typing import Any
 from engine.errors import InputProblem
 from engine.methods import DEFAULT_METHODS, parse_methods
 
-# 2: log_columns and test_share. A specification using either is written as version 2, so
+# 2: log_columns, test_share and interactions. A specification using any is version 2, so
 # that a Tamis that does not know them refuses it instead of re-running another analysis;
 # one using neither stays version 1, readable by every Tamis
 SPEC_SCHEMA_VERSION = 2
@@ -48,6 +48,8 @@ class StudySpec:
     exclude: tuple[str, ...] = ()
     # columns (the response among them, if wanted) that enter the model as their natural log
     log_columns: tuple[str, ...] = ()
+    # pairs of candidate columns whose products enter the model as well (interactions)
+    interactions: tuple[tuple[str, str], ...] = ()
     focal: str | None = None  # column whose effect double selection estimates
     focal_penalty: str = "plugin"
     group: str | None = None  # column whose rows stay in one fold
@@ -128,11 +130,20 @@ class StudySpec:
             object.__setattr__(self, "candidates", tuple(self.candidates))
         object.__setattr__(self, "exclude", tuple(self.exclude))
         object.__setattr__(self, "log_columns", tuple(dict.fromkeys(self.log_columns)))
+        pairs = []
+        for pair in self.interactions:
+            if len(pair) != 2 or pair[0] == pair[1]:
+                raise InputProblem(
+                    f"an interaction takes two different columns (got {', '.join(map(str, pair))})"
+                )
+            if tuple(pair) not in pairs and (pair[1], pair[0]) not in pairs:
+                pairs.append((str(pair[0]), str(pair[1])))
+        object.__setattr__(self, "interactions", tuple(pairs))
 
     @property
     def schema_version(self) -> int:
         """The oldest schema version that holds this specification."""
-        return 2 if self.log_columns or self.test_share else 1
+        return 2 if self.log_columns or self.test_share or self.interactions else 1
 
     def replace(self, **changes: Any) -> StudySpec:
         return dataclasses.replace(self, **changes)
@@ -141,7 +152,7 @@ class StudySpec:
         d = dataclasses.asdict(self)
         for k, v in d.items():
             if isinstance(v, tuple):
-                d[k] = list(v)
+                d[k] = [list(x) if isinstance(x, tuple) else x for x in v]
         d["schema_version"] = self.schema_version
         return d
 
@@ -160,4 +171,6 @@ class StudySpec:
         for k in ("candidates", "exclude", "methods", "log_columns"):
             if isinstance(kwargs.get(k), list):
                 kwargs[k] = tuple(kwargs[k])
+        if isinstance(kwargs.get("interactions"), list):
+            kwargs["interactions"] = tuple(tuple(p) for p in kwargs["interactions"])
         return cls(**kwargs)

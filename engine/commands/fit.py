@@ -43,6 +43,7 @@ def spec_from_args(args) -> StudySpec:
         candidates=tuple(args.candidates) if args.candidates else None,
         exclude=tuple(args.exclude or ()),
         log_columns=tuple(args.log or ()),
+        interactions=tuple(tuple(pair) for pair in args.interact or ()),
         focal=args.focal,
         focal_penalty=args.focal_penalty,
         group=args.group,

@@ -31,6 +31,7 @@ __all__ = [
 import datetime as _dt
 import difflib
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -135,7 +136,12 @@ class ScoringModel:
     ) -> ScoringModel:
         """smearing: the model's factor when it explains ln of the response; None when the
         response is modelled in its own units."""
-        used = [e for e in encodings if float(coefficients.get(e.name, 0.0)) != 0.0]
+        chosen = {e.name for e in encodings if float(coefficients.get(e.name, 0.0)) != 0.0}
+        # a kept product needs both its factors on the sheet, kept or not (coefficient 0)
+        for e in encodings:
+            if e.kind == "product" and e.name in chosen:
+                chosen.update(e.factors or ())
+        used = [e for e in encodings if e.name in chosen]
         ranges = ranges or {}
         nan = (math.nan, math.nan)
         return cls(
@@ -143,7 +149,7 @@ class ScoringModel:
             response=response,
             intercept=float(intercept),
             encodings=used,
-            coefficients=np.array([float(coefficients[e.name]) for e in used]),
+            coefficients=np.array([float(coefficients.get(e.name, 0.0)) for e in used]),
             means=np.array([float(means[e.name]) for e in used]),
             sds=np.array([float(sds[e.name]) for e in used]),
             category_levels={
@@ -197,6 +203,12 @@ class ScoringModel:
                 out.append(e.source)
         return out
 
+    def factor_indices(self, enc: Encoding) -> tuple[int, int]:
+        """Positions among this model's columns of the two columns a product multiplies."""
+        names = [e.name for e in self.encodings]
+        a, b = enc.factors or ("", "")
+        return names.index(a), names.index(b)
+
     def to_response_units(self, linear: np.ndarray) -> np.ndarray:
         """Predictions in the response's own units from the linear predictor."""
         linear = np.asarray(linear, dtype=float)
@@ -224,6 +236,10 @@ class ScoringModel:
         missing_in: list[list[str]] = [[] for _ in range(n)]
         not_positive: dict[int, list[str]] = {}
         for j, enc in enumerate(self.encodings):
+            if enc.kind == "product":  # its factors come before it (design order)
+                ia, ib = self.factor_indices(enc)
+                X[:, j] = X[:, ia] * X[:, ib]
+                continue
             col = self._find_column(table, enc.source)
             X[:, j] = self._encode(enc, col, table)
             if enc.kind == "ln":
@@ -375,8 +391,11 @@ class ScoringModel:
         """The value the scoring sheet's formula gives for the raw cell ``raw``.
 
         ``raw`` is what a cell holds: None (blank), a float (numbers and date serials), a bool
-        or a str. NaN stands for the formula's #N/A.
+        or a str. NaN stands for the formula's #N/A. (A product column multiplies two encoded
+        cells: see ``row_values``.)
         """
+        if enc.kind == "product":
+            raise ValueError("a product column's value comes from its factors (row_values)")
         kind = source_kind(self.encodings, enc.source)
         miss = math.nan if enc.fill is None else float(enc.fill)
         # the number the cell holds (bools are ints to Python but flags to the sheet), else None
@@ -425,6 +444,18 @@ class ScoringModel:
                 )
             return 0.0 if is_num else 1.0
         raise ValueError(enc.kind)
+
+    def row_values(self, raw: Mapping[str, object]) -> list[float]:
+        """Every encoded cell of one pasted row (``raw``: source -> cell), as the sheet
+        computes them; a product is its factors' product."""
+        out: list[float] = []
+        for enc in self.encodings:
+            if enc.kind == "product":
+                ia, ib = self.factor_indices(enc)
+                out.append(out[ia] * out[ib])
+            else:
+                out.append(self.cell_value(enc, raw.get(enc.source)))
+        return out
 
     def sheet_prediction(self, encoded: list[float]) -> float:
         """The prediction formula of the sheet, evaluated in the same centred form."""

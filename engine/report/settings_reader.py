@@ -171,7 +171,7 @@ def _parse(rows: list[tuple], place: Place | None) -> SettingsRecord:
         enc_rows = sections.get("encodings", [])[1:]
         encodings, means, sds, ranges = [], {}, {}, {}
         for r in enc_rows:
-            r = tuple(r) + (None,) * 12
+            r = tuple(r) + (None,) * 13
             e = Encoding(
                 name=str(r[0]),
                 source=str(r[1]),
@@ -181,6 +181,7 @@ def _parse(rows: list[tuple], place: Place | None) -> SettingsRecord:
                 fill=float(r[5]) if r[5] is not None else None,
                 origin=json.loads(r[6]) if r[6] else None,
                 reference=json.loads(r[7]) if r[7] else None,
+                factors=tuple(json.loads(r[12])) if r[12] else None,
             )
             encodings.append(e)
             means[e.name] = float(r[8])

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from engine.design import Design
+from engine.design import Design, without_orphan_products
 from engine.errors import InputProblem, Place
 from engine.study_spec import StudySpec
 
@@ -90,7 +90,7 @@ def hold_back_test_rows(design: Design, spec: StudySpec) -> tuple[Design, HeldBa
     X_test = design.X[test]
     # a column constant on the rows left carries nothing there (a rare flag whose ones all
     # fell in the test rows): left out of both
-    notes = []
+    notes: list[str] = []
     scale = np.maximum(1.0, np.abs(train.X).max(axis=0)) if train.X.size else 1.0
     flat = np.flatnonzero(train.sds <= 1e-12 * scale)
     if flat.size:
@@ -119,6 +119,23 @@ def hold_back_test_rows(design: Design, spec: StudySpec) -> tuple[Design, HeldBa
             },
         )
         X_test = X_test[:, cols]
+        kept_before = list(train.names)
+        X_left, left, encs = without_orphan_products(
+            train.X, train.names, train.encodings, train.dropped_columns, notes
+        )
+        if len(left) < len(kept_before):
+            at = [kept_before.index(nm) for nm in left]
+            focal_name = None if focal is None else kept_before[focal]
+            train = dataclasses.replace(
+                train,
+                X=np.ascontiguousarray(X_left),
+                names=left,
+                encodings=encs,
+                means=train.means[at],
+                sds=train.sds[at],
+                focal_index=None if focal_name is None else left.index(focal_name),
+            )
+            X_test = X_test[:, at]
         notes.append(
             "left out, constant on the rows left for fitting after holding back the final "
             "test: " + ", ".join(f"'{nm}'" for nm in names)

@@ -280,7 +280,11 @@ def write(
                     if name == "model column":
                         text(ws, row, c, enc.name, fm.label)
                     elif name == "source column":
-                        text(ws, row, c, enc.source, fm.param)
+                        shown = enc.source
+                        if enc.kind == "product":  # the sources of the two columns multiplied
+                            ia, ib = model.factor_indices(enc)
+                            shown = f"{encs[ia].source} × {encs[ib].source}"
+                        text(ws, row, c, shown, fm.param)
                     elif name == "encoding":
                         text(ws, row, c, enc.kind, fm.param)
                     elif name == "level" and enc.level is not None:
@@ -365,20 +369,24 @@ def write(
                 text(ws, r, s_i, v, fmt)
             else:
                 number(ws, r, s_i, float(v) - (serial_shift if is_date else 0), fmt)
+        values = model.row_values(ex) if ex is not None else []
         for j, enc in enumerate(encs):
-            src = cell_ref(r, sources.index(enc.source), False, True)
-            f = _formula(
-                model,
-                j,
-                src,
-                {
-                    "level": ref("level", j),
-                    "fill": ref("fill for a missing cell", j),
-                    "origin": ref("date origin", j),
-                },
-            )
+            if enc.kind == "product":  # the two encoded cells it multiplies, on this row
+                ia, ib = model.factor_indices(enc)
+                f = f"{cell_ref(r, enc0 + ia)}*{cell_ref(r, enc0 + ib)}"
+            else:
+                f = _formula(
+                    model,
+                    j,
+                    cell_ref(r, sources.index(enc.source), False, True),
+                    {
+                        "level": ref("level", j),
+                        "fill": ref("fill for a missing cell", j),
+                        "origin": ref("date origin", j),
+                    },
+                )
             if ex is not None:
-                val = model.cell_value(enc, ex.get(enc.source))
+                val = values[j]
                 encoded.append(val)
                 cached: object = "#N/A" if math.isnan(val) else val
             else:

@@ -12,7 +12,8 @@ are JSON; a JSON text longer than one cell holds is split over consecutive cells
     [design]       response, sheet, header row, rows used, response mean; version 2 adds
                    "response scale": "ln" or "original"
     [encodings]    header row, then per model column: name, source, letter, kind, level, fill,
-                   origin, reference, mean, sd (level/origin/reference as JSON)
+                   origin, reference, mean, sd (level/origin/reference as JSON), low, high;
+                   version 2 adds factors (JSON, the two columns a product multiplies)
     [levels]       per category source: source, JSON list of its levels (reference first)
     [models]       header row, then per method: method, intercept, penalty, mix, choice,
                    cv_error, cv_error_se, r2; version 2 adds smearing (the factor that takes an
@@ -48,7 +49,8 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     ws.set_column(0, 0, 22)
     ws.set_column(1, 12, 16)
     text(ws, 0, 0, TITLE, fm.title)
-    uses_logs = d.response_log or any(e.kind == "ln" for e in d.encodings)
+    # logs and products are layout 2: a reader of layout 1 would score them wrongly
+    uses_logs = d.response_log or any(e.kind in ("ln", "product") for e in d.encodings)
     ws.write_number(0, 1, LAYOUT_VERSION if uses_logs else 1)
     text(
         ws,
@@ -99,7 +101,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     for c, h in enumerate(
         (
             "name", "source", "letter", "kind", "level", "fill", "origin", "reference", "mean",
-            "sd", "low", "high",
+            "sd", "low", "high", "factors",
         )
     ):  # fmt: skip
         text(ws, r, c, h, fm.heading)
@@ -118,6 +120,8 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         if d.n_rows:  # the range of the rows used: new rows beyond it are extrapolation
             number(ws, r, 10, float(np.min(d.X[:, j])))
             number(ws, r, 11, float(np.max(d.X[:, j])))
+        if e.factors:
+            text(ws, r, 12, json.dumps(list(e.factors)))
         r += 1
     text(ws, r, 0, "[levels]", fm.label)
     r += 1

@@ -89,6 +89,13 @@ class ColumnLedger(QWidget):
         self.none_button = QPushButton("Clear roles")
         self.none_button.setToolTip("Set every column to 'ignore' and start again.")
         self.none_button.clicked.connect(self.clear_roles)
+        self.pair_button = QPushButton("Interact")
+        self.pair_button.setToolTip(
+            "Select two candidate columns, then let them act together: the study also tries "
+            "their product (for a category, one per level), e.g. a price effect that differs by "
+            "promotion. Click again with the same two selected to remove it."
+        )
+        self.pair_button.clicked.connect(self.toggle_interaction_of_selected)
 
         self.set_role_box = QComboBox()
         self.set_role_box.addItem("Set role…", None)
@@ -132,6 +139,7 @@ class ColumnLedger(QWidget):
         actions = QHBoxLayout()
         actions.addWidget(self.numeric_button)
         actions.addWidget(self.none_button)
+        actions.addWidget(self.pair_button)
         actions.addStretch(1)
         self.summary.setWordWrap(True)
 
@@ -142,7 +150,7 @@ class ColumnLedger(QWidget):
         lay.addLayout(find)
         lay.addLayout(actions)
         lay.addWidget(self.view, 1)
-        self.model.roles_changed.connect(self._update_summary)
+        self.model.roles_changed.connect(self.update_summary)
         self.model.modelReset.connect(self._after_reset)
 
     # selection helpers ------------------------------------------------------------------
@@ -164,6 +172,22 @@ class ColumnLedger(QWidget):
 
     def set_role_of_selected(self, role: Role) -> None:
         self.model.set_roles({n: role for n in self.selected_names()})
+
+    def toggle_interaction_of_selected(self) -> bool:
+        """Add the interaction of the two selected columns, or remove it if it is there;
+        False when the selection is not two columns."""
+        names = self.selected_names()
+        if len(names) != 2:
+            self.summary.setText("Select exactly two columns to make them interact.")
+            return False
+        a, b = names
+        pairs = list(self.model.interactions())
+        same = [p for p in pairs if set(p) == {a, b}]
+        self.model.set_interactions(
+            [p for p in pairs if p not in same] if same else [*pairs, (a, b)]
+        )
+        self.update_summary(self.model.roles())
+        return True
 
     # quick actions ----------------------------------------------------------------------
     def all_numeric_as_candidates(self) -> None:
@@ -196,6 +220,17 @@ class ColumnLedger(QWidget):
             act.setToolTip(ROLE_HELP[r])
             act.triggered.connect(lambda _=False, role=r: self.set_role_of_selected(role))
             menu.addAction(act)
+        selected = self.selected_names()
+        if len(selected) == 2:
+            there = any(set(p) == set(selected) for p in self.model.interactions())
+            menu.addSeparator()
+            act = QAction(
+                ("Remove the interaction of " if there else "Let interact: ")
+                + " × ".join(selected),
+                menu,
+            )
+            act.triggered.connect(lambda _=False: self.toggle_interaction_of_selected())
+            menu.addAction(act)
         menu.exec(self.view.viewport().mapToGlobal(pos))
 
     def _on_clicked(self, index: QModelIndex) -> None:
@@ -205,12 +240,17 @@ class ColumnLedger(QWidget):
         self.view.resizeColumnsToContents()
         for col, cap in ((COL_NAME, 260), (COL_ROLE, 120)):
             self.view.setColumnWidth(col, min(max(self.view.columnWidth(col), 90), cap))
-        self._update_summary(self.model.roles())
+        self.update_summary(self.model.roles())
 
-    def _update_summary(self, roles: dict) -> None:
+    def update_summary(self, roles: dict | None = None) -> None:
+        """The line under the title: counts, the response and the interactions."""
+        roles = self.model.roles() if roles is None else roles
         n_cand = sum(1 for r in roles.values() if r is Role.CANDIDATE)
         resp = [n for n, r in roles.items() if r is Role.RESPONSE]
         text = f"{len(roles)} columns · {n_cand} candidates"
         if resp:
             text += f" · response {resp[0]}"
+        pairs = self.model.interactions()
+        if pairs:
+            text += " · interactions: " + ", ".join(f"{a} × {b}" for a, b in pairs)
         self.summary.setText(text if roles else "")

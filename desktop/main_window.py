@@ -523,6 +523,7 @@ class MainWindow(QMainWindow):
         memory = self.store.book(loaded.path)
         roles = default_roles(t)
         kept_logged = self.ledger.model.logged()
+        kept_pairs = self.ledger.model.interactions()
         if self._pending_spec is not None:
             roles = roles_from_spec(t, self._pending_spec)
         elif previous is not None and previous.path == loaded.path:
@@ -541,12 +542,20 @@ class MainWindow(QMainWindow):
             else:
                 self.results.set_outdated(True)
         self.ledger.model.set_table(t, roles)
+        led = self.ledger.model
         if self._pending_spec is not None:
-            self.ledger.model.set_logged(self._pending_spec.log_columns, announce=False)
+            led.set_logged(self._pending_spec.log_columns, announce=False)
+            led.set_interactions(self._pending_spec.interactions, announce=False)
         elif previous is not None and previous.path == loaded.path:
-            self.ledger.model.set_logged(kept_logged, announce=False)
-        elif memory.get("sheet") == t.sheet and isinstance(memory.get("logged"), list):
-            self.ledger.model.set_logged(memory["logged"], announce=False)
+            led.set_logged(kept_logged, announce=False)
+            led.set_interactions(kept_pairs, announce=False)
+        elif memory.get("sheet") == t.sheet:
+            if isinstance(memory.get("logged"), list):
+                led.set_logged(memory["logged"], announce=False)
+            if isinstance(memory.get("interactions"), list):
+                pairs = [p for p in memory["interactions"] if isinstance(p, list) and len(p) == 2]
+                led.set_interactions(pairs, announce=False)
+        self.ledger.update_summary()
         if self._pending_spec is not None:
             self.settings_panel.set_values(settings_from_spec(self._pending_spec))
         elif previous is None or previous.path != loaded.path:
@@ -684,6 +693,7 @@ class MainWindow(QMainWindow):
             header_row=self.book.table.header_row,
             roles={n: r.value for n, r in self.ledger.model.roles().items()},
             logged=list(self.ledger.model.logged()),
+            interactions=[list(p) for p in self.ledger.model.interactions()],
             settings={
                 k: (list(v) if isinstance(v, tuple) else v)
                 for k, v in self.settings_panel.values().items()
@@ -702,6 +712,7 @@ class MainWindow(QMainWindow):
             self.settings_panel.values(),
             header_row=self.book.table.header_row,
             logged=self.ledger.model.logged(),
+            interactions=self.ledger.model.interactions(),
         )
 
     def run_study(self, spec_override: StudySpec | None = None) -> bool:

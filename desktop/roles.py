@@ -56,6 +56,8 @@ ROLE_HELP: dict[Role, str] = {
 _SINGLE = (Role.RESPONSE, Role.FOCAL, Role.GROUP, Role.TIME_ORDER)
 # the roles whose column enters the model, so that its natural log can be taken
 _LOGGABLE_ROLES = (Role.RESPONSE, Role.CANDIDATE, Role.FOCAL)
+# the roles of columns among the model's candidates (an interaction joins two of them)
+_IN_MODEL = (Role.CANDIDATE, Role.FOCAL)
 _NUMERIC_KINDS = (ColumnKind.NUMBER, ColumnKind.FLAG)
 
 
@@ -163,13 +165,15 @@ def build_spec(
     settings: Mapping[str, Any],
     header_row: int | None = None,
     logged: tuple[str, ...] = (),
+    interactions: tuple[tuple[str, str], ...] = (),
 ) -> StudySpec:
     """The frozen request for ``engine.study.run_study``. Call only when ``check_roles`` is empty.
 
     ``settings`` holds StudySpec field names (methods, folds, scheme, choose, seed, missing ...).
     The focal column is also passed as a candidate: double selection needs it in the design.
     ``logged``: columns ticked for their natural log; a tick on a column outside the model
-    (ignored, group, time order) is kept on screen but not sent.
+    (ignored, group, time order) is kept on screen but not sent; so is an interaction
+    (``interactions``) with such a column.
     """
 
     def one(role: Role) -> str | None:
@@ -190,6 +194,11 @@ def build_spec(
         group=one(Role.GROUP),
         time_order=one(Role.TIME_ORDER),
         log_columns=tuple(n for n in logged if roles.get(n) in _LOGGABLE_ROLES),
+        interactions=tuple(
+            (a, b)
+            for a, b in interactions
+            if roles.get(a) in _IN_MODEL and roles.get(b) in _IN_MODEL
+        ),
         **dict(settings),
     )
 

@@ -121,6 +121,7 @@ class ColumnLedgerModel(QAbstractTableModel):
         self._problems: dict[str, str] = {}
         self._highlight: str | None = None
         self._logged: set[str] = set()
+        self._interactions: list[tuple[str, str]] = []
 
     # state ------------------------------------------------------------------------------
     @property
@@ -138,7 +139,28 @@ class ColumnLedgerModel(QAbstractTableModel):
         self._roles = {n: given.get(n, Role.IGNORE) for n in names}
         self._problems = {}
         self._logged = set()
+        self._interactions = []
         self.endResetModel()
+
+    def interactions(self) -> tuple[tuple[str, str], ...]:
+        """Pairs of columns whose product the study adds (interactions), in the order made."""
+        return tuple(self._interactions)
+
+    def set_interactions(self, pairs, announce: bool = True) -> None:
+        """Exactly these pairs (of this table's columns, each pair once); ``announce`` as for
+        set_logged."""
+        if self._table is None:
+            return
+        names = {c.name for c in self._table.columns}
+        new: list[tuple[str, str]] = []
+        for a, b in pairs:
+            pair = (str(a), str(b))
+            if a != b and {a, b} <= names and pair not in new and pair[::-1] not in new:
+                new.append(pair)
+        if new != self._interactions:
+            self._interactions = new
+            if announce:
+                self.roles_changed.emit(self.roles())
 
     def logged(self) -> tuple[str, ...]:
         """Columns ticked for their natural log, in sheet order."""

@@ -151,3 +151,23 @@ def test_ln_tick_box_only_on_number_columns_and_announced(qtbot):
     assert m.logged() == ("x2", "x4")
     m.set_table(t, default_roles(t))  # another sheet: no ticks carried silently
     assert m.logged() == ()
+
+
+def test_two_selected_columns_interact_and_a_second_click_removes_it(qtbot):
+    t = simulated_table()
+    led = ColumnLedger()
+    qtbot.addWidget(led)
+    led.model.set_table(t, default_roles(t))
+    seen = []
+    led.model.roles_changed.connect(seen.append)
+    led.select_names(["x1"])
+    assert not led.toggle_interaction_of_selected()  # one column: nothing to pair
+    assert "exactly two" in led.summary.text()
+    led.select_names(["x1", "region"])
+    assert led.toggle_interaction_of_selected()  # the pair in sheet order
+    assert led.model.interactions() == (("region", "x1"),) and len(seen) == 1
+    assert "interactions: region × x1" in led.summary.text()
+    led.pair_button.click()  # the same two again: removed
+    assert led.model.interactions() == () and len(seen) == 2
+    led.model.set_interactions([("x1", "region"), ("region", "x1"), ("x2", "nowhere")])
+    assert led.model.interactions() == (("x1", "region"),)

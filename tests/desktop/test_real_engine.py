@@ -201,3 +201,27 @@ def test_final_test_rows_from_the_window_show_in_the_comparison(qtbot, store, bo
     assert shown not in (None, "", "–") and float(shown) == pytest.approx(
         res.models[0].test_r2, abs=5e-4
     )
+
+
+def test_an_interaction_made_in_the_window_is_fitted_saved_and_restored(qtbot, store, book):
+    w = make_window(qtbot, store, EngineCalls())
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    w.ledger.select_names(["x0", "region"])
+    assert w.ledger.toggle_interaction_of_selected()
+    w.settings_panel.set_values({"methods": ["lasso"], "folds": 5, "n_penalties": 40})
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        w.run_study()
+    wait_idle(qtbot, w)
+    products = [n for n in w.result.design.names if " × " in n]
+    assert products == ["region=south × x0", "region=east × x0"]  # 'north' is the reference
+    with qtbot.waitSignal(w.saved, timeout=120_000):
+        assert w.save_in_place()
+    wait_idle(qtbot, w)
+    assert read_settings(book).interactions == (("region", "x0"),)
+    w2 = make_window(qtbot, store, StandIn())
+    open_and_wait(qtbot, w2, book)
+    with qtbot.waitSignal(w2.study_finished, timeout=60_000):
+        w2.message.action_button.click()
+    wait_idle(qtbot, w2)
+    assert w2.ledger.model.interactions() == (("region", "x0"),)

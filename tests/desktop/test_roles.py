@@ -129,3 +129,12 @@ def test_an_ln_tick_on_a_column_with_values_at_or_below_zero_blocks_the_run():
     assert "no natural log" in problems[0].message
     roles["x1"] = Role.IGNORE  # out of the model: the tick does not matter
     assert check_roles(t, roles, logged=("x1",)) == []
+
+
+def test_interactions_reach_the_request_only_between_columns_in_the_model():
+    t = simulated_table()
+    roles = default_roles(t)
+    roles.update({"response_y": Role.RESPONSE, "x0": Role.FOCAL, "x5": Role.IGNORE})
+    pairs = (("x0", "region"), ("x1", "x5"), ("x2", "response_y"))
+    spec = build_spec(t, roles, {"methods": ("lasso",)}, interactions=pairs)
+    assert spec.interactions == (("x0", "region"),)

@@ -32,13 +32,20 @@ def test_ledger_lists_every_column_with_kind_and_missing(qtbot):
     assert m.data(m.index(1, COL_ROLE)) == "candidate"
 
 
-def test_editing_a_role_cell_reaches_the_model_and_back(qtbot):
+def _ledger_watching_roles(qtbot):
+    """A ledger on the simulated table with its default roles, and the list of role maps it
+    announces."""
     t = simulated_table()
     led = ColumnLedger()
     qtbot.addWidget(led)
     led.model.set_table(t, default_roles(t))
-    seen = []
+    seen: list = []
     led.model.roles_changed.connect(seen.append)
+    return led, seen
+
+
+def test_editing_a_role_cell_reaches_the_model_and_back(qtbot):
+    led, seen = _ledger_watching_roles(qtbot)
     # model -> view
     assert led.model.setData(led.model.index(1, COL_ROLE), "response")
     assert led.model.roles()["response_y"] is Role.RESPONSE
@@ -154,12 +161,7 @@ def test_ln_tick_box_only_on_number_columns_and_announced(qtbot):
 
 
 def test_two_selected_columns_interact_and_a_second_click_removes_it(qtbot):
-    t = simulated_table()
-    led = ColumnLedger()
-    qtbot.addWidget(led)
-    led.model.set_table(t, default_roles(t))
-    seen = []
-    led.model.roles_changed.connect(seen.append)
+    led, seen = _ledger_watching_roles(qtbot)
     led.select_names(["x1"])
     assert not led.toggle_interaction_of_selected()  # one column: nothing to pair
     assert "exactly two" in led.summary.text()

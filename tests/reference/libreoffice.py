@@ -12,6 +12,8 @@ import shutil
 import subprocess
 from pathlib import Path
 
+import openpyxl
+
 REGISTRY = """<?xml version="1.0" encoding="UTF-8"?>
 <oor:items xmlns:oor="http://openoffice.org/2001/registry" xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
 <item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
@@ -54,3 +56,29 @@ def convert(
     if missing:
         raise RuntimeError(f"LibreOffice did not write {missing}: {proc.stdout} {proc.stderr}")
     return outs
+
+
+def scoring_layout(ws) -> tuple[int, dict[str, int]]:
+    """(header row, {heading: column}) of a scoring sheet, 1-based (the paste block first)."""
+    for r in range(1, 80):
+        row = [c.value for c in ws[r]]
+        if any(isinstance(v, str) and v.startswith("Prediction of") for v in row):
+            cols: dict[str, int] = {}
+            for i, v in enumerate(row):
+                if isinstance(v, str):
+                    cols.setdefault(v, i + 1)
+            return r, cols
+    raise AssertionError("no header row on the scoring sheet")
+
+
+def paste_after_examples(results: Path, headings: list[str], rows: list[tuple], dst: Path) -> Path:
+    """A copy of ``results`` with ``rows`` typed under ``headings`` of the scoring sheet, just
+    below its five example rows (openpyxl keeps the workbook's date system)."""
+    wb = openpyxl.load_workbook(results)
+    ws = wb["TM Scoring"]
+    head, cols = scoring_layout(ws)
+    for i, row in enumerate(rows):
+        for heading, value in zip(headings, row):
+            ws.cell(head + 6 + i, cols[heading]).value = value
+    wb.save(dst)
+    return dst

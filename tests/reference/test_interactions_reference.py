@@ -72,7 +72,7 @@ def test_interactions_match_statsmodels_formulas_on_grunfeld_data(tmp_path):
 
 @pytest.mark.libreoffice
 def test_product_formulas_recalculated_by_libreoffice_equal_the_engine(tmp_path):
-    from libreoffice import convert, make_profile, soffice
+    from libreoffice import convert, make_profile, paste_after_examples, scoring_layout, soffice
 
     if soffice() is None:  # loud: the reference check is not silently skipped
         pytest.fail("LibreOffice (soffice) is not installed: the recalculation check cannot run")
@@ -86,20 +86,10 @@ def test_product_formulas_recalculated_by_libreoffice_equal_the_engine(tmp_path)
         (5000.5, 900.0, "US Steel"),
         (300.0, 20.0, "Northwind Mills"),
     ]
-    wb = openpyxl.load_workbook(results)
-    ws = wb["TM Scoring"]
-    head = next(
-        r
-        for r in range(1, 80)
-        if any(isinstance(c.value, str) and c.value.startswith("Prediction of") for c in ws[r])
-    )
-    cols = {c.value: c.column for c in ws[head] if isinstance(c.value, str)}
-    for i, row in enumerate(new):
-        for name, v in zip(("value", "capital", "firm"), row):
-            ws.cell(head + 6 + i, cols[name]).value = v
-    wb.save(tmp_path / "pasted.xlsx")
+    paste_after_examples(results, ["value", "capital", "firm"], new, tmp_path / "pasted.xlsx")
     (out,) = convert([tmp_path / "pasted.xlsx"], "xlsx", tmp_path / "lo", make_profile(tmp_path))
     got_ws = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(got_ws)
     pred_col = next(c for h, c in cols.items() if h.startswith("Prediction of"))
     got = [got_ws.cell(head + 1 + i, pred_col).value for i in range(5 + len(new))]
     np.testing.assert_allclose(got[:5], res.model("ols").fitted[:5], rtol=1e-9)

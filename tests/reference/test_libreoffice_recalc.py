@@ -30,7 +30,13 @@ from openpyxl.utils import get_column_letter
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "engine" / "report"))
 
-from libreoffice import convert, make_profile, soffice  # noqa: E402
+from libreoffice import (  # noqa: E402
+    convert,
+    make_profile,
+    paste_after_examples,
+    scoring_layout,
+    soffice,
+)
 from rich_workbook import write_rich  # noqa: E402
 from study_fixture import make_result, simulate_rows, write_rows  # noqa: E402
 
@@ -48,38 +54,12 @@ if soffice() is None:  # loud: the reference check is not silently skipped
 WRONG = 12345.0
 
 
-def _layout(ws):
-    """(header row, {heading: column}) of the scoring sheet, 1-based."""
-    for r in range(1, 80):
-        row = [c.value for c in ws[r]]
-        if any(isinstance(v, str) and v.startswith("Prediction of") for v in row):
-            cols: dict[str, int] = {}
-            for i, v in enumerate(row):
-                if isinstance(v, str):
-                    cols.setdefault(v, i + 1)  # the paste block comes first
-            return r, cols
-    raise AssertionError("no header row on the scoring sheet")
-
-
 def _predictions(path: Path, first: int, count: int) -> np.ndarray:
     ws = openpyxl.load_workbook(path, data_only=True)["TM Scoring"]
-    head, cols = _layout(ws)
+    head, cols = scoring_layout(ws)
     pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
     vals = [ws.cell(head + first + i, pc).value for i in range(count)]
     return np.array([np.nan if v in (None, "") else float(v) for v in vals])
-
-
-def _paste_after_examples(results: Path, headings: list[str], rows: list[tuple], dst: Path) -> Path:
-    """A copy of ``results`` with ``rows`` typed under ``headings`` of the scoring sheet, just
-    below its five example rows (openpyxl keeps the workbook's date system)."""
-    wb = openpyxl.load_workbook(results)
-    ws = wb["TM Scoring"]
-    head, cols = _layout(ws)
-    for i, row in enumerate(rows):
-        for heading, value in zip(headings, row):
-            ws.cell(head + 6 + i, cols[heading]).value = value
-    wb.save(dst)
-    return dst
 
 
 def _plant_wrong_cached_value(src: Path, dst: Path) -> None:
@@ -117,7 +97,7 @@ def lo(tmp_path_factory):
     pasted = tmp / "pasted.xlsx"
     wb = openpyxl.load_workbook(results)
     ws = wb["TM Scoring"]
-    head, cols = _layout(ws)
+    head, cols = scoring_layout(ws)
     n_examples = 5
     for i, row in enumerate(new_rows):
         r = head + 1 + n_examples + i
@@ -232,7 +212,7 @@ def test_unseen_levels_get_no_prediction_and_far_numbers_a_range_check(lo):
     # the sheet must not predict a level the model has no coefficient for (it would silently
     # be the reference level), and must flag a number beyond the fitted range, as the engine does
     ws = openpyxl.load_workbook(lo.converted["edge"], data_only=True)["TM Scoring"]
-    head, cols = _layout(ws)
+    head, cols = scoring_layout(ws)
     pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
     r0 = head + 1 + lo.n_examples
     assert ws.cell(r0, pc).value == "#N/A"
@@ -299,7 +279,7 @@ def test_check_mark_column_on_the_recalculated_scoring_sheet(tmp_path):
     results = write_results(res, out=tmp_path / "results.xlsx")
     model = load_scoring_model(results)
     new = [(0.3, "x"), (0.3, None), (-1.0, " X "), (2.0, None)]
-    pasted = _paste_after_examples(results, ["x1", "checked"], new, tmp_path / "pasted.xlsx")
+    pasted = paste_after_examples(results, ["x1", "checked"], new, tmp_path / "pasted.xlsx")
     (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
     got = _predictions(out, 6, len(new))
     m = res.models[0]
@@ -348,7 +328,7 @@ def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp
     model = load_scoring_model(book)
     new = [(dt.datetime(2024, 7, 15), 78.0), (dt.datetime(2024, 2, 29), 85.5)]
     assert openpyxl.load_workbook(book, read_only=True).epoch == CALENDAR_MAC_1904
-    pasted = _paste_after_examples(book, ["made_on", "temp"], new, tmp_path / "pasted.xlsx")
+    pasted = paste_after_examples(book, ["made_on", "temp"], new, tmp_path / "pasted.xlsx")
     rows = openpyxl.Workbook()
     rows.active.append(["made_on", "temp"])
     for day, temp in new:

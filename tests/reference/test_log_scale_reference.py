@@ -74,7 +74,7 @@ def test_log_log_least_squares_and_smearing_match_statsmodels_on_engel_data(tmp_
 
 @pytest.mark.libreoffice
 def test_ln_scoring_sheet_recalculated_by_libreoffice_equals_the_engine(tmp_path):
-    from libreoffice import convert, make_profile, soffice
+    from libreoffice import convert, make_profile, paste_after_examples, scoring_layout, soffice
 
     if soffice() is None:  # loud: the reference check is not silently skipped
         pytest.fail("LibreOffice (soffice) is not installed: the recalculation check cannot run")
@@ -83,19 +83,10 @@ def test_ln_scoring_sheet_recalculated_by_libreoffice_equals_the_engine(tmp_path
     results = write_results(res, out=tmp_path / "results.xlsx")
     model = load_scoring_model(results)
     new_income = [650.0, 1200.5, 0.0, 3000.0]
-    wb = openpyxl.load_workbook(results)
-    ws = wb["TM Scoring"]
-    head = next(
-        r
-        for r in range(1, 60)
-        if any(isinstance(c.value, str) and c.value.startswith("Prediction of") for c in ws[r])
-    )
-    cols = {c.value: c.column for c in ws[head] if isinstance(c.value, str)}
-    for i, x in enumerate(new_income):
-        ws.cell(head + 6 + i, cols["income"]).value = x
-    wb.save(tmp_path / "pasted.xlsx")
+    paste_after_examples(results, ["income"], [(x,) for x in new_income], tmp_path / "pasted.xlsx")
     (out,) = convert([tmp_path / "pasted.xlsx"], "xlsx", tmp_path / "lo", make_profile(tmp_path))
     got_ws = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(got_ws)
     pred_col = next(c for h, c in cols.items() if h.startswith("Prediction of"))
     got = [got_ws.cell(head + 1 + i, pred_col).value for i in range(5 + len(new_income))]
     checks = [got_ws.cell(head + 1 + i, cols["Check"]).value for i in range(5 + len(new_income))]

@@ -758,6 +758,18 @@ class _MethodRunner:
         reading = _log_reading(d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d)
         if reading:
             found.notes.append(reading)
+        partners = [
+            b if a == spec.focal else a for a, b in spec.interactions if spec.focal in (a, b)
+        ]
+        if partners and any(
+            e.kind == "product" and d.names[j] in (e.factors or ()) for e in d.encodings
+        ):
+            found.notes.append(
+                f"'{spec.focal}' also enters through its interaction with "
+                + ", ".join(f"'{p}'" for p in partners)
+                + ": the estimate is its effect where those columns are 0 (at the reference "
+                "level of a category), not an average effect"
+            )
         return found
 
     def stability(self, progress: Progress):

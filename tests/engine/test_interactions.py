@@ -134,3 +134,11 @@ def test_interactions_from_the_command_line_and_back_from_the_settings(tmp_path)
     spec = StudySpec.from_dict(doc["spec"])
     assert spec.interactions == (("price", "promo"), ("shelf", "price"))
     assert spec.schema_version == 2
+
+
+def test_a_focal_column_in_an_interaction_says_what_its_estimate_means(tmp_path):
+    book = _book(tmp_path / "s.xlsx", n=200)
+    res = run_study(_spec(book, focal="price", interactions=(("price", "promo"),)))
+    assert any("interaction with 'promo'" in n and "reference" in n for n in res.focal.notes)
+    plain = run_study(_spec(book, focal="price"))
+    assert not any("interaction" in n for n in plain.focal.notes)

@@ -93,7 +93,8 @@ class ColumnLedger(QWidget):
         self.pair_button.setToolTip(
             "Select two candidate columns, then let them act together: the study also tries "
             "their product (for a category, one per level), e.g. a price effect that differs by "
-            "promotion. Click again with the same two selected to remove it."
+            "promotion. With one number column selected it adds its square (a curved effect). "
+            "Click again with the same selection to remove it."
         )
         self.pair_button.clicked.connect(self.toggle_interaction_of_selected)
 
@@ -174,13 +175,15 @@ class ColumnLedger(QWidget):
         self.model.set_roles({n: role for n in self.selected_names()})
 
     def toggle_interaction_of_selected(self) -> bool:
-        """Add the interaction of the two selected columns, or remove it if it is there;
-        False when the selection is not two columns."""
+        """Add the interaction of the two selected columns (of one selected column: its
+        square), or remove it if it is there; False when the selection is not one or two."""
         names = self.selected_names()
-        if len(names) != 2:
-            self.summary.setText("Select exactly two columns to make them interact.")
+        if len(names) not in (1, 2):
+            self.summary.setText(
+                "Select two columns to make them interact, or one number column for its square."
+            )
             return False
-        a, b = names
+        a, b = names if len(names) == 2 else (names[0], names[0])
         pairs = list(self.model.interactions())
         same = [p for p in pairs if set(p) == {a, b}]
         self.model.set_interactions(
@@ -221,14 +224,16 @@ class ColumnLedger(QWidget):
             act.triggered.connect(lambda _=False, role=r: self.set_role_of_selected(role))
             menu.addAction(act)
         selected = self.selected_names()
-        if len(selected) == 2:
+        if len(selected) in (1, 2):
             there = any(set(p) == set(selected) for p in self.model.interactions())
             menu.addSeparator()
-            act = QAction(
-                ("Remove the interaction of " if there else "Let interact: ")
-                + " × ".join(selected),
-                menu,
-            )
+            if len(selected) == 2:
+                words = ("Remove the interaction of " if there else "Let interact: ") + " × ".join(
+                    selected
+                )
+            else:
+                words = ("Remove the square of " if there else "Add the square of ") + selected[0]
+            act = QAction(words, menu)
             act.triggered.connect(lambda _=False: self.toggle_interaction_of_selected())
             menu.addAction(act)
         menu.exec(self.view.viewport().mapToGlobal(pos))
@@ -252,5 +257,7 @@ class ColumnLedger(QWidget):
             text += f" · response {resp[0]}"
         pairs = self.model.interactions()
         if pairs:
-            text += " · interactions: " + ", ".join(f"{a} × {b}" for a, b in pairs)
+            text += " · interactions: " + ", ".join(
+                f"{a}²" if a == b else f"{a} × {b}" for a, b in pairs
+            )
         self.summary.setText(text if roles else "")

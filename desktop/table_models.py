@@ -143,7 +143,8 @@ class ColumnLedgerModel(QAbstractTableModel):
         self.endResetModel()
 
     def interactions(self) -> tuple[tuple[str, str], ...]:
-        """Pairs of columns whose product the study adds (interactions), in the order made."""
+        """Pairs of columns whose product the study adds (interactions; a column paired with
+        itself adds its square), in the order made."""
         return tuple(self._interactions)
 
     def set_interactions(self, pairs, announce: bool = True) -> None:
@@ -155,7 +156,7 @@ class ColumnLedgerModel(QAbstractTableModel):
         new: list[tuple[str, str]] = []
         for a, b in pairs:
             pair = (str(a), str(b))
-            if a != b and {a, b} <= names and pair not in new and pair[::-1] not in new:
+            if {a, b} <= names and pair not in new and pair[::-1] not in new:
                 new.append(pair)
         if new != self._interactions:
             self._interactions = new

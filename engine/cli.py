@@ -83,7 +83,8 @@ def build_parser() -> argparse.ArgumentParser:
         default=[],
         metavar=("COLUMN", "COLUMN"),
         help="also let two candidate columns act together: their product enters as a candidate "
-        "(for a category, one product per level); repeat for more pairs",
+        "(for a category, one product per level); a number column named twice adds its square "
+        "(a curved effect); repeat for more pairs",
     )
     f.add_argument(
         "--scoring-method",

@@ -461,6 +461,15 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             main = [(e, blocks[j]) for j, e in enumerate(encodings) if e.kind != "product"]
             of_a = [(e, v) for e, v in main if e.source == a]
             of_b = [(e, v) for e, v in main if e.source == b]
+            if a == b:  # the square of one number column: its curvature
+                ea, va = _squarable(a, of_a, where, place)
+                add(
+                    Encoding(
+                        f"{ea.name}²", ea.source, ea.letter, "product", factors=(ea.name, ea.name)
+                    ),
+                    va * va,
+                )
+                continue
             for ea, va in of_a:
                 for eb, vb in of_b:
                     if "missing" in (ea.kind, eb.kind):
@@ -557,6 +566,20 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         warnings=warnings,
         response_log=response_log,
     )
+
+
+def _squarable(column: str, made: list, where: str, place) -> tuple[Encoding, np.ndarray]:
+    """The one model column a square is taken of: a number (or its ln) or a date's trend."""
+    main = [(e, v) for e, v in made if e.kind in ("number", "ln", "trend")]
+    if not main:
+        kinds = sorted({e.kind for e, _ in made})
+        raise InputProblem(
+            f"column '{column}' in {where} is paired with itself, which adds its square; that "
+            f"needs a number column, and this one is made of {', '.join(kinds)} columns (the "
+            "square of a 0/1 column is the column itself): pair it with another column",
+            place(column),
+        )
+    return main[0]
 
 
 def without_orphan_products(

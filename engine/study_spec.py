@@ -48,7 +48,8 @@ class StudySpec:
     exclude: tuple[str, ...] = ()
     # columns (the response among them, if wanted) that enter the model as their natural log
     log_columns: tuple[str, ...] = ()
-    # pairs of candidate columns whose products enter the model as well (interactions)
+    # pairs of candidate columns whose products enter the model as well (interactions); a
+    # number column paired with itself adds its square
     interactions: tuple[tuple[str, str], ...] = ()
     focal: str | None = None  # column whose effect double selection estimates
     focal_penalty: str = "plugin"
@@ -132,9 +133,9 @@ class StudySpec:
         object.__setattr__(self, "log_columns", tuple(dict.fromkeys(self.log_columns)))
         pairs = []
         for pair in self.interactions:
-            if len(pair) != 2 or pair[0] == pair[1]:
+            if len(pair) != 2:  # a column with itself is its square (curvature)
                 raise InputProblem(
-                    f"an interaction takes two different columns (got {', '.join(map(str, pair))})"
+                    f"an interaction takes two columns (got {', '.join(map(str, pair))})"
                 )
             if tuple(pair) not in pairs and (pair[1], pair[0]) not in pairs:
                 pairs.append((str(pair[0]), str(pair[1])))

@@ -162,9 +162,14 @@ def test_ln_tick_box_only_on_number_columns_and_announced(qtbot):
 
 def test_two_selected_columns_interact_and_a_second_click_removes_it(qtbot):
     led, seen = _ledger_watching_roles(qtbot)
+    led.select_names(["x1", "x2", "x3"])
+    assert not led.toggle_interaction_of_selected()  # three columns: no pair
+    assert "Select two columns" in led.summary.text()
     led.select_names(["x1"])
-    assert not led.toggle_interaction_of_selected()  # one column: nothing to pair
-    assert "exactly two" in led.summary.text()
+    assert led.toggle_interaction_of_selected()  # one column: its square
+    assert led.model.interactions() == (("x1", "x1"),) and "interactions: x1²" in led.summary.text()
+    assert led.toggle_interaction_of_selected() and led.model.interactions() == ()
+    seen.clear()
     led.select_names(["x1", "region"])
     assert led.toggle_interaction_of_selected()  # the pair in sheet order
     assert led.model.interactions() == (("region", "x1"),) and len(seen) == 1

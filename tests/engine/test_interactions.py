@@ -75,7 +75,7 @@ def test_the_fit_recovers_slopes_that_differ_by_level(tmp_path):
     [
         (("price", "units"), "is in an interaction but is not a candidate"),
         (("price", "code"), "is in an interaction but is not a candidate"),
-        (("price", "price"), "two different columns"),
+        (("promo", "promo"), "paired with itself, which adds its square"),
     ],
 )
 def test_an_interaction_outside_the_candidates_is_refused(tmp_path, pair, fragment):
@@ -142,3 +142,14 @@ def test_a_focal_column_in_an_interaction_says_what_its_estimate_means(tmp_path)
     assert any("interaction with 'promo'" in n and "reference" in n for n in res.focal.notes)
     plain = run_study(_spec(book, focal="price"))
     assert not any("interaction" in n for n in plain.focal.notes)
+
+
+def test_a_number_paired_with_itself_adds_its_square(tmp_path):
+    book = _book(tmp_path / "s.xlsx")
+    d = build_design(read_table(book), _spec(book, interactions=(("shelf", "shelf"),)))
+    j = d.names.index
+    assert d.names[-1] == "shelf²" and d.encodings[-1].factors == ("shelf", "shelf")
+    np.testing.assert_array_equal(d.X[:, j("shelf²")], d.X[:, j("shelf")] ** 2)
+    res = run_study(_spec(book, interactions=(("shelf", "shelf"),)))
+    model = load_scoring_model(write_results(res, out=tmp_path / "r.xlsx"))
+    np.testing.assert_allclose(model.predict(read_table(book)), res.model("ols").fitted, rtol=1e-12)

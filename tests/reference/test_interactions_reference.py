@@ -3,6 +3,7 @@
 - Data: the Grunfeld investment data (11 US firms, 1935-1954: gross investment, firm value,
   capital stock; Grunfeld 1958), shipped with statsmodels (statsmodels.datasets.grunfeld), an
   open dataset.
+- A square (value paired with itself) against ``invest ~ value + I(value ** 2)``.
 - Least squares with value x capital (two numbers) and value x firm (a number and a category)
   against statsmodels' formula interface, ``invest ~ value * capital + value * C(firm)``
   (general-purpose reference library). The two code the firm against different reference
@@ -68,6 +69,20 @@ def test_interactions_match_statsmodels_formulas_on_grunfeld_data(tmp_path):
     # one product per firm besides the reference firm
     firms = data["firm"].nunique()
     assert sum(n.startswith("value × firm=") for n in res.design.names) == firms - 1
+
+
+def test_a_square_matches_statsmodels_on_grunfeld_data(tmp_path):
+    # curvature: value paired with itself, against ``invest ~ value + I(value ** 2)``
+    book, data = _grunfeld_book(tmp_path / "grunfeld.xlsx")
+    spec = StudySpec(
+        source=str(book), response="invest", candidates=("value",), methods=("ols",), folds=5,
+        interactions=(("value", "value"),),
+    )  # fmt: skip
+    ours = run_study(spec).model("ols")
+    ref = smf.ols("invest ~ value + I(value ** 2)", data=data).fit()
+    assert ours.coefficients["value²"] == pytest.approx(ref.params["I(value ** 2)"], rel=1e-8)
+    assert ours.coefficients["value"] == pytest.approx(ref.params["value"], rel=1e-8)
+    np.testing.assert_allclose(ours.fitted, ref.fittedvalues.to_numpy(), rtol=1e-8, atol=1e-6)
 
 
 @pytest.mark.libreoffice

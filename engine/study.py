@@ -758,17 +758,18 @@ class _MethodRunner:
         reading = _log_reading(d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d)
         if reading:
             found.notes.append(reading)
-        partners = [
-            b if a == spec.focal else a for a, b in spec.interactions if spec.focal in (a, b)
-        ]
-        if partners and any(
+        pairs = [(a, b) for a, b in spec.interactions if spec.focal in (a, b)]
+        if pairs and any(
             e.kind == "product" and d.names[j] in (e.factors or ()) for e in d.encodings
         ):
+            through = [
+                "its square" if a == b else f"its interaction with '{b if a == spec.focal else a}'"
+                for a, b in pairs
+            ]
             found.notes.append(
-                f"'{spec.focal}' also enters through its interaction with "
-                + ", ".join(f"'{p}'" for p in partners)
-                + ": the estimate is its effect where those columns are 0 (at the reference "
-                "level of a category), not an average effect"
+                f"'{spec.focal}' also enters through {' and '.join(through)}: the estimate is "
+                "its effect where the partner columns are 0 (a category at its reference level) "
+                "and, with a square, its slope where it is 0 itself; not an average effect"
             )
         return found
 

@@ -142,6 +142,8 @@ def test_a_focal_column_in_an_interaction_says_what_its_estimate_means(tmp_path)
     assert any("interaction with 'promo'" in n and "reference" in n for n in res.focal.notes)
     plain = run_study(_spec(book, focal="price"))
     assert not any("interaction" in n for n in plain.focal.notes)
+    curved = run_study(_spec(book, focal="price", interactions=(("price", "price"),)))
+    assert any("through its square" in n for n in curved.focal.notes)
 
 
 def test_a_number_paired_with_itself_adds_its_square(tmp_path):

@@ -118,6 +118,22 @@ class Design:
             warnings=list(self.warnings),
         )
 
+    def columns(self, index: np.ndarray) -> Design:
+        """The same design on some of its model columns (in order), the focal one kept."""
+        index = np.asarray(index, dtype=int)
+        names = [self.names[j] for j in index]
+        focal = None if self.focal_index is None else self.names[self.focal_index]
+        return dataclasses.replace(
+            self,
+            X=np.ascontiguousarray(self.X[:, index]),
+            names=names,
+            encodings=[self.encodings[j] for j in index],
+            means=self.means[index],
+            sds=self.sds[index],
+            focal_index=None if focal is None else names.index(focal),
+            dropped_columns=dict(self.dropped_columns),
+        )
+
     @property
     def n_rows(self) -> int:
         return int(self.X.shape[0])

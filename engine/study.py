@@ -310,10 +310,9 @@ def _covariance_words(cov_type: str, spec: StudySpec) -> str:
     return f"CR1, clustered by '{spec.group}'" if cov_type == "CR1" else cov_type
 
 
-def _log_reading(response_log: bool, focal_log: bool, focal: str, d: Design) -> str:
+def _log_reading(response_log: bool, focal_log: bool, focal: str, y: str) -> str:
     """How to read the focal estimate when logs were taken (common practice; close for small
     changes): an elasticity with both in ln, a relative change with the response alone."""
-    y = d.response
     if response_log and focal_log:
         return (
             f"both in ln: the estimate is an elasticity, the percent change in {y} for a 1% "
@@ -755,7 +754,9 @@ class _MethodRunner:
             self.notes.append(f"double selection: {note}")
         found = ds.to_focal(d.names[j], [d.names[i] for i in controls])
         found.covariance = _covariance_words(ds.covariance, spec)
-        reading = _log_reading(d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d)
+        reading = _log_reading(
+            d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d.response
+        )
         if reading:
             found.notes.append(reading)
         pairs = [(a, b) for a, b in spec.interactions if spec.focal in (a, b)]

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 __all__ = ["HeldBack", "hold_back_test_rows", "MIN_TEST_ROWS"]
 
-import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -102,39 +101,16 @@ def hold_back_test_rows(design: Design, spec: StudySpec) -> tuple[Design, HeldBa
                 place,
             )
         cols = np.setdiff1d(np.arange(train.n_cols), flat)
-        focal = None
-        if design.focal_index is not None:
-            focal = int(np.searchsorted(cols, design.focal_index))
-        train = dataclasses.replace(
-            train,
-            X=np.ascontiguousarray(train.X[:, cols]),
-            names=[train.names[j] for j in cols],
-            encodings=[train.encodings[j] for j in cols],
-            means=train.means[cols],
-            sds=train.sds[cols],
-            focal_index=focal,
-            dropped_columns={
-                **train.dropped_columns,
-                **{nm: "it is constant on the rows left for fitting" for nm in names},
-            },
-        )
+        train = train.columns(cols)
+        for nm in names:
+            train.dropped_columns[nm] = "it is constant on the rows left for fitting"
         X_test = X_test[:, cols]
-        kept_before = list(train.names)
-        X_left, left, encs = without_orphan_products(
+        _, left, _ = without_orphan_products(
             train.X, train.names, train.encodings, train.dropped_columns, notes
         )
-        if len(left) < len(kept_before):
-            at = [kept_before.index(nm) for nm in left]
-            focal_name = None if focal is None else kept_before[focal]
-            train = dataclasses.replace(
-                train,
-                X=np.ascontiguousarray(X_left),
-                names=left,
-                encodings=encs,
-                means=train.means[at],
-                sds=train.sds[at],
-                focal_index=None if focal_name is None else left.index(focal_name),
-            )
+        if len(left) < train.n_cols:
+            at = [train.names.index(nm) for nm in left]
+            train = train.columns(np.array(at))
             X_test = X_test[:, at]
         notes.append(
             "left out, constant on the rows left for fitting after holding back the final "

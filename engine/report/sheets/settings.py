@@ -50,8 +50,8 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
     ws.set_column(1, 12, 16)
     text(ws, 0, 0, TITLE, fm.title)
     # logs and products are layout 2: a reader of layout 1 would score them wrongly
-    uses_logs = d.response_log or any(e.kind in ("ln", "product") for e in d.encodings)
-    ws.write_number(0, 1, LAYOUT_VERSION if uses_logs else 1)
+    needs_v2 = d.response_log or any(e.kind in ("ln", "product") for e in d.encodings)
+    ws.write_number(0, 1, LAYOUT_VERSION if needs_v2 else 1)
     text(
         ws,
         1,
@@ -91,7 +91,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         ("rows used", d.n_rows),
         ("rows dropped", d.rows_dropped),
         ("response mean", d.y_mean),
-        *((("response scale", "ln" if d.response_log else "original"),) if uses_logs else ()),
+        *((("response scale", "ln" if d.response_log else "original"),) if needs_v2 else ()),
     ):
         key(k)
         _json_cells(ws, r, v)
@@ -141,7 +141,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         "cv_error_se",
         "r2",
     ]
-    if uses_logs:
+    if needs_v2:
         model_heads.append("smearing")
     for c, h in enumerate(model_heads):
         text(ws, r, c, h, fm.heading)
@@ -156,7 +156,7 @@ def write(book, ws, result, fm: Formats, scoring_method: str) -> None:
         number(ws, r, 5, m.cv_error)
         number(ws, r, 6, m.cv_error_se)
         number(ws, r, 7, m.r2)
-        if uses_logs:
+        if needs_v2:
             number(ws, r, 8, m.smearing)
         r += 1
     text(ws, r, 0, "[coefficients]", fm.label)

@@ -112,3 +112,26 @@ def test_same_seed_same_test_rows_and_the_cli_option(tmp_path):
     assert cli.main(argv, Context(stdout=out, stderr=err, config_dir=tmp_path)) == 0, err.getvalue()
     doc = json.loads(out.getvalue())
     assert doc["test_rows"] == 30 and doc["spec"]["test_share"] == 0.25
+
+
+def test_a_column_constant_on_the_rows_left_goes_with_its_products(tmp_path):
+    # 'open' is 1 in every week but the last ones, which the time order holds back: constant
+    # on the rows left, so left out, and its product with x1 (equal to x1 there) with it
+    rng = np.random.default_rng(5)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["week", "x1", "x2", "open", "y"])
+    for i in range(80):
+        x1, x2 = rng.normal(size=2)
+        ws.append([i, float(x1), float(x2), 1.0 if i < 60 else 0.0, float(x1 + rng.normal(0, 0.3))])
+    wb.save(tmp_path / "o.xlsx")
+    spec = StudySpec(
+        source=str(tmp_path / "o.xlsx"), response="y", candidates=("x1", "x2", "open"),
+        time_order="week", scheme="time", folds=4, methods=("ols",), test_share=0.25,
+        interactions=(("x1", "open"),),
+    )  # fmt: skip
+    res = run_study(spec)
+    assert res.design.names == ["x1", "x2"]
+    assert {"open", "x1 × open"} <= set(res.design.dropped_columns)
+    assert any("x1 × open" in w and "multiplies" in w for w in res.warnings)
+    assert res.models[0].test_error is not None

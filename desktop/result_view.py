@@ -498,9 +498,8 @@ class ResultView(QWidget):
 
     def _fill_compare(self) -> None:
         assert self.result is not None
-        from engine.report.scoring_model import choose_scoring_method
 
-        scoring = choose_scoring_method(self.result) if self.result.models else None
+        scoring = self.result.scoring_method() if self.result.models else None
         rows = []
         for m in self.result.models:
             kept = sorted(m.selected, key=lambda n: -abs(m.std_coefficients.get(n, 0.0)))

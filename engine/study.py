@@ -23,12 +23,16 @@ import numpy as np
 from engine import __version__
 from engine.design import Design, build_design, drop_reasons_text
 from engine.errors import InputProblem, Place, TamisWarning
+from engine.far_values import screen_far_values
+from engine.fitting.influence import influence
 from engine.intake.table import Table
 from engine.methods import method_info
 from engine.progress import Progress, silent
 from engine.study_result import Criteria, ModelResult, StudyResult
 from engine.study_spec import StudySpec
 from engine.tuning.final_test import HeldBack, hold_back_test_rows
+
+_UNUSUAL_SHOWN = 5  # rows named in the warning; the fitted-values sheet has them all
 
 # relative cost of each method, to move one progress bar evenly
 _COST = {
@@ -144,6 +148,8 @@ def run_study(
     progress.step(0.04, "building the design matrix")
     design = build_design(table, spec)
     notes: list[str] = list(table.warnings) + list(design.warnings)
+    far = screen_far_values(design, {c.name: c.letter for c in table.columns})
+    notes += far.notes()
     test: HeldBack | None = None
     if spec.test_share > 0:
         design, test = hold_back_test_rows(design, spec)
@@ -199,7 +205,7 @@ def run_study(
     if test is not None:
         test.measure(models, design.names)
     progress.step(1.0, "done")
-    return StudyResult(
+    study = StudyResult(
         spec=spec,
         design=design,
         models=models,
@@ -211,6 +217,45 @@ def run_study(
         seconds=time.perf_counter() - t0,
         source_fingerprint=fingerprint,
         test_rows=None if test is None else test.row_numbers,
+        far_cells=far.cells,
+    )
+    _check_unusual_rows(study)
+    return study
+
+
+def _check_unusual_rows(result: StudyResult) -> None:
+    """Measure the scoring model's refit row by row and warn about the rows that stand apart."""
+    if not result.models:
+        return
+    method = result.scoring_method()
+    model = result.model(method)
+    d = result.design
+    kept = set(model.selected)
+    inf = influence(d.X[:, [j for j, name in enumerate(d.names) if name in kept]], d.y)
+    if inf is None:
+        return
+    result.influence, result.influence_method = inf, method
+    flagged = result.unusual_rows()
+    if not flagged:
+        return
+    shown = []
+    for row, u in flagged[:_UNUSUAL_SHOWN]:
+        why = []
+        if u.outlier:
+            why.append(
+                f"residual {abs(u.studentized):.1f} standard errors, beyond chance among {d.n_rows} rows"
+            )
+        if u.influential:
+            why.append(f"leaving it out moves the coefficients: Cook's distance {u.cooks:.2g}")
+        shown.append(f"row {row} ({'; '.join(why)})")
+    more = len(flagged) - len(shown)
+    result.warnings.append(
+        f"Rows of sheet '{d.sheet}' that stand apart in a least-squares refit of the "
+        f"{inf.n_coefficients - 1} columns of the {method_info(method).title} model: "
+        + ", ".join(shown)
+        + (f" and {more} more" if more else "")
+        + ". Check them for typing or unit slips before relying on the model; the fitted-values "
+        "sheet gives the measures for every row."
     )
 
 

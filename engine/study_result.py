@@ -8,11 +8,14 @@ from __future__ import annotations
 
 __all__ = ["SizeRow", "Criteria", "ModelResult", "FocalResult", "StabilityResult", "StudyResult"]
 
+import math
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from engine.far_values import FarValue
+from engine.fitting.influence import OUTLIER_LEVEL, Influence, UnusualRow
 from engine.fitting.path import PenaltyPath
 from engine.study_spec import StudySpec
 from engine.tuning.curve import ValidationCurve
@@ -184,11 +187,40 @@ class StudyResult:
     # sheet rows held back as the final test (StudySpec.test_share); None when none were
     test_rows: np.ndarray | None = None
 
+    # the least-squares refit of the scoring model's kept columns, row by row (order of
+    # design.row_numbers); None when too few rows are left for the measures to say anything
+    influence: Influence | None = None
+    influence_method: str | None = None
+    # cells far outside the rest of their column (engine.far_values), on every row read
+    far_cells: list[FarValue] = field(default_factory=list)
+
     def model(self, method: str) -> ModelResult:
         for m in self.models:
             if m.method == method:
                 return m
         raise KeyError(method)
+
+    def scoring_method(self) -> str:
+        """The method the scoring sheet uses: the one the study names, else the smallest
+        cross-validated error, else the first."""
+        named = self.spec.scoring_method
+        if named and any(m.method == named for m in self.models):
+            return named
+        with_cv = [
+            (m.cv_error, i)
+            for i, m in enumerate(self.models)
+            if m.cv_error is not None and math.isfinite(m.cv_error)
+        ]
+        if with_cv:
+            return self.models[min(with_cv)[1]].method
+        return self.models[0].method
+
+    def unusual_rows(self) -> list[tuple[int, UnusualRow]]:
+        """(sheet row, measures) of each row flagged by the influence check, most extreme first."""
+        if self.influence is None:
+            return []
+        rows = self.design.row_numbers
+        return [(int(rows[u.index]), u) for u in self.influence.unusual()]
 
     def to_json(self) -> dict[str, Any]:
         d = self.design
@@ -209,6 +241,24 @@ class StudyResult:
         }
         if self.test_rows is not None:
             out["test_rows"] = int(len(self.test_rows))
+        out["far_cells"] = [f.to_json() for f in self.far_cells]
+        if self.influence is not None:
+            out["unusual_rows"] = {
+                "method": self.influence_method,
+                "coefficients_refitted": self.influence.n_coefficients,
+                "cooks_limit": self.influence.cooks_limit,
+                "outlier_level": OUTLIER_LEVEL,
+                "rows": [
+                    {
+                        "row": row,
+                        "leverage": u.leverage,
+                        "studentized_residual": _num(u.studentized),
+                        "cooks_distance": _num(u.cooks),
+                        "flags": u.reasons(),
+                    }
+                    for row, u in self.unusual_rows()
+                ],
+            }
         if self.focal is not None:
             out["focal"] = self.focal.to_json()
         if self.stability is not None:

@@ -17,7 +17,7 @@ import xlsxwriter
 from engine.progress import Progress, silent
 from engine.report import names
 from engine.report.bulk_rows import BulkSheet
-from engine.report.scoring_model import ScoringModel, choose_scoring_method
+from engine.report.scoring_model import ScoringModel
 from engine.report.sheets import coefficients, fitted, path, scoring, settings, summary, validation
 from engine.report.sheets.cells import Formats
 
@@ -51,7 +51,7 @@ def build_our_sheets(
     try:
         fm = Formats(book)
         sheets = {n: book.add_worksheet(n) for n in names.ALL_SHEETS}
-        method = choose_scoring_method(result)
+        method = result.scoring_method()
         model = ScoringModel.from_result(result, method)
         progress.step(0.0, "summary sheet")
         summary.write(book, sheets[names.SUMMARY], result, fm)

@@ -20,7 +20,6 @@ from __future__ import annotations
 
 __all__ = [
     "ScoringModel",
-    "choose_scoring_method",
     "scoring_reason",
     "source_kind",
     "date_serial",
@@ -69,22 +68,10 @@ def source_kind(encodings: list[Encoding], source: str) -> str:
     return "number"
 
 
-def choose_scoring_method(result) -> str:
-    """The method the scoring sheet uses: the one the study names, else the smallest
-    cross-validated error, else the first."""
-    named = getattr(result.spec, "scoring_method", None)
-    if named and any(m.method == named for m in result.models):
-        return named
-    with_cv = [m for m in result.models if m.cv_error is not None and math.isfinite(m.cv_error)]
-    if with_cv:
-        return min(with_cv, key=lambda m: m.cv_error).method
-    return result.models[0].method
-
-
 def scoring_reason(result) -> str:
     """Why the scoring sheet uses its method, in words for the sheet."""
     named = getattr(result.spec, "scoring_method", None)
-    if named and choose_scoring_method(result) == named:
+    if named and result.scoring_method() == named:
         return "chosen in the study's settings"
     if _has_cv(result):
         reason = "the smallest cross-validated error among the methods of this study"
@@ -165,7 +152,7 @@ class ScoringModel:
     @classmethod
     def from_result(cls, result, method: str | None = None) -> ScoringModel:
         d = result.design
-        m = result.model(method or choose_scoring_method(result))
+        m = result.model(method or result.scoring_method())
         return cls.from_parts(
             m.method,
             d.response,

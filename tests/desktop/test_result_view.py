@@ -143,11 +143,10 @@ def test_other_tabs_are_filled(view):
     view.tabs.setCurrentIndex(view.FOCAL_TAB)
     assert view.compare_model.rowCount() == 2
     from engine.methods import method_info
-    from engine.report.scoring_model import choose_scoring_method
 
     titles = [view.compare_model.data(view.compare_model.index(r, 0)) for r in range(2)]
     marked = [t for t in titles if t.endswith(" · scoring sheet")]
-    assert marked == [method_info(choose_scoring_method(view.result)).title + " · scoring sheet"]
+    assert marked == [method_info(view.result.scoring_method()).title + " · scoring sheet"]
     # no rows held back as a final test: its two columns stay hidden
     heads = [view.compare_model.headerData(c, Qt.Orientation.Horizontal) for c in range(11)]
     for name in ("Test error", "Test R squared"):

@@ -1,4 +1,5 @@
-"""Fitted values and residuals of every method for the rows used, by source row number."""
+"""Fitted values and residuals of every method for the rows used, by source row number, then the
+unusual-row measures of the scoring model's least-squares refit (engine.fitting.influence)."""
 
 from __future__ import annotations
 
@@ -6,7 +7,7 @@ __all__ = ["write"]
 
 import numpy as np
 
-from engine.report.bulk_rows import BulkSheet
+from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn
 from engine.report.sheets.cells import Formats, text
 
 
@@ -25,6 +26,19 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
     heads = ["Source row", d.response_label]
     for m in models:
         heads += [f"Fitted ({m.method})", f"Residual ({m.method})"]
+    inf = result.influence
+    if inf is not None:
+        text(
+            ws,
+            2,
+            len(heads),
+            f"Least-squares refit of the {inf.n_coefficients - 1} columns {result.influence_method} "
+            f"keeps: outlier = studentized residual beyond chance among {d.n_rows} rows "
+            f"(Bonferroni, 5%); influential = Cook's distance above {inf.cooks_limit:.3g} "
+            "(median of F, Cook 1977)",
+            fm.note,
+        )
+        heads += ["Leverage", "Studentized residual", "Cook's distance", "Unusual"]
     for c, h in enumerate(heads):
         text(ws, 3, c, h, fm.heading)
     ws.set_column(0, 0, 11)
@@ -38,4 +52,12 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         columns += [f, y - f]
     if progress is not None:
         progress.step(0.5, "fitted values")
-    bulk.add(4, 0, np.column_stack(columns))
+    cells: list[NumberColumn | TextColumn] = [NumberColumn(c) for c in columns]
+    if inf is not None:
+        cells += [
+            NumberColumn(inf.leverage),
+            NumberColumn(inf.studentized),
+            NumberColumn(inf.cooks),
+        ]
+        cells.append(TextColumn([w or None for w in inf.flags()]))
+    bulk.add_columns(4, 0, cells)

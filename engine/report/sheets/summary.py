@@ -13,7 +13,6 @@ import math
 
 from engine.design import drop_reasons_text
 from engine.methods import method_info
-from engine.report.scoring_model import choose_scoring_method
 from engine.report.sheets.cells import Formats, number, text
 
 CAUTIONS = (
@@ -112,7 +111,7 @@ def write(book, ws, result, fm: Formats) -> None:
     for c, h in enumerate(heads):
         text(ws, r, c, h, fm.heading)
     r += 1
-    best = choose_scoring_method(result) if result.models else None
+    best = result.scoring_method() if result.models else None
     for m in result.models:
         text(ws, r, 0, _methods_title(m.method), fm.label if m.method == best else None)
         text(ws, r, 1, m.method)

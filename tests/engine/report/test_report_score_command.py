@@ -169,13 +169,13 @@ def test_score_with_another_stored_model_and_an_unknown_one(setup, tmp_path):
 
 
 def test_the_study_can_name_the_scoring_sheets_method(tmp_path):
-    from engine.report.scoring_model import choose_scoring_method, scoring_reason
+    from engine.report.scoring_model import scoring_reason
     from engine.study_spec import StudySpec
 
     result, _ = make_result(tmp_path)
     assert scoring_reason(result).startswith("the smallest cross-validated error")
     result.spec = result.spec.replace(scoring_method="forward-stepwise")
-    assert choose_scoring_method(result) == "forward-stepwise"
+    assert result.scoring_method() == "forward-stepwise"
     assert scoring_reason(result) == "chosen in the study's settings"
     out = write_results(result, out=tmp_path / "named.xlsx")
     assert load_scoring_model(out).method == "forward-stepwise"

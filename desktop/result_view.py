@@ -117,6 +117,7 @@ class ResultView(QWidget):
         self.tabs.addTab(self._build_sizes_tab(), "Sizes")
         self.STABILITY_TAB = self.tabs.addTab(self._build_share_tab(), "Stability")
         self.FOCAL_TAB = self.tabs.addTab(self._build_focal_tab(), "Focal effect")
+        self.CHECK_TAB = self.tabs.addTab(self._build_check_tab(), "Rows to check")
         self._stale: dict = {}
         self.tabs.currentChanged.connect(self._draw_visible_tab)
         self.cautions = QTextBrowser()
@@ -318,6 +319,84 @@ class ResultView(QWidget):
         lay.addWidget(self.share_chart, 1)
         return w
 
+    def _build_check_tab(self) -> QWidget:
+        self.check_model = RowsModel(
+            [
+                "Where",
+                "Why",
+                "Column",
+                "Value",
+                "Studentized residual",
+                "Cook's distance",
+                "Leverage",
+            ],
+            [
+                "The cell, or the row, in the sheet read.",
+                "Far-out value: beyond 3 interquartile ranges past its column's quartiles "
+                "(Tukey). Outlier: a residual beyond chance among the rows used (Bonferroni, "
+                "5%). Influential: leaving the row out moves the coefficients (Cook's distance "
+                "above the median of F).",
+                "",
+                "The cell's value as the models see it (its ln for a logged column).",
+                "The row's residual in units of its standard error, the row itself left out of "
+                "the error variance.",
+                "How far the coefficients move when the row is left out.",
+                "How unusual the row's own values are (the diagonal of the hat matrix).",
+            ],
+        )
+        self.check_view = _table(self.check_model)
+        self.check_note = QLabel("")
+        self.check_note.setWordWrap(True)
+        w = QWidget()
+        lay = QVBoxLayout(w)
+        lay.addWidget(self.check_note)
+        lay.addWidget(self.check_view, 1)
+        return w
+
+    def _fill_check(self) -> None:
+        r = self.result
+        if r is None:
+            return
+        rows: list[list] = [
+            [f.cell, "far-out value", f.column, f.value, None, None, None] for f in r.far_cells
+        ]
+        for row, u in r.unusual_rows():
+            rows.append(
+                [
+                    f"row {row}",
+                    ", ".join(u.reasons()),
+                    None,
+                    None,
+                    u.studentized,
+                    u.cooks,
+                    u.leverage,
+                ]
+            )
+        self.check_model.set_rows(rows)
+        self.check_view.resizeColumnsToContents()
+        self.tabs.setTabText(
+            self.CHECK_TAB, f"Rows to check ({len(rows)})" if rows else "Rows to check"
+        )
+        refit = (
+            f" Rows are measured in a least-squares refit of the {r.influence.n_coefficients - 1} "
+            f"columns of the {method_info(r.influence_method or '').title} model (the scoring "
+            "sheet's)."
+            if r.influence is not None
+            else " No row measures: too few rows are left over beyond the model's columns."
+        )
+        self.check_note.setText(
+            (
+                "Nothing stands apart in these data."
+                if not rows
+                else "Cells and rows that stand apart from the rest. A slipped decimal point or a "
+                "value in another unit looks like this: check them in the sheet. Leaving out a "
+                "true observation only because it does not fit also misleads; whether to keep "
+                "it is your review's call."
+            )
+            + refit
+            + " The fitted-values sheet of the written workbook has the measures for every row."
+        )
+
     def _build_focal_tab(self) -> QWidget:
         self.focal_text = QLabel("")
         self.focal_text.setWordWrap(True)
@@ -387,6 +466,7 @@ class ResultView(QWidget):
                 self.sizes_box.addItem(method_info(m.method).title, m.method)
         self.sizes_box.blockSignals(False)
         self._fill_sizes()
+        self._fill_check()
         # charts on hidden tabs are drawn when first shown, so the window answers at once
         self._stale = {self.STABILITY_TAB: self._fill_stability, self.FOCAL_TAB: self._fill_focal}
         self._draw_visible_tab()

@@ -225,3 +225,23 @@ def test_an_interaction_made_in_the_window_is_fitted_saved_and_restored(qtbot, s
         w2.message.action_button.click()
     wait_idle(qtbot, w2)
     assert w2.ledger.model.interactions() == (("region", "x0"),)
+
+
+def test_a_slipped_cell_is_listed_under_rows_to_check(qtbot, store, tmp_path):
+    """A value typed ten times too large (a slipped decimal point) in the response: the window's
+    list names its cell as far out and its row as an outlier of the refit, as the engine does."""
+    book = write_book(tmp_path / "lots.xlsx")
+    wb = load_workbook(book)
+    ws = wb["Lots"]
+    ws["B30"] = ws["B30"].value * 10 + 50  # response_y is column B; data start on row 4
+    wb.save(book)
+    settings = {"methods": ["lasso"], "folds": 5, "n_penalties": 50}
+    w = window_with_a_study(qtbot, store, book, EngineCalls(), settings)
+    view = w.results
+    rows = view.check_model.rows
+    assert rows[0][:3] == ["B30", "far-out value", "response_y"]
+    row30 = next(r for r in rows if r[0] == "row 30")
+    assert row30[1].startswith("outlier")
+    assert row30[4] == pytest.approx(dict(w.result.unusual_rows())[30].studentized)
+    assert view.tabs.tabText(view.CHECK_TAB) == f"Rows to check ({len(rows)})"
+    assert "least-squares refit" in view.check_note.text()

@@ -18,6 +18,10 @@ Subset selection and inference after selection:
 - ``post_selection``    ``post_lasso`` and ``robust_ols`` with HC1/HC3 errors (Belloni & Chernozhukov 2013)
 - ``double_selection``  ``double_selection`` for a focal column (Belloni, Chernozhukov & Hansen 2014)
 - ``stability``         ``stability_selection`` over half-samples (Meinshausen & Buhlmann 2010)
+
+Checks of a fit:
+
+- ``influence``         leverage, studentized residuals and Cook's distance of a least-squares refit
 """
 
 __all__: list[str] = []

@@ -892,7 +892,8 @@ class MainWindow(QMainWindow):
                 UserMessage(
                     "info",
                     f"Predicted {done.scored:,} of {done.rows:,} rows with '{done.method}'; "
-                    f"written to {done.out.name}.",
+                    f"written to {done.out.name}."
+                    + (f" {done.range_note[0].upper()}{done.range_note[1:]}." if done.range_note else ""),
                     " ".join([*(c[0].upper() + c[1:] + "." for c in cautions),
                               f"Folder: {done.out.parent}"]),
                 )

@@ -34,6 +34,8 @@ def run(args, ctx) -> int:
         f"'{done.method}' from '{args.results}'",
         file=ctx.stdout,
     )
+    if done.range_note:
+        print(done.range_note, file=ctx.stdout)
     for line in done.cautions():
         print(line, file=ctx.stderr)
     print(f"predictions written to {done.out}", file=ctx.stdout)

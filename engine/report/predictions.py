@@ -2,7 +2,8 @@
 
 The copy holds the scored book's own sheets untouched (package-level merge, as for results) plus
 one sheet of ours, "TM Predictions": per data row its source row number, the values of the
-columns the model uses, the prediction and a note for rows that could not be scored.
+columns the model uses, the prediction, its 95% range (when the model has a cross-validated
+error) and a note for rows that could not be scored or lie outside the fitted range.
 """
 
 from __future__ import annotations
@@ -24,7 +25,13 @@ from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn, style_i
 from engine.report.data_copy import copy_to_xlsx
 from engine.report.package_merge import SheetNameTaken, merge_package, uses_1904_dates
 from engine.report.safe_write import commit
-from engine.report.scoring_model import DAYS_1900_TO_1904, EXCEL_EPOCH
+from engine.report.scoring_model import (
+    DAYS_1900_TO_1904,
+    EXCEL_EPOCH,
+    RANGE_HIGH,
+    RANGE_LOW,
+    range_words,
+)
 from engine.report.sheets.cells import Formats, text
 from engine.report.writer import verify_results_file
 
@@ -37,6 +44,7 @@ def _sheet(
     notes: list[str],
     model_from: str,
     date1904: bool = False,
+    ranges: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> BulkSheet:
     """Write the sheet's top rows; return its data rows as a block for the package merge
     (about a hundred times faster than xlsxwriter's cell by cell for 100,000 rows)."""
@@ -54,8 +62,12 @@ def _sheet(
             f"of '{table.source}' on {_dt.date.today().isoformat()}.",
             fm.note,
         )
+        if ranges is not None:
+            text(ws, 2, 0, range_words(model), fm.note)
         sources = model.sources
-        heads = ["Source row", *sources, model.prediction_label, "Note"]
+        heads = ["Source row", *sources, model.prediction_label]
+        heads += [RANGE_LOW, RANGE_HIGH] if ranges is not None else []
+        heads.append("Note")
         for c, h in enumerate(heads):
             text(ws, 3, c, h, fm.heading)
         ws.set_column(0, len(heads), 15)
@@ -68,6 +80,8 @@ def _sheet(
         for s in sources:
             columns.append(_values_column(cols.get(s), table.n_rows, date_style, date1904))
         columns.append(NumberColumn(np.asarray(preds, dtype=float), style_index(fm.prediction)))
+        if ranges is not None:
+            columns += [NumberColumn(np.asarray(end, dtype=float)) for end in ranges]
         columns.append(TextColumn([n or None for n in notes], style_index(fm.note)))
         bulk.add_columns(4, 0, columns)
     finally:
@@ -116,7 +130,9 @@ def write_predictions(
     book: str | Path,
     out: str | Path,
     model_from: str,
+    ranges: tuple[np.ndarray, np.ndarray] | None = None,
 ) -> Path:
+    """``ranges``: the low and high ends of each prediction's range, or None for none."""
     book, out = Path(book), Path(out)
     with tempfile.TemporaryDirectory(prefix="tamis-score-") as tmp:
         ours = Path(tmp) / "ours.xlsx"
@@ -124,7 +140,7 @@ def write_predictions(
         if book.suffix.lower() not in (".xlsx", ".xlsm"):
             base = Path(tmp) / "data.xlsx"
             copy_to_xlsx(book, base)
-        bulk = _sheet(ours, table, model, preds, notes, model_from, uses_1904_dates(base))
+        bulk = _sheet(ours, table, model, preds, notes, model_from, uses_1904_dates(base), ranges)
 
         def build(fh) -> None:
             try:

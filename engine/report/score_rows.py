@@ -2,7 +2,8 @@
 
 The one routine behind ``tamis score`` and the window's "Predict new rows": it reads the rows
 through intake, predicts them (``ScoringModel.predict_with_notes``), marks predictions outside the
-fitted range, and writes a copy of the book with the predictions sheet (``predictions``). The
+fitted range, gives each prediction its 95% range, and writes a copy of the book with the
+predictions sheet (``predictions``). The
 book itself is never written; the output may not be the book or the results workbook.
 """
 
@@ -32,6 +33,8 @@ class ScoreOutcome:
     extrapolated: int = 0
     first_extrapolated: tuple[int, str] | None = None
     notes: list[str] = field(default_factory=list)  # intake's warnings about the new rows
+    # how wide each prediction's 95% range is, in words ("" when the model has none)
+    range_note: str = ""
 
     def cautions(self) -> list[str]:
         """What a user must know besides the count: rows left without a prediction and
@@ -115,12 +118,13 @@ def score_rows(
     progress.step(0.0, "reading the new rows")
     table = read_table(book, sheet=sheet, progress=progress.part(0.0, 0.5, "reading the new rows"))
     progress.step(0.5, "predicting")
-    preds, notes = model.predict_with_notes(table)
+    preds, low, high, notes = model.predict_with_range(table)
     cautions = model.range_cautions(table)
     shown = [n or c for n, c in zip(notes, cautions)]  # a row without a prediction needs none
     progress.step(0.6, "writing the predictions")
     said = model_from or (f"from '{results_book}'" if results_book else "")
-    written = write_predictions(table, model, preds, shown, book, target, said)
+    ranges = (low, high) if model.range_halfwidth is not None else None
+    written = write_predictions(table, model, preds, shown, book, target, said, ranges)
     rows = [int(r) for r in table.row_numbers]
     unscored = [i for i, n in enumerate(notes) if n]
     beyond = [i for i, (n, c) in enumerate(zip(notes, cautions)) if c and not n]
@@ -139,4 +143,17 @@ def score_rows(
             else None
         ),
         notes=list(table.warnings),
+        range_note=_range_note(model),
     )
+
+
+def _range_note(model) -> str:
+    h = model.range_halfwidth
+    if h is None:
+        return ""
+    if model.response_log:
+        return (
+            f"each prediction has a 95% range from EXP(its ln-scale value - {h:.4g}) to "
+            f"EXP(its ln-scale value + {h:.4g}), from the cross-validated error"
+        )
+    return f"each prediction has a 95% range of ± {h:.4g}, from the cross-validated error"

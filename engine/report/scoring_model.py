@@ -14,6 +14,12 @@ the mean of exp(residual) on the rows fitted. The sheet writes the same
 number in centred and standardized form, centre + sum_j beta_j (x_j - mean_j) / sd_j with
 beta_j = b_j sd_j and centre = intercept + sum_j b_j mean_j, so means and standard deviations
 are visible cells (penalty convention of Friedman, Hastie & Tibshirani 2010).
+
+Range of a prediction: the prediction plus and minus 1.96 times the model's cross-validated root
+mean squared error (the usual normal 95% prediction interval, yhat +- 1.96 sigma, common
+practice, with sigma estimated on held-out rows so that it includes the model's own estimation
+error). It assumes errors of about the same size and shape everywhere; for a logged response
+the ends are exp of the ln-scale ends (a range that is wider above than below).
 """
 
 from __future__ import annotations
@@ -25,6 +31,11 @@ __all__ = [
     "date_serial",
     "EXCEL_EPOCH",
     "DAYS_1900_TO_1904",
+    "RANGE_LEVEL",
+    "RANGE_Z",
+    "RANGE_LOW",
+    "RANGE_HIGH",
+    "range_words",
 ]
 
 import datetime as _dt
@@ -43,6 +54,23 @@ EXCEL_EPOCH = _dt.date(1899, 12, 30)
 # A workbook in the 1904 date system (ECMA-376 Part 1, workbookPr date1904) counts from
 # 1904-01-01: its serial numbers are this many days smaller than the 1900 system's.
 DAYS_1900_TO_1904 = (_dt.date(1904, 1, 1) - EXCEL_EPOCH).days
+# the range given with each prediction: its coverage, and the standard normal's quantile for it
+# (scipy.stats.norm.ppf(0.975); a constant so scoring needs no scipy)
+RANGE_LEVEL = 0.95
+RANGE_Z = 1.959963984540054
+RANGE_LOW = "Low end (95% range)"
+RANGE_HIGH = "High end (95% range)"
+
+
+def range_words(model: ScoringModel) -> str:
+    """How the range beside each prediction is made, in words for the sheets."""
+    h = model.range_halfwidth
+    scale = " on the ln scale, then taken back by EXP" if model.response_log else ""
+    return (
+        f"95% range: the prediction plus and minus {RANGE_Z:.2f} x the model's cross-validated "
+        f"root mean squared error ({h:.6g}{scale}); it assumes errors of about the same size "
+        "everywhere and says nothing reliable for rows outside the fitted range."
+    )
 
 
 def date_serial(iso: str) -> float:
@@ -218,6 +246,44 @@ class ScoringModel:
 
     def predict_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
         """Predictions plus one note per row that could not be scored ("" when it could)."""
+        linear, notes = self._linear_with_notes(table)
+        return self.to_response_units(linear), notes
+
+    def predict_with_range(self, table) -> tuple[np.ndarray, np.ndarray, np.ndarray, list[str]]:
+        """Predictions, the low and high ends of their range (NaN where the model has no
+        cross-validated error) and one note per row that could not be scored."""
+        linear, notes = self._linear_with_notes(table)
+        low, high = self.prediction_range(linear)
+        return self.to_response_units(linear), low, high, notes
+
+    # -- the range of a prediction
+    @property
+    def range_halfwidth(self) -> float | None:
+        """z * the cross-validated root mean squared error, on the model's scale (the ln scale
+        for a logged response); None without a usable cross-validated error."""
+        if self.cv_error is None or not (math.isfinite(self.cv_error) and self.cv_error > 0):
+            return None
+        return RANGE_Z * math.sqrt(self.cv_error)
+
+    def prediction_range(self, linear: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(low, high) in the response's units for linear predictions (NaN without a range).
+
+        The linear prediction plus and minus the half-width; for a logged response the ends are
+        taken back by exp alone (they are quantiles, which exp carries over; the smearing factor
+        corrects the mean, not quantiles)."""
+        linear = np.asarray(linear, dtype=float)
+        h = self.range_halfwidth
+        if h is None:
+            nan = np.full(linear.shape, np.nan)
+            return nan, nan.copy()
+        low, high = linear - h, linear + h
+        if self.response_log:
+            with np.errstate(over="ignore"):
+                return np.exp(low), np.exp(high)
+        return low, high
+
+    def _linear_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
+        """The linear predictor (ln scale for a logged response) and the notes of each row."""
         n = table.n_rows
         X = np.empty((n, len(self.encodings)))
         missing_in: list[list[str]] = [[] for _ in range(n)]
@@ -239,7 +305,7 @@ class ScoringModel:
                     int(i), []
                 ):
                     missing_in[i].append(enc.source)
-        pred = self.to_response_units(
+        linear = (
             self.intercept + X @ self.coefficients
             if len(self.encodings)
             else np.full(n, self.intercept)
@@ -263,7 +329,7 @@ class ScoringModel:
             ]
             parts += ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
             notes.append("; ".join(parts))
-        return np.asarray(pred, dtype=float), notes
+        return np.asarray(linear, dtype=float), notes
 
     def range_cautions(self, table) -> list[str]:
         """Per row, the model columns whose value lies outside the range of the rows the model

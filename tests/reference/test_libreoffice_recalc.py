@@ -208,6 +208,41 @@ def test_pasted_rows_recalculated_equal_engine_and_score_command(lo):
     np.testing.assert_allclose(direct, engine, rtol=1e-12)
 
 
+def _column(path: Path, heading: str, first: int, count: int) -> np.ndarray:
+    ws = openpyxl.load_workbook(path, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(ws)
+    vals = [ws.cell(head + first + i, cols[heading]).value for i in range(count)]
+    return np.array([np.nan if v in (None, "") else float(v) for v in vals])
+
+
+def test_range_ends_recalculated_equal_the_engine_and_the_score_command(lo):
+    from engine.report.scoring_model import RANGE_HIGH, RANGE_LOW
+
+    n = len(lo.new_rows)
+    low = _column(lo.converted["pasted"], RANGE_LOW, 1 + lo.n_examples, n)
+    high = _column(lo.converted["pasted"], RANGE_HIGH, 1 + lo.n_examples, n)
+    pred, e_low, e_high, _ = lo.model.predict_with_range(read_table(lo.new_book))
+    np.testing.assert_allclose(low, e_low, rtol=1e-9)
+    np.testing.assert_allclose(high, e_high, rtol=1e-9)
+    # the definition: the prediction +- 1.96 (scipy's normal 97.5% point) x the root of the
+    # model's cross-validated mean squared error, here on the original scale
+    from scipy.stats import norm
+
+    h = norm.ppf(0.975) * np.sqrt(lo.result.model(lo.model.method).cv_error)
+    np.testing.assert_allclose(high - pred, h, rtol=1e-9)
+    np.testing.assert_allclose(pred - low, h, rtol=1e-9)
+    ws = openpyxl.load_workbook(lo.scored, read_only=True)["TM Predictions"]
+    head = list(next(ws.iter_rows(min_row=4, max_row=4, values_only=True)))
+    body = list(ws.iter_rows(min_row=5, values_only=True))
+    for heading, want in ((RANGE_LOW, low), (RANGE_HIGH, high)):
+        k = head.index(heading)
+        np.testing.assert_allclose(np.array([r[k] for r in body], dtype=float), want, rtol=1e-9)
+    # an example row's range is cached by us and recalculated alike
+    ex_low = _column(lo.converted["results"], RANGE_LOW, 1, lo.n_examples)
+    fitted = lo.result.model(lo.model.method).fitted[: lo.n_examples]
+    np.testing.assert_allclose(ex_low, fitted - h, rtol=1e-9)
+
+
 def test_unseen_levels_get_no_prediction_and_far_numbers_a_range_check(lo):
     # the sheet must not predict a level the model has no coefficient for (it would silently
     # be the reference level), and must flag a number beyond the fitted range, as the engine does

@@ -104,3 +104,21 @@ def test_ln_scoring_sheet_recalculated_by_libreoffice_equals_the_engine(tmp_path
         else:  # no log of 0: #N/A on the sheet, NaN in the engine, and the check says why
             assert got[5 + i] in ("#N/A", None) and np.isnan(engine_preds[i])
             assert "not above 0" in (checks[5 + i] or "")
+    # the 95% range: exp of the ln-scale prediction -+ 1.96 (scipy's normal 97.5% point) x the
+    # root cross-validated error on the ln scale; no smearing (the ends are quantiles)
+    from scipy.stats import norm
+
+    from engine.report.scoring_model import RANGE_HIGH, RANGE_LOW
+
+    h = norm.ppf(0.975) * np.sqrt(m.cv_error)
+    logged = np.log(np.asarray(new_income[:2] + new_income[3:], dtype=float))
+    linear = m.intercept + m.coefficients["ln(income)"] * logged
+    for heading, sign in ((RANGE_LOW, -1), (RANGE_HIGH, 1)):
+        cells = [got_ws.cell(head + 1 + 5 + i, cols[heading]).value for i in range(len(new_income))]
+        shown = [c for i, c in enumerate(cells) if new_income[i] > 0]
+        np.testing.assert_allclose(shown, np.exp(linear + sign * h), rtol=1e-9)
+        assert cells[2] in (None, "")  # no prediction, no range
+    _, low, high, _ = model.predict_with_range(read_table(tmp_path / "new.xlsx"))
+    keep = np.array(new_income) > 0
+    np.testing.assert_allclose(low[keep], np.exp(linear - h), rtol=1e-9)
+    assert np.all(low[keep] < engine_preds[keep]) and np.all(engine_preds[keep] < high[keep])

@@ -7,8 +7,9 @@ Layout (rows top to bottom, written in order for xlsxwriter's constant_memory mo
 - a parameter block above the encoded columns: one column per model column the prediction uses,
   with its source, encoding, level, fill value, date origin, mean, standard deviation,
   standardized and original-unit coefficient, then the known levels of each category column;
-- the header row: the source column headings (the paste block), "Prediction", "Check", and the
-  model column names of the encoded block;
+- the header row: the source column headings (the paste block), "Prediction", the low and high
+  ends of its 95% range (when the model has a cross-validated error; the half-width is a cell
+  at the top), "Check", and the model column names of the encoded block;
 - the first rows of the study's data as examples, then empty rows ready for pasting.
 
 Every formula uses only functions every spreadsheet program has (IF, ISNUMBER, ISLOGICAL,
@@ -29,6 +30,8 @@ import numpy as np
 
 from engine.report.scoring_model import (
     DAYS_1900_TO_1904,
+    RANGE_HIGH,
+    RANGE_LOW,
     ScoringModel,
     date_serial,
     scoring_reason,
@@ -62,6 +65,7 @@ class ScoringLayout:
     n_rows: int
     n_examples: int
     prediction_col: int
+    low_col: int | None  # the range's low end; the high end beside it (None: no range)
     check_col: int
     first_encoded_col: int
     sources: list[str]
@@ -190,8 +194,13 @@ def write(
     encs = model.encodings
     sources = model.sources
     m, k = len(sources), len(encs)
-    pred_col, check_col, label_col = m, m + 1, m + 2
-    enc0 = m + 3
+    halfwidth = model.range_halfwidth
+    pred_col = m
+    # the prediction's range beside it, when the model has a cross-validated error
+    low_col, high_col = (m + 1, m + 2) if halfwidth is not None else (None, None)
+    check_col = m + 3 if halfwidth is not None else m + 1
+    label_col = check_col + 1
+    enc0 = check_col + 2
     cat_sources = [s for s in sources if source_kind(encs, s) == "category"]
     examples = example_rows(result, model)
     if n_blank is None:
@@ -200,6 +209,8 @@ def write(
     _fast_formulas(ws)
     ws.set_column(0, max(m - 1, 0), 14)
     ws.set_column(pred_col, pred_col, 16)
+    if low_col is not None:
+        ws.set_column(low_col, low_col + 1, 14)
     ws.set_column(check_col, check_col, 22)
     ws.set_column(label_col, label_col, 26)
     if k:
@@ -244,6 +255,15 @@ def write(
             else (f"Response predicted: {model.response}", None)
         ),
     ]
+    if halfwidth is not None:
+        top.append(
+            (
+                "Half-width of the 95% range beside each prediction: 1.96 x the cross-validated "
+                "root mean squared error"
+                + (" (ln scale; the ends are EXP of ln-scale ends)" if model.response_log else ""),
+                halfwidth,
+            )
+        )
     row = 0
     param_top = 8
     n_param = len(_PARAM_ROWS) + len(cat_sources)
@@ -252,6 +272,7 @@ def write(
     first = header + 1
     centre_cell = cell_ref(5, 1, True, True)
     smearing_cell = cell_ref(7, 1, True, True)
+    halfwidth_cell = cell_ref(8, 1, True, True)
     # fixed references to parameter rows (absolute row, relative column)
     prow = {name: param_top + i for i, name in enumerate(_PARAM_ROWS)}
     level_rows = {s: param_top + len(_PARAM_ROWS) + i for i, s in enumerate(cat_sources)}
@@ -321,6 +342,9 @@ def write(
     for s_i, s in enumerate(sources):
         text(ws, header, s_i, s, fm.heading)
     text(ws, header, pred_col, model.prediction_label, fm.heading)
+    if low_col is not None:
+        text(ws, header, low_col, RANGE_LOW, fm.heading)
+        text(ws, header, low_col + 1, RANGE_HIGH, fm.heading)
     text(ws, header, check_col, "Check", fm.heading)
     text(ws, header, label_col, "(encoded values below)", fm.note)
     for j, enc in enumerate(encs):
@@ -413,6 +437,24 @@ def write(
         if cat_sources:  # a level the model never saw has no coefficient: no prediction
             body = f'IF({check_cell}<>"",IF(ISERROR(SEARCH("unseen",{check_cell})),{body},NA()),{body})'
         ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
+        if low_col is not None and halfwidth is not None:
+            p_cell = cell_ref(r, pred_col)
+            # back to the linear prediction, then its ends (the ln scale's through EXP)
+            linear = f"LN({p_cell}/{smearing_cell})" if model.response_log else p_cell
+            pv_linear = (
+                math.log(pcached / model.smearing)
+                if isinstance(pcached, float) and model.response_log and pcached > 0
+                else pcached
+            )
+            for c, sign in ((low_col, -1), (low_col + 1, 1)):
+                end = f"{linear}{'-' if sign < 0 else '+'}{halfwidth_cell}"
+                if model.response_log:
+                    end = f"EXP({end})"
+                ecached: object = ""
+                if isinstance(pv_linear, float):
+                    ev = pv_linear + sign * halfwidth
+                    ecached = math.exp(ev) if model.response_log else ev
+                ws.write_formula(r, c, f'=IF(ISNUMBER({p_cell}),{end},"")', fm.number, ecached)
         # check: unseen category levels (compared as the model does: spaces trimmed, case ignored), and numbers or
         # dates outside the range of the rows the model was fitted on (extrapolation)
         checks = []
@@ -456,6 +498,7 @@ def write(
         n_rows=n_rows,
         n_examples=len(examples),
         prediction_col=pred_col,
+        low_col=low_col,
         check_col=check_col,
         first_encoded_col=enc0,
         sources=sources,

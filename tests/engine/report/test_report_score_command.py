@@ -52,6 +52,15 @@ def test_score_writes_predictions_beside_the_book(setup):
     # gaps in 'rain' are filled with the stored median when the model uses rain
     assert np.isfinite(got).all()
     assert "scored 30 of 30" in ctx.stdout.getvalue()
+    # each prediction with its 95% range: -+ 1.96 x the root of the stored cross-validated error
+    model = load_scoring_model(results)
+    h = 1.959963984540054 * np.sqrt(model.cv_error)
+    assert f"95% range of ± {h:.4g}" in ctx.stdout.getvalue()
+    low = np.array([r[k + 1] for r in rows], dtype=float)
+    high = np.array([r[k + 2] for r in rows], dtype=float)
+    assert head[k + 1 : k + 3] == ("Low end (95% range)", "High end (95% range)")
+    np.testing.assert_allclose(got - low, h, rtol=1e-12)
+    np.testing.assert_allclose(high - got, h, rtol=1e-12)
 
 
 def test_score_refuses_to_overwrite_the_book(setup):

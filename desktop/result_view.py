@@ -34,6 +34,7 @@ from PySide6.QtWidgets import (
 from desktop.cautions import cautions_html
 from desktop.charts.common import EXPORT_FILTER, export_plot
 from desktop.charts.curve_chart import CurveChart
+from desktop.charts.fit_chart import FitChart
 from desktop.charts.focal_chart import FocalChart
 from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
@@ -347,10 +348,18 @@ class ResultView(QWidget):
         self.check_view = _table(self.check_model)
         self.check_note = QLabel("")
         self.check_note.setWordWrap(True)
+        self.fit_chart = FitChart()
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(self.check_view)
+        split.addWidget(self.fit_chart)
+        split.setSizes([520, 480])
         w = QWidget()
         lay = QVBoxLayout(w)
-        lay.addWidget(self.check_note)
-        lay.addWidget(self.check_view, 1)
+        bar = QHBoxLayout()
+        bar.addWidget(self.check_note, 1)
+        bar.addWidget(_export_button(self, self.fit_chart, "tamis-fit"))
+        lay.addLayout(bar)
+        lay.addWidget(split, 1)
         return w
 
     def _fill_check(self) -> None:
@@ -374,6 +383,7 @@ class ResultView(QWidget):
             )
         self.check_model.set_rows(rows)
         self.check_view.resizeColumnsToContents()
+
         self.tabs.setTabText(
             self.CHECK_TAB, f"Rows to check ({len(rows)})" if rows else "Rows to check"
         )
@@ -395,6 +405,20 @@ class ResultView(QWidget):
             )
             + refit
             + " The fitted-values sheet of the written workbook has the measures for every row."
+        )
+
+    def _fill_fit_chart(self) -> None:
+        r = self.result
+        if r is None:
+            return
+        method = r.influence_method or (r.scoring_method() if r.models else None)
+        self.fit_chart.set_fit(
+            r.design.y,
+            r.model(method).fitted if method else None,
+            r.design.row_numbers,
+            [row for row, _ in r.unusual_rows()],
+            f"{method_info(method).title}, the scoring sheet's model: rows used" if method else "",
+            r.design.response_label,
         )
 
     def _build_focal_tab(self) -> QWidget:
@@ -468,7 +492,11 @@ class ResultView(QWidget):
         self._fill_sizes()
         self._fill_check()
         # charts on hidden tabs are drawn when first shown, so the window answers at once
-        self._stale = {self.STABILITY_TAB: self._fill_stability, self.FOCAL_TAB: self._fill_focal}
+        self._stale = {
+            self.STABILITY_TAB: self._fill_stability,
+            self.FOCAL_TAB: self._fill_focal,
+            self.CHECK_TAB: self._fill_fit_chart,
+        }
         self._draw_visible_tab()
         notes = list(result.warnings) + list(d.warnings)
         notes += [f"Column '{c}' left out: {why}" for c, why in d.dropped_columns.items()]

@@ -25,6 +25,7 @@ import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
+from openpyxl.utils import get_column_letter
 from scipy import stats
 
 from engine.far_values import far_values, screen_far_values
@@ -186,6 +187,31 @@ def test_the_study_names_the_slipped_cells_and_the_unusual_row(tmp_path):
     assert body[59][cook] == pytest.approx(oi.cooks_distance[0][57], rel=1e-9)
     assert body[3][lev] == pytest.approx(oi.hat_matrix_diag[1], rel=1e-9)
     assert body[3][flag] in (None, "")
+    # a native chart of actual against fitted values, the unusual rows as a second series
+    # drawn from the column that holds only their values (the others empty, not drawn as 0)
+    import re
+    import zipfile
+
+    with zipfile.ZipFile(out) as z:
+        chart = next(
+            c
+            for c in (z.read(n).decode() for n in z.namelist() if n.startswith("xl/charts/"))
+            if "Actual against fitted: ols" in c
+        )
+    refs = re.findall(r"<c:f>(.*?)</c:f>", chart)
+    marked = get_column_letter(heads.index("Actual value of an unusual row (for the chart)") + 1)
+    fitted_col = get_column_letter(heads.index("Fitted (ols)") + 1)
+    assert refs == [
+        f"'TM Fitted'!${fitted_col}$5:${fitted_col}$239",
+        "'TM Fitted'!$B$5:$B$239",
+        f"'TM Fitted'!${fitted_col}$5:${fitted_col}$239",
+        f"'TM Fitted'!${marked}$5:${marked}$239",
+    ]
+    assert '<c:dispBlanksAs val="span"/>' in chart
+    marked_values = [
+        r[heads.index("Actual value of an unusual row (for the chart)")] for r in table[1:]
+    ]
+    assert sum(v is not None for v in marked_values) == len(flagged)
 
 
 def test_unslipped_engel_data_name_no_cell_and_one_household_in_the_log_fit(tmp_path):

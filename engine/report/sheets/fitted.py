@@ -1,14 +1,20 @@
 """Fitted values and residuals of every method for the rows used, by source row number, then the
-unusual-row measures of the scoring model's least-squares refit (engine.fitting.influence)."""
+unusual-row measures of the scoring model's least-squares refit (engine.fitting.influence), and
+a native chart of actual against fitted values of the scoring model with those rows marked."""
 
 from __future__ import annotations
 
-__all__ = ["write"]
+__all__ = ["write", "CHART_MAX_ROWS"]
 
 import numpy as np
 
 from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn
-from engine.report.sheets.cells import Formats, text
+from engine.report.names import FITTED
+from engine.report.sheets.cells import Formats, range_ref, text
+
+# above this many rows the chart is left out: a scatter of more points makes spreadsheet
+# programs slow to open and scroll the sheet, and the table still holds every value
+CHART_MAX_ROWS = 20_000
 
 
 def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None:
@@ -39,6 +45,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
             fm.note,
         )
         heads += ["Leverage", "Studentized residual", "Cook's distance", "Unusual"]
+        heads.append("Actual value of an unusual row (for the chart)")
     for c, h in enumerate(heads):
         text(ws, 3, c, h, fm.heading)
     ws.set_column(0, 0, 11)
@@ -59,5 +66,50 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
             NumberColumn(inf.studentized),
             NumberColumn(inf.cooks),
         ]
-        cells.append(TextColumn([w or None for w in inf.flags()]))
+        flags = inf.flags()
+        cells.append(TextColumn([w or None for w in flags]))
+        cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan)))
     bulk.add_columns(4, 0, cells)
+    scoring = result.influence_method or (result.scoring_method() if models else None)
+    if scoring is None or not 0 < d.n_rows <= CHART_MAX_ROWS:
+        return
+    fitted_col = heads.index(f"Fitted ({scoring})")
+    first, last = 4, 3 + d.n_rows
+    chart = book.add_chart({"type": "scatter"})
+    chart.add_series(
+        {
+            "name": "rows used",
+            "categories": range_ref(FITTED, first, fitted_col, last, fitted_col),
+            "values": range_ref(FITTED, first, 1, last, 1),
+            "marker": {
+                "type": "circle",
+                "size": 3,
+                "fill": {"color": "#1d6f8a"},
+                "border": {"none": True},
+            },
+        }
+    )
+    if inf is not None:
+        chart.add_series(
+            {
+                "name": "unusual rows",
+                "categories": range_ref(FITTED, first, fitted_col, last, fitted_col),
+                "values": range_ref(FITTED, first, len(heads) - 1, last, len(heads) - 1),
+                "marker": {
+                    "type": "diamond",
+                    "size": 8,
+                    "fill": {"none": True},
+                    "border": {"color": "#a33c12", "width": 1.5},
+                },
+            }
+        )
+    chart.set_title({"name": f"Actual against fitted: {scoring}"})
+    chart.set_x_axis({"name": f"fitted {d.response_label}", "label_position": "low"})
+    chart.set_y_axis({"name": f"actual {d.response_label}", "label_position": "low"})
+    chart.set_legend({"position": "bottom"})
+    # the unusual rows' column is empty elsewhere: "span" is written out (the default, gap, is
+    # left implicit, which LibreOffice reads as zero); with no line between points it draws
+    # nothing for an empty cell
+    chart.show_blanks_as("span")
+    chart.set_size({"width": 560, "height": 400})
+    ws.insert_chart(3, len(heads) + 1, chart, {"x_offset": 10, "y_offset": 5})

@@ -99,6 +99,8 @@ def main(argv: list[str] | None = None) -> int:
     shot("08-focal.png")
     w.results.tabs.setCurrentIndex(w.results.STABILITY_TAB)
     shot("09-stability.png")
+    w.results.tabs.setCurrentIndex(w.results.CHECK_TAB)
+    shot("10-rows-to-check.png")
     w.close()
     return 0
 

@@ -1,17 +1,13 @@
-"""Cells far outside the rest of their column, named before anything is fitted.
+"""Cells far outside the rest of their column (engine.intake.far_out, Tukey's outer fences), in
+the response and the number candidates of a design, named before anything is fitted.
 
-A value beyond Tukey's outer fences (Tukey 1977, Exploratory Data Analysis: below Q1 - 3 IQR or
-above Q3 + 3 IQR, "far out") is rare in well-behaved data. A few of them in one column look like a
-slipped decimal point or a value typed in another unit, and least squares and every penalized fit
-follow them; many in one column are a long tail instead, which a log scale often suits.
-
-Quartiles are numpy's default (linear interpolation between order statistics); a column whose
-quartiles coincide (mostly one value, or a 0/1 column) has no spread to judge by and is skipped.
+A few in one column look like slips, and least squares and every penalized fit follow them; many
+in one column are a long tail instead, which a log scale often suits.
 """
 
 from __future__ import annotations
 
-__all__ = ["FarValue", "FarScreen", "far_values", "screen_far_values", "FENCE"]
+__all__ = ["FarValue", "FarScreen", "screen_far_values"]
 
 import math
 from collections.abc import Mapping
@@ -21,8 +17,8 @@ import numpy as np
 
 from engine.design import Design
 from engine.intake.cells import cell_name
+from engine.intake.far_out import FENCE, beyond_fences, far_values
 
-FENCE = 3.0  # interquartile ranges beyond the quartiles: Tukey's outer fences
 _NAMED = 6  # cells named in the note; the count says how many more
 
 
@@ -73,34 +69,6 @@ def _isolated_limit(n: int) -> int:
     return max(3, math.ceil(0.01 * n))
 
 
-def far_values(values: np.ndarray, fence: float = FENCE) -> np.ndarray:
-    """Positions of the values beyond the fences (empty when the quartiles coincide).
-
-    In a column without negative values a positive value must also be far out on the log
-    scale: such a column (rainfall, sales of many sizes) often has a long upper tail of true
-    values, while a slipped decimal point stands apart on both scales."""
-    v = np.asarray(values, dtype=float)
-    far = _beyond_fences(v, fence)
-    if len(far) and np.nanmin(v) >= 0:
-        with np.errstate(divide="ignore"):
-            logged = np.where(v > 0, np.log(np.where(v > 0, v, 1.0)), np.nan)
-        far_logged = _beyond_fences(logged, fence)
-        far = far[(v[far] <= 0) | np.isin(far, far_logged)]
-    return far
-
-
-def _beyond_fences(v: np.ndarray, fence: float) -> np.ndarray:
-    finite = np.isfinite(v)
-    if finite.sum() < 8:
-        return np.zeros(0, dtype=int)
-    q1, q3 = np.percentile(v[finite], [25, 75])
-    iqr = q3 - q1
-    if not iqr > 0:
-        return np.zeros(0, dtype=int)
-    with np.errstate(invalid="ignore"):
-        return np.flatnonzero(finite & ((v < q1 - fence * iqr) | (v > q3 + fence * iqr)))
-
-
 def screen_far_values(design: Design, letters: Mapping[str, str]) -> FarScreen:
     """Far-out cells of the response and the number candidates of ``design``: isolated ones
     by cell, and the columns with so many that they form a long tail.
@@ -116,7 +84,7 @@ def screen_far_values(design: Design, letters: Mapping[str, str]) -> FarScreen:
     cells: list[FarValue] = []
     tails: list[tuple[str, int]] = []
     for name, source, logged, v in columns:
-        beyond = _beyond_fences(v, FENCE)
+        beyond = beyond_fences(v, FENCE)
         if len(beyond) > _isolated_limit(n):
             if not logged and np.nanmin(v) > 0:
                 tails.append((name, len(beyond)))

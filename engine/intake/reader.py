@@ -25,10 +25,11 @@ from engine.intake.cells import (
 )
 from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
 from engine.intake.delimited import read_delimited
+from engine.intake.far_out import far_values
 from engine.intake.header import cell_key, detect_header_row, join_sub_heading, sub_heading_row
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
-from engine.intake.table import Column, SheetInfo, Table
+from engine.intake.table import Column, ColumnKind, SheetInfo, Table
 from engine.intake.workbook import (
     check_path,
     is_text_table,
@@ -367,6 +368,17 @@ def _build_table(
             day_first=day_first,
             from_text_file=fmt == "csv",
         )
+        if col.kind is ColumnKind.NUMBER:
+            far = far_values(col.values)
+            if len(far):
+                named = ", ".join(
+                    f"{cell_name(letter, int(row_numbers[i]))} {col.values[i]:.6g}" for i in far[:3]
+                )
+                col.notes.append(
+                    f"{len(far)} value{'s' if len(far) > 1 else ''} far outside the rest of the "
+                    f"column (beyond Tukey's outer fences: {named}{' ...' if len(far) > 3 else ''});"
+                    " a slipped decimal point or another unit looks like this"
+                )
         for note in col.notes:  # a value that depends on the decimal mark is worth a look
             if worth_a_warning(note):
                 warnings.append(f"column '{name}' ({letter}): {note}")

@@ -28,8 +28,9 @@ import pytest
 from openpyxl.utils import get_column_letter
 from scipy import stats
 
-from engine.far_values import far_values, screen_far_values
+from engine.far_values import screen_far_values
 from engine.fitting.influence import influence
+from engine.intake.far_out import far_values
 from engine.report import write_results
 from engine.study import run_study
 from engine.study_spec import StudySpec

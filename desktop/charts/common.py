@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-__all__ = ["LogPenaltyAxis", "make_plot", "export_plot", "EXPORT_FILTER"]
+__all__ = ["LogPenaltyAxis", "PlotPanel", "make_plot", "export_plot", "EXPORT_FILTER"]
 
 from pathlib import Path
 
@@ -10,6 +10,7 @@ import numpy as np
 import pyqtgraph as pg
 import pyqtgraph.exporters as pg_exporters
 from PySide6.QtGui import QFont
+from PySide6.QtWidgets import QVBoxLayout, QWidget
 
 from desktop.theme import INK, MUTED
 
@@ -52,6 +53,18 @@ def make_plot(bottom: pg.AxisItem | None = None) -> pg.PlotWidget:
         ax.setPen(pg.mkPen(MUTED))
         ax.enableAutoSIPrefix(False)  # ticks in the units the tables show, no "(x0.001)"
     return w
+
+
+class PlotPanel(QWidget):
+    """One plot filling the widget: ``plot`` (for export) and its ``item`` (to draw on)."""
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.plot = make_plot()
+        self.item = self.plot.getPlotItem()
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(self.plot)
 
 
 def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:

@@ -7,22 +7,17 @@ __all__ = ["FitChart"]
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QVBoxLayout, QWidget
+from PySide6.QtWidgets import QWidget
 
-from desktop.charts.common import make_plot
+from desktop.charts.common import PlotPanel
 from desktop.theme import MUTED, PROBLEM, SERIES
 
 _NAMED = 10  # flagged rows labelled on the chart; the table lists them all
 
 
-class FitChart(QWidget):
+class FitChart(PlotPanel):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.plot = make_plot()
-        self.item = self.plot.getPlotItem()
-        lay = QVBoxLayout(self)
-        lay.setContentsMargins(0, 0, 0, 0)
-        lay.addWidget(self.plot)
         self.named: list[int] = []  # sheet rows labelled on the chart
 
     def set_fit(

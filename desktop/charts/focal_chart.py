@@ -7,21 +7,16 @@ __all__ = ["FocalChart"]
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QVBoxLayout, QWidget
+from PySide6.QtWidgets import QWidget
 
-from desktop.charts.common import make_plot
+from desktop.charts.common import PlotPanel
 from desktop.theme import ACCENT, INK, MUTED, SERIES
 from engine.study_result import FocalResult
 
 
-class FocalChart(QWidget):
+class FocalChart(PlotPanel):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.plot = make_plot()
-        self.item = self.plot.getPlotItem()
-        lay = QVBoxLayout(self)
-        lay.setContentsMargins(0, 0, 0, 0)
-        lay.addWidget(self.plot)
 
     def set_focal(self, focal: FocalResult | None) -> None:
         self.item.clear()

@@ -7,24 +7,19 @@ __all__ = ["ShareChart"]
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QVBoxLayout, QWidget
+from PySide6.QtWidgets import QWidget
 
-from desktop.charts.common import make_plot
+from desktop.charts.common import PlotPanel
 from desktop.theme import ACCENT, MUTED, SERIES
 from engine.study_result import StabilityResult
 
 _SHOWN = 25
 
 
-class ShareChart(QWidget):
+class ShareChart(PlotPanel):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
-        self.plot = make_plot()
-        self.item = self.plot.getPlotItem()
         self.item.setLabel("bottom", "Share of half-samples in which the column was chosen")
-        lay = QVBoxLayout(self)
-        lay.setContentsMargins(0, 0, 0, 0)
-        lay.addWidget(self.plot)
         self.shown: list[str] = []
 
     def set_stability(self, stab: StabilityResult | None) -> None:

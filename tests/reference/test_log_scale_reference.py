@@ -19,6 +19,7 @@ from pathlib import Path
 import numpy as np
 import openpyxl
 import pytest
+from open_data import engel, engel_book
 
 from engine.intake import read_table
 from engine.report import load_scoring_model, write_results
@@ -29,19 +30,8 @@ statsmodels = pytest.importorskip("statsmodels.api")
 
 
 def _engel_book(path: Path) -> tuple[Path, np.ndarray, np.ndarray]:
-    from statsmodels.datasets import engel
-
-    data = engel.load_pandas().data
-    income = data["income"].to_numpy(dtype=float)
-    food = data["foodexp"].to_numpy(dtype=float)
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Households"
-    ws.append(["income", "foodexp"])
-    for a, b in zip(income, food):
-        ws.append([float(a), float(b)])
-    wb.save(path)
-    return path, income, food
+    income, food = engel()
+    return engel_book(path), income, food
 
 
 def _log_log_study(book: Path):

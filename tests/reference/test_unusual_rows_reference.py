@@ -25,6 +25,7 @@ import numpy as np
 import openpyxl
 import pandas as pd
 import pytest
+from open_data import engel, engel_book
 from openpyxl.utils import get_column_letter
 from scipy import stats
 
@@ -42,11 +43,6 @@ from statsmodels.stats.outliers_influence import OLSInfluence  # noqa: E402
 def _stackloss():
     d = sm.datasets.stackloss.load_pandas().data
     return d.iloc[:, 1:].to_numpy(dtype=float), d["STACKLOSS"].to_numpy(dtype=float)
-
-
-def _engel():
-    d = sm.datasets.engel.load_pandas().data
-    return d["income"].to_numpy(dtype=float), d["foodexp"].to_numpy(dtype=float)
 
 
 def _against_statsmodels(X, y, ours):
@@ -72,7 +68,7 @@ def test_stack_loss_measures_match_statsmodels_and_run_21_is_not_flagged():
 
 
 def test_a_planted_slip_in_the_engel_data_is_an_outlier_and_influential():
-    income, food = _engel()
+    income, food = engel()
     food = food.copy()
     food[57] *= 10  # a slipped decimal point
     X = income[:, None]
@@ -107,7 +103,7 @@ def test_no_columns_measures_the_mean_alone():
 
 
 def test_fences_follow_tukeys_definition_with_reference_quartiles():
-    income, food = _engel()
+    income, food = engel()
     q1, q3 = pd.Series(food).quantile([0.25, 0.75])
     assert q3 - q1 == pytest.approx(stats.iqr(food))
     beyond = np.flatnonzero((food < q1 - 3 * (q3 - q1)) | (food > q3 + 3 * (q3 - q1)))
@@ -138,20 +134,13 @@ def test_a_zero_typed_for_a_missing_value_is_named_in_a_tight_column():
 
 
 def _engel_book(path, slip_food: int | None = None, slip_income: int | None = None):
-    income, food = _engel()
+    income, food = engel()
     income, food = income.copy(), food.copy()
     if slip_food is not None:
         food[slip_food] *= 10
     if slip_income is not None:
         income[slip_income] *= 100
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.title = "Households"
-    ws.append(["income", "foodexp"])
-    for a, b in zip(income, food):
-        ws.append([float(a), float(b)])
-    wb.save(path)
-    return path
+    return engel_book(path, income, food)
 
 
 def test_the_study_names_the_slipped_cells_and_the_unusual_row(tmp_path):
@@ -229,7 +218,7 @@ def test_unslipped_engel_data_name_no_cell_and_one_household_in_the_log_fit(tmp_
     assert not any("far outside" in w or "long tail" in w for w in res.warnings)
     # household 105 (sheet row 106) spends far less on food than its income predicts; on the
     # ln scale it is the one row statsmodels' Bonferroni test puts below 0.05
-    income, food = _engel()
+    income, food = engel()
     ref = sm.OLS(np.log(food), sm.add_constant(np.log(income))).fit()
     bonf = np.asarray(ref.outlier_test(method="bonf"))[:, 2]
     assert list(np.flatnonzero(bonf < 0.05)) == [104]

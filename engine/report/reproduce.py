@@ -23,17 +23,22 @@ STORED_DIGITS = 1e-14
 
 
 def spec_for_rerun(record, book: str | Path) -> StudySpec:
-    """The saved specification pointed at the data inside ``book`` itself: the saved sheet, or
-    for a study of a text file the sheet its copy was written to."""
+    """The saved specification pointed at the data inside ``book`` itself: the sheet the study
+    read (named in the specification, else recorded with the design: the first visible sheet
+    of a workbook), or for a study of a text file the sheet its copy was written to."""
     from engine.intake import list_sheets
+    from engine.intake.workbook import is_text_table
     from engine.report.data_copy import sheet_name_for_csv
 
     book = Path(book)
     spec: StudySpec = record.spec
     names = [s.name for s in list_sheets(book) if not s.hidden]
     wanted = spec.sheet
-    if wanted is None and spec.source:
+    read = record.design.get("sheet")
+    if wanted is None and spec.source and is_text_table(Path(spec.source)):
         wanted = sheet_name_for_csv(Path(spec.source))
+    if wanted is None and isinstance(read, str) and read:
+        wanted = read
     if wanted in names:
         return spec.replace(source=str(book), sheet=wanted)
     theirs = [n for n in names if not n.startswith(PREFIX)]

@@ -86,3 +86,30 @@ def test_rerun_names_a_renamed_data_sheet(tmp_path):
     wb.save(results)
     code, _, err = _main(["rerun", str(results)], tmp_path)
     assert code == 2 and "'lab'" in err and "'lab (old)'" in err
+
+
+def test_rerun_of_a_workbook_study_reads_the_sheet_it_read(tmp_path):
+    # a workbook whose data sheet is not named after the file, fitted without --sheet (the first
+    # visible sheet is read and recorded with the design), written to a new book and in place
+    rng = np.random.default_rng(8)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Pricing sheet"
+    ws.append(["demand", "price", "promo", "season"])
+    for _ in range(50):
+        x = rng.normal(size=3)
+        ws.append([float(10 - 2 * x[0] + x[1] + rng.normal(0, 0.3)), *map(float, x)])
+    book = tmp_path / "pricing.xlsx"
+    wb.save(book)
+    argv = ["fit", str(book), "--response", "demand", "--methods", "lasso", "--folds", "5"]
+    results = tmp_path / "pr_fit.xlsx"
+    code, _, err = _main([*argv, "--out", str(results)], tmp_path)
+    assert code == 0, err
+    code, out, err = _main(["rerun", str(results), "--json"], tmp_path)
+    assert code == 0, err
+    assert json.loads(out)["reproduced"] is True
+    code, _, err = _main([*argv, "--in-place"], tmp_path)
+    assert code == 0, err
+    code, out, err = _main(["rerun", str(book), "--json"], tmp_path)
+    assert code == 0, err
+    assert json.loads(out)["reproduced"] is True

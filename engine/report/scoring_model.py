@@ -64,12 +64,13 @@ RANGE_HIGH = "High end (95% range)"
 
 def range_words(model: ScoringModel) -> str:
     """How the range beside each prediction is made, in words for the sheets."""
-    h = model.range_halfwidth
-    scale = " on the ln scale, then taken back by EXP" if model.response_log else ""
+    h = model.range_halfwidth or math.nan
+    ln = " on the ln scale, the ends taken back by EXP" if model.response_log else ""
     return (
-        f"95% range: the prediction plus and minus {RANGE_Z:.2f} x the model's cross-validated "
-        f"root mean squared error ({h:.6g}{scale}); it assumes errors of about the same size "
-        "everywhere and says nothing reliable for rows outside the fitted range."
+        f"95% range: the prediction plus and minus {h:.6g}{ln} ({RANGE_Z:.2f} x the model's "
+        f"cross-validated root mean squared error, {h / RANGE_Z:.6g}); it assumes errors of "
+        "about the same size everywhere and says nothing reliable for rows outside the fitted "
+        "range."
     )
 
 

@@ -375,3 +375,54 @@ def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp
     fitted = res.models[0].fitted[:5]
     np.testing.assert_allclose(got[:5], fitted, rtol=1e-9)
     np.testing.assert_allclose(got[5:], model.predict(read_table(new_book)), rtol=1e-9)
+
+
+def test_a_blank_with_no_stored_fill_is_named_in_the_check(tmp_path):
+    # rows with a gap were dropped when fitting (the default), so the sheet has no fill for a
+    # blank: the row gets no prediction, and the Check column says which cell is empty, as
+    # `tamis score` says "no usable value"; a whole empty row stays quiet
+    from open_data import engel_book
+
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    book = engel_book(tmp_path / "engel.xlsx")
+    res = run_study(StudySpec(source=str(book), response="foodexp", methods=("ols",), folds=5))
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    pasted = paste_after_examples(
+        results, ["income"], [(None,), (1500.0,)], tmp_path / "pasted.xlsx"
+    )
+    (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
+    ws = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(ws)
+    pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
+    r0 = head + 6
+    # the first pasted row is blank in its only column, so it is an empty row: nothing said
+    assert ws.cell(r0, pc).value in (None, "") and not ws.cell(r0, cols["Check"]).value
+    assert ws.cell(r0 + 1, pc).value == pytest.approx(
+        res.models[0].intercept + res.models[0].coefficients["income"] * 1500.0, rel=1e-9
+    )
+    assert not ws.cell(r0 + 1, cols["Check"]).value
+    # a model of two columns: one blank and one given
+    wb = openpyxl.Workbook()
+    sheet = wb.active
+    sheet.append(["income", "household", "foodexp"])
+    rng = np.random.default_rng(3)
+    income = rng.uniform(400, 4000, 80)
+    size = rng.integers(1, 7, 80).astype(float)
+    for a, b in zip(income, size):
+        sheet.append([float(a), float(b), float(100 + 0.4 * a + 30 * b + rng.normal(0, 20))])
+    two = tmp_path / "two.xlsx"
+    wb.save(two)
+    res2 = run_study(StudySpec(source=str(two), response="foodexp", methods=("ols",), folds=5))
+    results2 = write_results(res2, out=tmp_path / "results2.xlsx")
+    pasted2 = paste_after_examples(
+        results2, ["income", "household"], [(1500.0, None)], tmp_path / "pasted2.xlsx"
+    )
+    (out2,) = convert([pasted2], "xlsx", tmp_path / "lo2", make_profile(tmp_path / "p2"))
+    ws2 = openpyxl.load_workbook(out2, data_only=True)["TM Scoring"]
+    head2, cols2 = scoring_layout(ws2)
+    pc2 = next(c for h, c in cols2.items() if h.startswith("Prediction of"))
+    letter = get_column_letter(cols2["household"])
+    assert ws2.cell(head2 + 6, pc2).value == "#N/A"
+    assert f"no value in {letter}" in ws2.cell(head2 + 6, cols2["Check"]).value

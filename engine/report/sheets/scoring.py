@@ -219,8 +219,10 @@ def write(
     top = [
         ("Scoring", None),
         (
-            "Paste new rows under the column headings of the shaded block (one row per case, the same "
-            "headings as the data sheet); the prediction appears beside them.",
+            "Type or paste new rows under the headings of the shaded block, one row per case: only "
+            "the columns the model uses, in this block's order (from a sheet with other columns, "
+            f"paste column by column). Formulas are ready in the {n_blank} rows below the examples; "
+            "for more rows, copy the last row down.",
             None,
         ),
         (
@@ -377,6 +379,17 @@ def write(
         if (kind := source_kind(encs, s)) in ("number", "date")
     ]
     logged_sources = sorted({sources.index(e.source) for e in encs if e.kind == "ln"})
+    # columns whose empty cell the formulas cannot fill (no stored fill; for a category, the
+    # blank is not one of its levels): the row gets no prediction
+    blank_means_none = sorted(
+        {
+            sources.index(e.source)
+            for e in encs
+            if e.kind in ("number", "ln", "flag", "level", "trend", "month", "weekday")
+            and e.fill is None
+            and not (e.kind == "level" and "" in model.category_levels.get(e.source, []))
+        }
+    )
     for t in range(n_rows):
         r = first + t
         ex = examples[t] if t < len(examples) else None
@@ -466,6 +479,12 @@ def write(
             checks.append(
                 f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(LOWER(TRIM({cell})),LOWER({lv_rng})))=0,'
                 f'"unseen level in {col_name(sources.index(s))}; ",""))'
+            )
+        for s_i in blank_means_none:  # no value and no stored fill: no prediction, say why
+            cell = cell_ref(r, s_i, False, True)
+            checks.append(
+                f"IF(AND(NOT({empty}),OR(ISBLANK({cell}),ISERROR({cell}))),"
+                f'"no value in {col_name(s_i)}; ","")'
             )
         for s_i, kind in typed_sources:  # text typed where a number or date belongs
             cell = cell_ref(r, s_i, False, True)

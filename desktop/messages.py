@@ -92,6 +92,10 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
         "set 'Missing values' under Run settings to 'Fill with the median and mark the gap'",
     ),
     (r"--folds must", "'Parts (folds)' must"),
+    (
+        r"--missing fill keeps",
+        "'Fill with the median and mark the gap' (Missing values, under Run settings) keeps",
+    ),
     (r"\(--log COLUMN\)", "(tick 'Log' for the column)"),
     (r"\(--group COLUMN\)", "(give one column the role 'group')"),
     (r"\(--time-order COLUMN\)", "(give one column the role 'time order')"),

@@ -335,8 +335,8 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                 continue
             reason = (
                 f"it holds one value ({value}) besides its blank cells; dropping the rows with "
-                "blanks would leave it constant (filling missing values instead would keep it, "
-                "the blanks as their own level or indicator)"
+                "blanks would leave it constant (--missing fill keeps what it says, whether a "
+                "cell is blank, as a 0/1 indicator column)"
             )
             dropped_columns[c.name] = reason
             warnings.append(f"column '{c.name}' left out: {reason}")
@@ -352,6 +352,19 @@ def build_design(table: Table, spec: StudySpec) -> Design:
 
     n = int(keep.sum())
     if n < 3:
+        if n_all < 3:
+            raise InputProblem(
+                f"{where} has only {n_all} data {'row' if n_all == 1 else 'rows'}; a study "
+                "needs at least 3 (and more than the validation parts)",
+                place(),
+            )
+        y_missing = int((~np.isfinite(y_all)).sum())
+        if n_all - y_missing < 3:  # filling candidates cannot help: the response is never filled
+            raise InputProblem(
+                f"the response '{response.name}' in {where} has a value in only "
+                f"{n_all - y_missing} of {n_all} rows; choose a response with more values",
+                place(),
+            )
         raise InputProblem(
             f"only {n} of {n_all} rows in {where} remain after removing missing values "
             f"({drop_reasons_text(drop_reasons)}); use --missing fill or choose other columns",
@@ -508,9 +521,15 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     sds = X.std(axis=0) if X.size else np.empty(0)
     const = sds <= 1e-12 * np.maximum(1.0, np.abs(X).max(axis=0) if X.size else 1.0)
     if const.any():
+        kept_names = {nm for nm, c in zip(names, const) if not c}
         for j in np.flatnonzero(const):
-            dropped_columns[names[j]] = "it is constant on the rows used"
-            warnings.append(f"column '{names[j]}' left out: constant on the rows used")
+            why = "it is constant on the rows used"
+            indicator = f"{encodings[j].source}:missing"
+            if encodings[j].kind != "missing" and indicator in kept_names:
+                # its one value filled its own blanks: what it says is whether a cell was blank
+                why += f"; whether its cell was blank is kept as the column '{indicator}'"
+            dropped_columns[names[j]] = why
+            warnings.append(f"column '{names[j]}' left out: {why.removeprefix('it is ')}")
         keep_cols = ~const
         X = X[:, keep_cols]
         names = [nm for nm, k in zip(names, keep_cols) if k]

@@ -45,12 +45,17 @@ def _fmt(x: float | None, digits: int = 4) -> str:
     return "-" if x is None else f"{x:.{digits}g}"
 
 
+def _count(n: int, thing: str) -> str:
+    return f"{n} {thing}" + ("" if n == 1 else "s")
+
+
 def summary_text(result) -> str:
     """A readable summary of a study result for the terminal."""
     d = result.design
     tested = result.test_rows is not None
     lines = [
-        f"{d.response_label} explained by {len(d.names)} model columns; {d.n_rows} rows used, {d.rows_dropped} dropped"
+        f"{d.response_label} explained by {_count(len(d.names), 'model column')}; "
+        f"{d.n_rows} rows used, {d.rows_dropped} dropped"
         + (f" ({drop_reasons_text(d.drop_reasons)})" if d.drop_reasons else "")
         + (f"; {len(result.test_rows)} held back as a final test" if tested else ""),
         f"source: {d.source}, sheet '{d.sheet}', header row {d.header_row}",
@@ -78,7 +83,7 @@ def summary_text(result) -> str:
             "",
             f"effect of {f.column} (double selection, {f.penalty_rule} penalty): {f.estimate:.4g} "
             f"(robust se {f.std_error:.3g}; 95% interval {f.ci_low:.4g} to {f.ci_high:.4g}); "
-            f"{len(f.controls)} controls",
+            f"{_count(len(f.controls), 'control')}",
         ]
         lines += [f"  {note}" for note in f.notes]
     if result.stability is not None:
@@ -87,7 +92,11 @@ def summary_text(result) -> str:
             "",
             f"stable over {s.runs} half-samples (share >= {s.threshold:g}): {', '.join(s.stable) or 'none'}",
         ]
-    if result.warnings:
-        lines += ["", "warnings:"] + [f"  - {w}" for w in result.warnings]
+    # the study's warnings, then each method's own notes (a choice at the grid's edge ...)
+    notes = list(result.warnings)
+    notes += [f"{m.method}: {n}" for m in result.models for n in m.notes]
+    notes = list(dict.fromkeys(notes))
+    if notes:
+        lines += ["", "warnings:"] + [f"  - {w}" for w in notes]
     lines += ["", "cautions:"] + [f"  - {c}" for c in CAUTIONS]
     return "\n".join(lines)

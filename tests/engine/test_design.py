@@ -350,3 +350,39 @@ def test_a_response_of_two_labels_says_how_to_fit_it_as_one_and_zero(tmp_path):
     assert "holds two labels ('Performing', 'Default')" in message
     assert "write the column as 1 and 0 or as yes and no" in message
     assert err.value.place.column == "status"
+
+
+def test_a_nearly_empty_response_is_named_without_advice_to_fill():
+    nan = np.nan
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1.0, nan, nan, nan, nan, 2.0]),
+        _col("x", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 6], "B"),
+    )
+    with pytest.raises(InputProblem) as exc:
+        build_design(t, _spec(missing="fill"))
+    msg = str(exc.value)
+    assert "the response 'y' in sheet 'Data' has a value in only 2 of 6 rows" in msg
+    assert "--missing fill" not in msg  # the response is never filled
+
+
+def test_a_sheet_of_two_rows_says_so():
+    t = _table(_col("y", ColumnKind.NUMBER, [1.0, 2.0]), _col("x", ColumnKind.NUMBER, [1, 2], "B"))
+    with pytest.raises(InputProblem, match="sheet 'Data' has only 2 data rows"):
+        build_design(t, _spec())
+
+
+def test_a_value_that_only_marks_blanks_is_kept_as_its_indicator_under_fill():
+    nan = np.nan
+    rng = np.random.default_rng(0)
+    x = rng.normal(size=12)
+    only = [7.0 if i == 3 else nan for i in range(12)]
+    t = _table(
+        _col("y", ColumnKind.NUMBER, x + rng.normal(size=12)),
+        _col("x", ColumnKind.NUMBER, x, "B"),
+        _col("sparse", ColumnKind.NUMBER, only, "C"),
+    )
+    dropped = build_design(t, _spec())
+    assert "--missing fill keeps what it says" in dropped.dropped_columns["sparse"]
+    filled = build_design(t, _spec(missing="fill"))
+    assert "sparse:missing" in filled.names and "sparse" not in filled.names
+    assert "kept as the column 'sparse:missing'" in filled.dropped_columns["sparse"]

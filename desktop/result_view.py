@@ -392,7 +392,8 @@ class ResultView(QWidget):
             f"columns of the {method_info(r.influence_method or '').title} model (the scoring "
             "sheet's)."
             if r.influence is not None
-            else " No row measures: too few rows are left over beyond the model's columns."
+            else " No row measures: the scoring sheet's model keeps no column, or too few rows are "
+            "left beyond its columns for them to say anything."
         )
         self.check_note.setText(
             (

@@ -109,20 +109,29 @@ def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
     another case or spacing, or as a column letter, is resolved once, here (an unknown name,
     an exclusion too, is refused with the sheet's columns listed)."""
 
+    def column(given: str) -> str:
+        found = table.column(given)
+        folded = " ".join(given.split()).casefold()
+        if found.name != given and " ".join(found.name.split()).casefold() != folded:
+            # taken as a column letter: say so, a mistyped name could land on another column
+            note = (
+                f"'{given}' was read as the column in letter {found.letter} ('{found.name}') of "
+                f"sheet '{table.sheet}': no column has that name"
+            )
+            if note not in table.warnings:
+                table.warnings.append(note)
+        return found.name
+
     def name(given: str | None) -> str | None:
-        return None if given is None else table.column(given).name
+        return None if given is None else column(given)
 
     return dataclasses.replace(
         spec,
-        response=table.column(spec.response).name,
-        candidates=None
-        if spec.candidates is None
-        else tuple(table.column(n).name for n in spec.candidates),
-        exclude=tuple(table.column(n).name for n in spec.exclude),
-        log_columns=tuple(table.column(n).name for n in spec.log_columns),
-        interactions=tuple(
-            (table.column(a).name, table.column(b).name) for a, b in spec.interactions
-        ),
+        response=column(spec.response),
+        candidates=None if spec.candidates is None else tuple(column(n) for n in spec.candidates),
+        exclude=tuple(column(n) for n in spec.exclude),
+        log_columns=tuple(column(n) for n in spec.log_columns),
+        interactions=tuple((column(a), column(b)) for a, b in spec.interactions),
         focal=name(spec.focal),
         group=name(spec.group),
         time_order=name(spec.time_order),
@@ -231,6 +240,8 @@ def _check_unusual_rows(result: StudyResult) -> None:
     model = result.model(method)
     d = result.design
     kept = set(model.selected)
+    if not kept:  # the prediction is the mean: the far-out check has said what there is to say
+        return
     inf = influence(d.X[:, [j for j, name in enumerate(d.names) if name in kept]], d.y)
     if inf is None:
         return
@@ -344,6 +355,11 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
     except InputProblem as exc:
         col = {"grouped": spec.group, "time": spec.time_order}.get(spec.scheme)
         where = f"column '{col}' in sheet '{design.sheet}'" if col else f"sheet '{design.sheet}'"
+        if spec.test_share > 0:  # the parts are made of the rows left after the final test
+            where += (
+                f", counted on the rows left after holding back {spec.test_share:.0%} as the "
+                "final test" + (", whole groups at a time" if spec.scheme == "grouped" else "")
+            )
         raise InputProblem(
             f"{exc.message} ({where})",
             Place(file=design.source, sheet=design.sheet, column=col),

@@ -105,7 +105,7 @@ class Table:
         from engine.errors import InputProblem, Place
 
         known = ", ".join(c.name for c in self.columns[:12])
-        more = " ..." if len(self.columns) > 12 else ""
+        more = f" and {len(self.columns) - 12} more" if len(self.columns) > 12 else ""
         raise InputProblem(
             f"no column named '{name}' in sheet '{self.sheet}' (header row {self.header_row}); "
             f"columns are: {known}{more}. If the headings are in another row, give that row "

@@ -87,12 +87,18 @@ def _rows(path: Path) -> list[tuple]:
     place = Place(file=str(path), sheet=SETTINGS)
     if not path.exists():
         raise InputProblem(f"results workbook '{path}' does not exist", Place(file=str(path)))
+    if path.suffix.lower() not in (".xlsx", ".xlsm"):
+        raise InputProblem(
+            f"'{path}' is not a results workbook: Tamis writes its results as .xlsx; give the "
+            "workbook `tamis fit ... --out` (or --in-place) wrote",
+            Place(file=str(path)),
+        )
     try:
         wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
     except Exception as exc:  # not a workbook, damaged, encrypted
         raise InputProblem(
-            f"cannot open '{path}' as a workbook ({exc.__class__.__name__}); "
-            "give a results workbook written by Tamis",
+            f"cannot open '{path}' as a workbook (it is damaged, protected by a password or "
+            "not a workbook); give a results workbook written by Tamis",
             Place(file=str(path)),
         ) from exc
     try:

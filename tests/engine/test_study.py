@@ -534,3 +534,24 @@ def test_scoring_method_option_reaches_the_workbook_and_a_wrong_one_exits_2(tmp_
     assert load_scoring_model(out).method == "ridge"
     code, _, err = _fit(_fit_json_argv(book, 4, "lasso", "--scoring-method", "ridge"), tmp_path)
     assert code == 2 and "not among the methods run" in err
+
+
+def test_a_column_named_by_its_letter_is_said_in_a_warning(tmp_path):
+    import openpyxl
+
+    rng = np.random.default_rng(4)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Prices"
+    ws.append(["demand", "price", "promo"])
+    for _ in range(40):
+        p, q = rng.normal(size=2)
+        ws.append([float(5 - p + 0.5 * q + rng.normal(0, 0.2)), float(p), float(q)])
+    book = tmp_path / "prices.xlsx"
+    wb.save(book)
+    res = run_study(StudySpec(source=str(book), response="A", methods=("ols",), folds=5))
+    assert res.design.response == "demand"
+    assert any(
+        "'A' was read as the column in letter A ('demand') of sheet 'Prices'" in w
+        for w in res.warnings
+    )

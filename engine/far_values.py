@@ -10,7 +10,7 @@ from __future__ import annotations
 __all__ = ["FarValue", "FarScreen", "screen_far_values"]
 
 import math
-from collections.abc import Mapping
+from collections.abc import Collection, Mapping
 from dataclasses import dataclass
 
 import numpy as np
@@ -69,11 +69,14 @@ def _isolated_limit(n: int) -> int:
     return max(3, math.ceil(0.01 * n))
 
 
-def screen_far_values(design: Design, letters: Mapping[str, str]) -> FarScreen:
+def screen_far_values(
+    design: Design, letters: Mapping[str, str], skip: Collection[str] = ()
+) -> FarScreen:
     """Far-out cells of the response and the number candidates of ``design``: isolated ones
     by cell, and the columns with so many that they form a long tail.
 
-    ``letters`` maps each source column to its sheet letter (for cell names)."""
+    ``letters`` maps each source column to its sheet letter (for cell names); ``skip``: source
+    columns not to look at (values intake put in for results beyond a limit)."""
     n = design.n_rows
     columns: list[tuple[str, str, bool, np.ndarray]] = [
         (design.response_label, design.response, design.response_log, design.y)
@@ -84,6 +87,8 @@ def screen_far_values(design: Design, letters: Mapping[str, str]) -> FarScreen:
     cells: list[FarValue] = []
     tails: list[tuple[str, int]] = []
     for name, source, logged, v in columns:
+        if source in skip:
+            continue
         beyond = beyond_fences(v, FENCE)
         if len(beyond) > _isolated_limit(n):
             if not logged and np.nanmin(v) > 0:

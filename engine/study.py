@@ -25,6 +25,7 @@ from engine.design import Design, build_design, drop_reasons_text
 from engine.errors import InputProblem, Place, TamisWarning
 from engine.far_values import screen_far_values
 from engine.fitting.influence import influence
+from engine.intake.far_out import screened
 from engine.intake.table import Table
 from engine.methods import method_info
 from engine.progress import Progress, silent
@@ -157,7 +158,11 @@ def run_study(
     progress.step(0.04, "building the design matrix")
     design = build_design(table, spec)
     notes: list[str] = list(table.warnings) + list(design.warnings)
-    far = screen_far_values(design, {c.name: c.letter for c in table.columns})
+    far = screen_far_values(
+        design,
+        {c.name: c.letter for c in table.columns},
+        skip=[c.name for c in table.columns if not screened(c.notes)],
+    )
     notes += far.notes()
     test: HeldBack | None = None
     if spec.test_share > 0:

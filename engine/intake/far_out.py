@@ -9,11 +9,20 @@ judge by and gets none.
 
 from __future__ import annotations
 
-__all__ = ["FENCE", "far_values", "beyond_fences"]
+__all__ = ["FENCE", "far_values", "beyond_fences", "screened"]
 
 import numpy as np
 
 FENCE = 3.0  # interquartile ranges beyond the quartiles: Tukey's outer fences
+
+# notes of intake that say some values were put in for results beyond a limit ("<0.5" read as
+# 0.25): such a column's far values are intake's own substitutes, already named, not slips
+_SUBSTITUTED = ("below a detection limit", "above a limit (e.g.")
+
+
+def screened(notes: list[str]) -> bool:
+    """Whether a column with these intake notes is looked at for far-out values."""
+    return not any(mark in note for note in notes for mark in _SUBSTITUTED)
 
 
 def far_values(values: np.ndarray, fence: float = FENCE) -> np.ndarray:

@@ -25,7 +25,7 @@ from engine.intake.cells import (
 )
 from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
 from engine.intake.delimited import read_delimited
-from engine.intake.far_out import far_values
+from engine.intake.far_out import far_values, screened
 from engine.intake.header import cell_key, detect_header_row, join_sub_heading, sub_heading_row
 from engine.intake.package import PackageFacts, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
@@ -368,7 +368,7 @@ def _build_table(
             day_first=day_first,
             from_text_file=fmt == "csv",
         )
-        if col.kind is ColumnKind.NUMBER:
+        if col.kind is ColumnKind.NUMBER and screened(col.notes):
             far = far_values(col.values)
             if len(far):
                 named = ", ".join(

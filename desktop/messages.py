@@ -92,6 +92,7 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
         "set 'Missing values' under Run settings to 'Fill with the median and mark the gap'",
     ),
     (r"--folds must", "'Parts (folds)' must"),
+    (r"\(fewer parts, --folds,", "(fewer parts, 'Parts (folds)' under Run settings,"),
     (
         r"--missing fill keeps",
         "'Fill with the median and mark the gap' (Missing values, under Run settings) keeps",

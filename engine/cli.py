@@ -124,8 +124,9 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument(
         "--time-order",
         metavar="COLUMN",
-        help="column giving the time order for blocked folds (implies --scheme time); rows "
-        "sharing one time stay in one block",
+        help="column giving the time order (implies --scheme time): rows are cut into "
+        "consecutive blocks, each part trains on the earlier blocks and validates on the next "
+        "(forward chaining); rows sharing one time stay in one block",
     )
     f.add_argument(
         "--choose",

@@ -33,6 +33,8 @@ from engine.study_result import Criteria, ModelResult, StudyResult
 from engine.study_spec import StudySpec
 from engine.tuning.final_test import HeldBack, hold_back_test_rows
 
+# a first forward-chaining part learning from fewer rows than this gets a note
+_FEW_TRAINING_ROWS = 20
 _UNUSUAL_SHOWN = 5  # rows named in the warning; the fitted-values sheet has them all
 
 # relative cost of each method, to move one progress bar evenly
@@ -177,6 +179,7 @@ def run_study(
             Place(file=str(table.source), sheet=table.sheet),
         )
     parts = _validation_parts(design, spec)
+    notes.extend(_early_part_note(design, spec, parts))
     _start_workers_if_worthwhile(design, spec, parts)
     runner = _MethodRunner(design, spec, parts, notes)
 
@@ -369,6 +372,22 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
             f"{exc.message} ({where})",
             Place(file=design.source, sheet=design.sheet, column=col),
         ) from None
+
+
+def _early_part_note(design: Design, spec: StudySpec, parts) -> list[str]:
+    """Forward chaining trains its first part on the earliest block alone: say so when that
+    is few rows, since its error (often the largest) counts as much as any other."""
+    if spec.scheme != "time" or not parts:
+        return []
+    first = min(len(tr) for tr, _ in parts)
+    if first >= _FEW_TRAINING_ROWS:
+        return []
+    return [
+        f"time-ordered validation trains each part on the rows before it: the first part "
+        f"learns from {first} of the {design.n_rows} rows, and its error counts as much as the "
+        "others in the cross-validated error, which can make every method look worse than it "
+        "does on later rows (fewer parts, --folds, give the first part more rows)"
+    ]
 
 
 def _covariance_words(cov_type: str, spec: StudySpec) -> str:

@@ -555,3 +555,34 @@ def test_a_column_named_by_its_letter_is_said_in_a_warning(tmp_path):
         "'A' was read as the column in letter A ('demand') of sheet 'Prices'" in w
         for w in res.warnings
     )
+
+
+def test_forward_chaining_says_when_its_first_part_learns_from_few_rows(tmp_path):
+    # time-ordered parts train on the past only (engine.tuning.folds): with 120 weekly rows in
+    # 10 blocks the first part learns from 12 rows, which the study says; in 4 blocks, from 30
+    import datetime as dt
+
+    import openpyxl
+
+    from desktop.messages import window_words
+
+    rng = np.random.default_rng(1)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["week", "sales", "x1", "x2"])
+    for i in range(120):
+        a, b = rng.normal(size=2)
+        ws.append(
+            [dt.datetime(2025, 1, 6) + dt.timedelta(weeks=i), float(a + b), float(a), float(b)]
+        )
+    book = tmp_path / "weeks.xlsx"
+    wb.save(book)
+    spec = StudySpec(
+        source=str(book), response="sales", methods=("lasso",), scheme="time", time_order="week"
+    )
+    res = run_study(spec)
+    note = next(w for w in res.warnings if w.startswith("time-ordered validation"))
+    assert "the first part learns from 12 of the 120 rows" in note
+    assert "'Parts (folds)' under Run settings" in window_words(note)
+    more = run_study(spec.replace(folds=4))
+    assert not any(w.startswith("time-ordered validation") for w in more.warnings)

@@ -268,6 +268,12 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         reason = None
         if c.kind == ColumnKind.EMPTY:
             reason = "it is empty"
+        elif (why_text := _numbers_read_as_text(c)) and c.kind in (
+            ColumnKind.IDENTIFIER,
+            ColumnKind.CATEGORY,
+        ):
+            # mostly numbers, yet text: the reason to give is intake's, not "identifier"
+            reason = why_text
         elif c.kind == ColumnKind.IDENTIFIER:
             reason = "it looks like an identifier (almost every value is different)"
         elif c.kind == ColumnKind.CATEGORY and len(c.levels) > MAX_LEVELS:
@@ -728,6 +734,16 @@ def _without_mostly_missing(
         dropped_columns[c.name] = reason
         warnings.append(f"column '{c.name}' left out: {reason}")
     return kept
+
+
+def _numbers_read_as_text(c: Column) -> str | None:
+    """Intake's note on a column of mostly numbers that it had to read as text, with the fix."""
+    for note in c.notes:
+        if "too few for a number column" in note:
+            return note + "; write every cell as a plain number to use it"
+        if "numbers written with different units" in note:
+            return note
+    return None
 
 
 def _only_value_besides_blanks(c: Column, rows: np.ndarray) -> str | None:

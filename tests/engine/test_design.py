@@ -386,3 +386,19 @@ def test_a_value_that_only_marks_blanks_is_kept_as_its_indicator_under_fill():
     filled = build_design(t, _spec(missing="fill"))
     assert "sparse:missing" in filled.names and "sparse" not in filled.names
     assert "kept as the column 'sparse:missing'" in filled.dropped_columns["sparse"]
+
+
+def test_a_column_of_mostly_numbers_read_as_text_gives_intakes_reason():
+    cost = _col("cost", ColumnKind.IDENTIFIER, [f"c{i}" for i in range(6)], "C")
+    cost.notes = [
+        "4 of 6 values are numbers, too few for a number column (needs 80%); read as text"
+    ]
+    t = _table(
+        _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
+        _col("x", ColumnKind.NUMBER, [1, 3, 2, 5, 4, 6], "B"),
+        cost,
+    )
+    d = build_design(t, _spec())
+    assert d.dropped_columns["cost"].startswith("4 of 6 values are numbers, too few")
+    assert "write every cell as a plain number" in d.dropped_columns["cost"]
+    assert "identifier" not in d.dropped_columns["cost"]

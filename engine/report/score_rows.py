@@ -35,6 +35,9 @@ class ScoreOutcome:
     notes: list[str] = field(default_factory=list)  # intake's warnings about the new rows
     # how wide each prediction's 95% range is, in words ("" when the model has none)
     range_note: str = ""
+    # predicted rows with a cell that took the stored fill, and the first of them
+    filled: int = 0
+    first_filled: tuple[int, str] | None = None
 
     def cautions(self) -> list[str]:
         """What a user must know besides the count: rows left without a prediction and
@@ -59,6 +62,12 @@ class ScoreOutcome:
                     else "their predictions are extrapolations"
                 )
                 + f", not supported by the data (first: row {row}, {why})"
+            )
+        if self.first_filled is not None:
+            row, why = self.first_filled
+            lines.append(
+                f"{self.filled} {'row was' if self.filled == 1 else 'rows were'} predicted with an "
+                f"empty or unreadable cell filled by the stored value (first: row {row}, {why})"
             )
         return lines
 
@@ -120,7 +129,9 @@ def score_rows(
     progress.step(0.5, "predicting")
     preds, low, high, notes = model.predict_with_range(table)
     cautions = model.range_cautions(table)
-    shown = [n or c for n, c in zip(notes, cautions)]  # a row without a prediction needs none
+    fills = model.fill_cautions(table)
+    # a row without a prediction needs no caution; a predicted row may have two
+    shown = [n or "; ".join(w for w in (c, f) if w) for n, c, f in zip(notes, cautions, fills)]
     progress.step(0.6, "writing the predictions")
     said = model_from or (f"from '{results_book}'" if results_book else "")
     ranges = (low, high) if model.range_halfwidth is not None else None
@@ -128,6 +139,7 @@ def score_rows(
     rows = [int(r) for r in table.row_numbers]
     unscored = [i for i, n in enumerate(notes) if n]
     beyond = [i for i, (n, c) in enumerate(zip(notes, cautions)) if c and not n]
+    filled = [i for i, (n, f) in enumerate(zip(notes, fills)) if f and not n]
     progress.step(1.0, "done")
     return ScoreOutcome(
         out=written,
@@ -144,6 +156,10 @@ def score_rows(
         ),
         notes=list(table.warnings),
         range_note=_range_note(model),
+        filled=len(filled),
+        first_filled=(rows[filled[0]], fills[filled[0]].removeprefix("filled: "))
+        if filled
+        else None,
     )
 
 

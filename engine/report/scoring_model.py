@@ -42,7 +42,7 @@ import datetime as _dt
 import difflib
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
@@ -331,6 +331,21 @@ class ScoringModel:
             parts += ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
             notes.append("; ".join(parts))
         return np.asarray(linear, dtype=float), notes
+
+    def fill_cautions(self, table) -> list[str]:
+        """Per row, the columns whose empty or unreadable cell took the stored fill (the median
+        of the rows fitted, under the study's missing-value policy "fill"); "" when none."""
+        out: list[list[str]] = [[] for _ in range(table.n_rows)]
+        said: set[str] = set()
+        for enc in self.encodings:
+            if enc.fill is None or enc.kind in ("product", "missing") or enc.source in said:
+                continue
+            said.add(enc.source)
+            col = self._find_column(table, enc.source)
+            raw = self._encode(replace(enc, fill=None), col, table)
+            for i in np.flatnonzero(~np.isfinite(raw)):
+                out[i].append(f"'{enc.source}' had no usable value, {enc.fill:.6g} was put in")
+        return ["filled: " + "; ".join(o) if o else "" for o in out]
 
     def range_cautions(self, table) -> list[str]:
         """Per row, the model columns whose value lies outside the range of the rows the model

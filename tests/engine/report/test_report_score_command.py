@@ -256,3 +256,46 @@ def test_prediction_rows_keep_text_dates_and_styles_as_written(tmp_path):
         cal = CalamineWorkbook.from_path(str(out)).get_sheet_by_name("TM Predictions").to_python()
         assert [row[2] for row in cal[4:9]] == labels
         assert [row[5] for row in cal[4:8]] == notes[:4]
+
+
+def test_a_filled_cell_is_said_in_the_note_and_the_report(tmp_path):
+    # the study filled gaps with the median (policy "fill"): a new row with a gap is predicted
+    # with the stored median put in, which its note and the command's report say
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(2)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y", "dose", "temp"])
+    for i in range(60):
+        d, t = rng.normal(size=2)
+        ws.append(
+            [float(1 + 2 * d - t + rng.normal(0, 0.3)), None if i % 9 == 0 else float(d), float(t)]
+        )
+    data = tmp_path / "lab.xlsx"
+    wb.save(data)
+    res = run_study(
+        StudySpec(source=str(data), response="y", methods=("ols",), folds=5, missing="fill")
+    )
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    fill = next(e.fill for e in res.design.encodings if e.name == "dose")
+    new = openpyxl.Workbook()
+    new.active.append(["dose", "temp"])
+    new.active.append([0.5, 0.1])
+    new.active.append([None, 0.2])
+    new.active.append(["n/a", 0.3])
+    book = tmp_path / "new.xlsx"
+    new.save(book)
+    out = tmp_path / "new-scored.xlsx"
+    ctx = _ctx()
+    code = score.run(
+        SimpleNamespace(book=str(book), results=str(results), sheet=None, out=str(out)), ctx
+    )
+    assert code == 0
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Predictions"]
+    head = list(next(ws.iter_rows(min_row=4, max_row=4, values_only=True)))
+    notes = [r[head.index("Note")] for r in ws.iter_rows(min_row=5, values_only=True)]
+    said = f"filled: 'dose' had no usable value, {fill:.6g} was put in"
+    assert notes == [None, said, said]
+    assert "2 rows were predicted with an empty or unreadable cell filled" in ctx.stderr.getvalue()

@@ -26,6 +26,7 @@ __all__ = ["detect_header_row", "sub_heading_row", "join_sub_heading", "cell_key
 
 import datetime as dt
 import math
+import re
 
 from engine.intake.cells import ERROR_VALUES, MISSING_WORDS, parse_number_text
 from engine.intake.text_dates import looks_like_date
@@ -85,14 +86,26 @@ def detect_header_row(rows: list[list]) -> int | None:
 
 # what a row of units under the headings holds (common practice in lab and engineering sheets)
 _UNITS = frozenset(
-    """% kg g mg t m cm mm km l ml h min s ms °c c degc k pa kpa bar pct ppm ppb units pcs
-    eur usd gbp chf € $ £ kwh mwh w kw v a hz db""".split()
+    """% kg g mg µg ug t m cm mm µm um nm km l ml µl dl h min s ms d day days wk yr °c °f c f
+    degc k pa kpa mpa gpa bar mbar psi pct ppm ppb units pcs mol mmol µmol nmol eq rpm lb lbs
+    oz ft in yd mi gal eur usd gbp chf € $ £ kwh mwh wh w kw mw v mv a ma hz khz db""".split()
 )
+# pieces of a compound unit ("L/min", "kg·m-3", "m³/h"): a base unit with an optional power
+_UNIT_PIECE = re.compile(r"([^\d²³⁻-]+)(?:\^?-?[0-9]+|[²³]|⁻[¹²³])?")
 
 
 def _is_unit(value: object) -> bool:
     s = str(value).strip().lower()
-    return s[:1] in "([" or s in _UNITS
+    if s[:1] in "([" or s in _UNITS:
+        return True
+    pieces = [p for p in re.split(r"[/·*]| per ", s) if p]
+    if not pieces or len(pieces) > 3:
+        return False
+    for piece in pieces:
+        m = _UNIT_PIECE.fullmatch(piece.strip())
+        if m is None or m.group(1) not in _UNITS:
+            return False
+    return True
 
 
 def _above_units(rows: list[list], sample: list[tuple[int, int, int]], i: int) -> int:

@@ -254,6 +254,7 @@ def _build_table(
     # d: the index of the row just above the data (the headings, or the sub-headings under
     # them); data row i is sheet row i + d + 2
     d = h
+    written = list(headings)  # the heading row's own text, before any sub-heading joins it
     if sub_heading_row(rows, h):
         d = h + 1
         subs = [format_heading(v) for v in rows[d]]
@@ -361,7 +362,7 @@ def _build_table(
         col = classify_column(
             cells,
             name=name,
-            heading=heading,
+            heading=written[j],
             letter=letter,
             row_numbers=row_numbers,
             decimal=decimal,

@@ -90,6 +90,7 @@ class Table:
 
     def column(self, name: str) -> Column:
         """The column of this name; else the one whose name matches ignoring case and spacing,
+        else the one whose heading does (its sub-heading joined to the name: "y" for "y (g)"),
         else (workbooks) the one in this column letter ("F")."""
         for c in self.columns:
             if c.name == name:
@@ -98,6 +99,10 @@ class Table:
         loose = [c for c in self.columns if " ".join(c.name.split()).casefold() == folded]
         if len(loose) == 1:
             return loose[0]
+        # a heading whose unit or sub-heading row was joined to its name ("y" for "y (g)")
+        by_heading = [c for c in self.columns if " ".join(c.heading.split()).casefold() == folded]
+        if len(by_heading) == 1:
+            return by_heading[0]
         if name.strip().isalpha() and self.file_format != "csv":
             for c in self.columns:
                 if c.letter == name.strip().upper():

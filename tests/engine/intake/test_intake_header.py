@@ -34,6 +34,8 @@ DATA = [["North", 18.4, 2.7, 93], ["South", 26.9, 0.8, 55], ["North", 5.1, 9.5, 
         ([["Q1 survey", "draft", "do not share", "2024"], ["site", "temp", "rain", "units"]], 1),
         # a units row under the names: the names are the headings
         ([["site", "temp", "rain", "units"], ["", "°C", "(mm)", "%"]], 0),
+        # a full units row, compound units without brackets and no blank cell
+        ([["site", "temp", "flow", "units"], ["km", "°C", "L/min", "m³/h"]], 0),
         # names above a row that completes some of them: the names' row, not the partial one
         ([["site", "temp", "temp", "units"], ["", "min", "max", ""]], 0),
     ],
@@ -92,6 +94,8 @@ def test_a_last_row_under_the_headings_is_never_taken_for_sub_headings():
     [
         ("Price", "list", "Price list"),
         ("Weight", "kg", "Weight (kg)"),
+        ("flow", "L/min", "flow (L/min)"),
+        ("dose", "mg/kg", "dose (mg/kg)"),
         ("Rain", "(mm)", "Rain (mm)"),
         ("", "FTE", "FTE"),
         ("Store", "", "Store"),
@@ -99,3 +103,29 @@ def test_a_last_row_under_the_headings_is_never_taken_for_sub_headings():
 )
 def test_names_joined_from_heading_and_sub_heading(heading, sub, name):
     assert join_sub_heading(heading, sub) == name
+
+
+def test_a_response_named_without_its_joined_unit_is_found(tmp_path):
+    # a units row under the names ("g" under "y") is joined to them ("y (g)"); the response can
+    # still be named as the heading row writes it
+    import numpy as np
+    import openpyxl
+
+    from engine.intake import read_table
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(1)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["temp", "press", "flow", "y"])
+    ws.append(["°C", "kPa", "L/min", "g"])
+    for _ in range(40):
+        t, p, f = rng.normal(size=3)
+        ws.append([80 + 5 * t, 101 + 3 * p, 2 + 0.2 * f, 10 + t + p + rng.normal()])
+    book = tmp_path / "runs.xlsx"
+    wb.save(book)
+    table = read_table(book)
+    assert [c.name for c in table.columns] == ["temp (°C)", "press (kPa)", "flow (L/min)", "y (g)"]
+    res = run_study(StudySpec(source=str(book), response="y", methods=("ols",), folds=5))
+    assert res.design.response == "y (g)"

@@ -11,7 +11,9 @@ from __future__ import annotations
 __all__ = ["main", "build_parser"]
 
 import argparse
+import dataclasses
 import importlib
+import json
 import os
 import sys
 import traceback
@@ -273,6 +275,7 @@ def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
         return int(module.run(args, ctx))
     except TamisError as exc:
         print(f"tamis: error: {exc.message}", file=ctx.stderr)
+        _json_error(args, ctx, exc.message, exc.exit_code, dataclasses.asdict(exc.place))
         return exc.exit_code
     except KeyboardInterrupt:
         print(f"tamis: cancelled; {_what_was_written(ctx)}", file=ctx.stderr)
@@ -287,11 +290,19 @@ def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
         if args.traceback:
             print(text, file=ctx.stderr)
         log = _write_log(ctx, text)
-        print(
-            f"tamis: unexpected failure (a bug in Tamis; {_what_was_written(ctx)}). Details: {log}",
-            file=ctx.stderr,
-        )
+        message = f"unexpected failure (a bug in Tamis; {_what_was_written(ctx)}). Details: {log}"
+        print(f"tamis: {message}", file=ctx.stderr)
+        _json_error(args, ctx, message, 1, {})
         return 1
+
+
+def _json_error(args, ctx: Context, message: str, code: int, place: dict) -> None:
+    """With --json, a failure is one JSON document on stdout too, for scripts that read it:
+    {"error": message, "exit_code": code, "place": {file, sheet, column, row, cell}}."""
+    if not getattr(args, "json", False):
+        return
+    where = {k: v for k, v in place.items() if v is not None}
+    print(json.dumps({"error": message, "exit_code": code, "place": where}), file=ctx.stdout)
 
 
 def _what_was_written(ctx: Context) -> str:

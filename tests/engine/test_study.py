@@ -137,7 +137,11 @@ def test_more_columns_than_rows_runs_and_skips_least_squares_with_a_note(tmp_pat
     assert any("least squares left out" in w for w in doc["warnings"])
     # least squares alone has nothing to show: refused before any work, saying what to change
     code, out, err = _fit(_fit_json_argv(book, 5, "ols"), tmp_path)
-    assert code == 2 and out == ""
+    assert code == 2
+    # with --json the failure is one JSON document on stdout as well (nothing else there)
+    failure = json.loads(out)
+    assert failure["exit_code"] == 2 and failure["place"]["sheet"] == "wide"
+    assert failure["error"].startswith("least squares, the only method chosen")
     assert "least squares, the only method chosen, needs more rows" in err
     assert "(30 rows, 60 columns in sheet 'wide')" in err and "choose a penalized method" in err
 

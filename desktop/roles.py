@@ -98,7 +98,10 @@ def _column_problem(c: Column, role: Role) -> str | None:
         return None
     if c.kind is ColumnKind.EMPTY:
         return "This column has no values; set it to ignore."
-    if role in (Role.RESPONSE, Role.FOCAL) and c.kind not in _NUMERIC_KINDS:
+    two_labels = c.kind is ColumnKind.CATEGORY and len(c.levels) == 2
+    if role is Role.FOCAL and two_labels:
+        pass  # a treatment against its comparison: the effect of the second label
+    elif role in (Role.RESPONSE, Role.FOCAL) and c.kind not in _NUMERIC_KINDS:
         word = "response" if role is Role.RESPONSE else "focal column"
         return f"The {word} must hold numbers, but this column holds {c.kind.value} values."
     if role is Role.CANDIDATE and c.kind is ColumnKind.IDENTIFIER:

@@ -238,10 +238,12 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     chosen = [c for c in chosen if c.name not in spec.exclude and c.name not in roles_taken]
     if spec.focal:
         focal_col = table.column(spec.focal)
-        if focal_col.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
+        two_labels = focal_col.kind == ColumnKind.CATEGORY and len(focal_col.levels) == 2
+        if focal_col.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG) and not two_labels:
             raise InputProblem(
                 f"the focal column '{focal_col.name}' in {where} holds {focal_col.kind.value} values; "
-                "double selection needs a numeric focal column",
+                "double selection needs a numeric focal column, or a category of two labels "
+                "(a treatment against its comparison)",
                 place(focal_col.name),
             )
 
@@ -579,6 +581,11 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     if response_log or logged_kept:
         warnings.append(_log_note(response.name, response_log, logged_kept))
     focal_name = log_name(spec.focal) if spec.focal and spec.focal in logged else spec.focal
+    if spec.focal and focal_name not in names:
+        # a category of two labels: its one indicator, the other label against the reference
+        levels = [e.name for e in encodings if e.source == spec.focal and e.kind == "level"]
+        if len(levels) == 1:
+            focal_name = levels[0]
     focal_index = names.index(focal_name) if focal_name and focal_name in names else None
     if spec.focal and focal_index is None:
         raise InputProblem(

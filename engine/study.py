@@ -844,6 +844,13 @@ class _MethodRunner:
         )
         if reading:
             found.notes.append(reading)
+        enc = d.encodings[j]
+        if enc.kind == "level":  # a category of two labels as the focal column
+            found.notes.append(
+                f"'{d.names[j]}' is 1 for '{enc.level}' and 0 for '{enc.reference}': the "
+                f"estimate is the difference in {d.response_label} between the two, with the "
+                "chosen controls held as they are"
+            )
         pairs = [(a, b) for a, b in spec.interactions if spec.focal in (a, b)]
         if pairs and any(
             e.kind == "product" and d.names[j] in (e.factors or ()) for e in d.encodings

@@ -590,3 +590,33 @@ def test_forward_chaining_says_when_its_first_part_learns_from_few_rows(tmp_path
     assert "'Parts (folds)' under Run settings" in window_words(note)
     more = run_study(spec.replace(folds=4))
     assert not any(w.startswith("time-ordered validation") for w in more.warnings)
+
+
+def test_a_category_of_two_labels_can_be_the_focal_column(tmp_path):
+    # a treatment written as words: its effect is the difference of the second label from the
+    # reference, the same number as for the column written as 0/1 (two routes that must agree)
+    import openpyxl
+
+    rng = np.random.default_rng(3)
+    rows = []
+    for _ in range(200):
+        x = rng.normal(size=6)
+        sme = rng.random() < 0.25 + 0.15 * (x[0] > 0)  # the rarer label: retail is the reference
+        rows.append((float(2 * sme + x[0] + 0.5 * x[1] + rng.normal()), sme, x))
+    books = {}
+    for kind in ("words", "flags"):
+        wb = openpyxl.Workbook()
+        ws = wb.active
+        ws.append(["loss", "segment"] + [f"x{j}" for j in range(6)])
+        for y, sme, x in rows:
+            label = ("sme" if sme else "retail") if kind == "words" else float(sme)
+            ws.append([y, label, *map(float, x)])
+        books[kind] = tmp_path / f"{kind}.xlsx"
+        wb.save(books[kind])
+    spec = dict(response="loss", focal="segment", methods=("lasso",), folds=5)
+    words = run_study(StudySpec(source=str(books["words"]), **spec)).focal
+    flags = run_study(StudySpec(source=str(books["flags"]), **spec)).focal
+    assert words.column == "segment=sme"
+    assert words.estimate == pytest.approx(flags.estimate, rel=1e-9)
+    assert words.std_error == pytest.approx(flags.std_error, rel=1e-9)
+    assert any("is 1 for 'sme' and 0 for 'retail'" in n for n in words.notes)

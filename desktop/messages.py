@@ -92,6 +92,10 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
         "set 'Missing values' under Run settings to 'Fill with the median and mark the gap'",
     ),
     (r"--folds must", "'Parts (folds)' must"),
+    (
+        r"\(--focal-penalty cv\)",
+        "('Focal effect penalty' set to 'By validation', under Run settings)",
+    ),
     (r"\(fewer parts, --folds,", "(fewer parts, 'Parts (folds)' under Run settings,"),
     (
         r"--missing fill keeps",

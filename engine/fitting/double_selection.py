@@ -61,6 +61,9 @@ from engine.tuning.crossval import fit_and_validate, shared_cross_products
 from engine.tuning.folds import make_folds
 
 PENALTY_RULES = ("plugin", "cv")
+# below this many rows a plug-in choice of no control at all gets a note (its penalty grows
+# relative to what a few rows can show, so it errs towards keeping nothing)
+FEW_ROWS_FOR_PLUGIN = 100
 PLUGIN_C = 1.1
 _LOADING_ITERATIONS = 15
 _LOADING_TOL = 1e-6
@@ -289,6 +292,12 @@ def double_selection(
             f"the standard error allows for errors moving together within each of the "
             f"{n_groups} groups; with fewer than about {FEW_GROUPS} groups such standard errors "
             "tend to be too small, so read the interval as rough"
+        )
+    if penalty == "plugin" and m and union.size == 0 and n < FEW_ROWS_FOR_PLUGIN:
+        notes.append(
+            f"no control was kept: with {n} rows the plug-in penalty keeps a control only when "
+            "its link is strong, so 'no controls' may mean too few rows rather than none "
+            "needed; compare with the cross-validated penalty (--focal-penalty cv)"
         )
     est, se = float(final.coefs[0]), float(final.std_errors[0])
     progress.step(1.0, "double selection done")

@@ -110,3 +110,20 @@ def test_refusals():
         double_selection(y, np.ones(30), W)
     with pytest.raises(InputProblem, match="rows"):
         double_selection(y[:-1], d, W)
+
+
+def test_no_control_from_the_plugin_penalty_on_few_rows_gets_a_note():
+    # y is almost exactly one control; with 20 rows the plug-in penalty keeps none, which the
+    # result must not present as "no controls needed" without a word
+    from desktop.messages import window_words
+
+    rng = np.random.default_rng(0)
+    n = 20
+    a, b = rng.normal(size=n), rng.normal(size=n)
+    W = np.column_stack([a, rng.normal(size=(n, 4))])
+    y = 2 * a + rng.normal(0, 0.1, n)
+    res = double_selection(y, b, W, penalty="plugin")
+    assert res.controls.size == 0
+    note = next(x for x in res.notes if x.startswith("no control was kept"))
+    assert "with 20 rows" in note and "--focal-penalty cv" in note
+    assert "'By validation'" in window_words(note)

@@ -80,12 +80,18 @@ def test_engine_advice_names_the_window_settings_not_command_line_options(qtbot)
     folds = window_words("10 rows are used but 20 folds were asked; use --folds 5 or fewer")
     assert folds.endswith("set 'Parts (folds)' under Run settings to 5 or fewer")
     assert "Parts (folds)" in labels
+    assert {"Focal effect penalty"} <= labels
+    assert panel.focal_penalty.findText("By validation") >= 0
     for text in (
         "grouped folds need a group column (--group COLUMN)",
         "time-ordered folds need a time-order column (--time-order COLUMN)",
         "--folds must be at least 2 (got 1)",
         "a wider grid (a smaller penalty ratio: --penalty-ratio) may fit better",
         "(raise the limit, --exact-subset-limit, to search exactly; the time can grow quickly)",
+        "can make every method look worse (fewer parts, --folds, give the first part more rows)",
+        "compare with the cross-validated penalty (--focal-penalty cv)",
+        "Their natural log (--log COLUMN) often suits such a column better",
+        "constant (--missing fill keeps what it says, whether a cell is blank, as a 0/1 indicator",
     ):
         out = window_words(text)
         assert out != text and ("--" not in out or "command line" in out), out

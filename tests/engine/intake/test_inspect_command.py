@@ -80,4 +80,7 @@ def test_cli_unknown_sheet_names_the_sheets(messy_book, tmp_path):
     path, _ = messy_book
     ctx = _ctx(tmp_path)
     assert main(["inspect", str(path), "--sheet", "Sales", "--json"], ctx) == 2
-    assert "'Demand'" in ctx.stderr.getvalue() and ctx.stdout.getvalue() == ""
+    assert "'Demand'" in ctx.stderr.getvalue()
+    # with --json the failure is the one document on stdout
+    failure = json.loads(ctx.stdout.getvalue())
+    assert failure["exit_code"] == 2 and "'Demand'" in failure["error"]

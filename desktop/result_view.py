@@ -383,7 +383,6 @@ class ResultView(QWidget):
             )
         self.check_model.set_rows(rows)
         self.check_view.resizeColumnsToContents()
-
         self.tabs.setTabText(
             self.CHECK_TAB, f"Rows to check ({len(rows)})" if rows else "Rows to check"
         )

@@ -7,7 +7,6 @@ __all__ = ["FocalChart"]
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QWidget
 
 from desktop.charts.common import PlotPanel
 from desktop.theme import ACCENT, INK, MUTED, SERIES
@@ -15,9 +14,6 @@ from engine.study_result import FocalResult
 
 
 class FocalChart(PlotPanel):
-    def __init__(self, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-
     def set_focal(self, focal: FocalResult | None) -> None:
         self.item.clear()
         if focal is None:

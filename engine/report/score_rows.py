@@ -3,8 +3,8 @@
 The one routine behind ``tamis score`` and the window's "Predict new rows": it reads the rows
 through intake, predicts them (``ScoringModel.predict_with_notes``), marks predictions outside the
 fitted range, gives each prediction its 95% range, and writes a copy of the book with the
-predictions sheet (``predictions``). The
-book itself is never written; the output may not be the book or the results workbook.
+predictions sheet (``predictions``). The book itself is never written; the output may not be
+the book or the results workbook.
 """
 
 from __future__ import annotations

@@ -71,7 +71,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan)))
     bulk.add_columns(4, 0, cells)
     scoring = result.influence_method or (result.scoring_method() if models else None)
-    if scoring is None or not 0 < d.n_rows <= CHART_MAX_ROWS:
+    if scoring is None or f"Fitted ({scoring})" not in heads or not 0 < d.n_rows <= CHART_MAX_ROWS:
         return
     fitted_col = heads.index(f"Fitted ({scoring})")
     first, last = 4, 3 + d.n_rows

@@ -209,8 +209,8 @@ def write(
     _fast_formulas(ws)
     ws.set_column(0, max(m - 1, 0), 14)
     ws.set_column(pred_col, pred_col, 16)
-    if low_col is not None:
-        ws.set_column(low_col, low_col + 1, 14)
+    if low_col is not None and high_col is not None:
+        ws.set_column(low_col, high_col, 14)
     ws.set_column(check_col, check_col, 22)
     ws.set_column(label_col, label_col, 26)
     if k:
@@ -344,9 +344,9 @@ def write(
     for s_i, s in enumerate(sources):
         text(ws, header, s_i, s, fm.heading)
     text(ws, header, pred_col, model.prediction_label, fm.heading)
-    if low_col is not None:
+    if low_col is not None and high_col is not None:
         text(ws, header, low_col, RANGE_LOW, fm.heading)
-        text(ws, header, low_col + 1, RANGE_HIGH, fm.heading)
+        text(ws, header, high_col, RANGE_HIGH, fm.heading)
     text(ws, header, check_col, "Check", fm.heading)
     text(ws, header, label_col, "(encoded values below)", fm.note)
     for j, enc in enumerate(encs):
@@ -450,7 +450,7 @@ def write(
         if cat_sources:  # a level the model never saw has no coefficient: no prediction
             body = f'IF({check_cell}<>"",IF(ISERROR(SEARCH("unseen",{check_cell})),{body},NA()),{body})'
         ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
-        if low_col is not None and halfwidth is not None:
+        if low_col is not None and high_col is not None and halfwidth is not None:
             p_cell = cell_ref(r, pred_col)
             # back to the linear prediction, then its ends (the ln scale's through EXP)
             linear = f"LN({p_cell}/{smearing_cell})" if model.response_log else p_cell
@@ -459,7 +459,7 @@ def write(
                 if isinstance(pcached, float) and model.response_log and pcached > 0
                 else pcached
             )
-            for c, sign in ((low_col, -1), (low_col + 1, 1)):
+            for c, sign in ((low_col, -1), (high_col, 1)):
                 end = f"{linear}{'-' if sign < 0 else '+'}{halfwidth_cell}"
                 if model.response_log:
                     end = f"EXP({end})"

@@ -43,8 +43,8 @@ class PackageFacts:
     # merged ranges (first row, first column, last row, last column), 0-based inclusive:
     # only the first cell holds the value, the others read as blanks
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)
-    hidden_rows: list[int] = field(default_factory=list)  # 0-based sheet rows hidden in xlsx
-    hidden_cols: list[int] = field(default_factory=list)  # 0-based columns hidden in xlsx
+    hidden_rows: list[int] = field(default_factory=list)  # 0-based sheet rows hidden (xlsx, ods)
+    hidden_cols: list[int] = field(default_factory=list)  # 0-based columns hidden (xlsx, ods)
 
 
 def guard_parts(path: Path) -> None:
@@ -89,6 +89,10 @@ def _contains(zf: zipfile.ZipFile, part: str, needles: tuple[bytes, ...]) -> boo
 
 
 _HIDDEN = (b'hidden="1"', b'hidden="true"', b"hidden='1'", b"hidden='true'")
+# OpenDocument: rows and columns folded away ("collapse") or hidden by a filter
+_ODS_HIDDEN = (b'visibility="collapse"', b'visibility="filter"')
+_ODS_NOT_SHOWN = ("collapse", "filter")
+_MAX_HIDDEN_RUN = 100_000
 
 
 def _scan_xlsx(
@@ -141,50 +145,61 @@ def _scan_xlsx(
     return facts
 
 
-def _scan_ods(zf: zipfile.ZipFile, sheet: str, place: Place) -> PackageFacts:
+def _scan_ods(
+    zf: zipfile.ZipFile, sheet: str, place: Place, hidden_only: bool = False
+) -> PackageFacts:
     facts = PackageFacts()
-    if not _contains(zf, "content.xml", (b'value-type="error"',)):
+    needles = _ODS_HIDDEN if hidden_only else (b'value-type="error"', *_ODS_HIDDEN)
+    if not _contains(zf, "content.xml", needles):
         return facts
     # Walk the sheet's rows counting repeats; the element tree is built per row and cleared.
+    # Columns come first in a table (their widths and visibility), then its rows.
     with zf.open("content.xml") as fh:
-        row = 0
+        row = col_at = 0
         for el in iterparse_xml(fh, "content.xml", place):
             tag = el.tag
-            if tag == f"{_TABLE}table-row":
+            if tag == f"{_TABLE}table-column":
+                repeat = int(el.get(f"{_TABLE}number-columns-repeated", "1"))
+                if el.get(f"{_TABLE}visibility") in _ODS_NOT_SHOWN:
+                    facts.hidden_cols.extend(range(col_at, min(col_at + repeat, 16384)))
+                col_at += repeat
+            elif tag == f"{_TABLE}table-row":
+                repeat = int(el.get(f"{_TABLE}number-rows-repeated", "1"))
+                if el.get(f"{_TABLE}visibility") in _ODS_NOT_SHOWN:
+                    # a run of hidden rows down to the sheet's end is not data: capped
+                    facts.hidden_rows.extend(range(row, row + min(repeat, _MAX_HIDDEN_RUN)))
                 col = 0
-                for cell in el:
+                for cell in el if not hidden_only else ():
                     if cell.tag not in (f"{_TABLE}table-cell", f"{_TABLE}covered-table-cell"):
                         continue
-                    repeat = int(cell.get(f"{_TABLE}number-columns-repeated", "1"))
+                    cols = int(cell.get(f"{_TABLE}number-columns-repeated", "1"))
                     if cell.get(f"{_CALCEXT}value-type") == "error":
                         code = "".join(cell.itertext()).strip() or "#VALUE!"
-                        for k in range(min(repeat, 16384)):
+                        for k in range(min(cols, 16384)):
                             facts.errors[(row, col + k)] = code
-                    col += repeat
-                row += int(el.get(f"{_TABLE}number-rows-repeated", "1"))
+                    col += cols
+                row += repeat
                 el.clear()
             elif tag == f"{_TABLE}table":
                 if el.get(f"{_TABLE}name") == sheet:
                     return facts
                 facts = PackageFacts()
-                row = 0
+                row = col_at = 0
                 el.clear()
     return PackageFacts()
 
 
 def scan_sheet(path: Path, fmt: str, sheet: str, hidden_only: bool = False) -> PackageFacts:
-    """Error cells, formulas saved without a result and (xlsx) merged ranges and hidden rows
-    and columns in one sheet; with ``hidden_only`` just the hidden ones (a quick byte search
-    first: the sheet is parsed only when it has any)."""
+    """Error cells, formulas saved without a result, (xlsx) merged ranges, and (xlsx, ods)
+    hidden rows and columns in one sheet; with ``hidden_only`` just the hidden ones (a quick
+    byte search first: the sheet is parsed only when it has any)."""
     place = Place(file=str(path), sheet=sheet)
     try:
         with zipfile.ZipFile(path) as zf:
             if fmt in ("xlsx", "xlsm"):
                 return _scan_xlsx(zf, sheet, place, hidden_only)
-            if hidden_only:
-                return PackageFacts()
             if fmt == "ods":
-                return _scan_ods(zf, sheet, place)
+                return _scan_ods(zf, sheet, place, hidden_only)
     except (zipfile.BadZipFile, KeyError, OSError) as exc:
         raise InputProblem(
             f"{place.describe()}: the workbook package is damaged ({exc})", place

@@ -328,7 +328,7 @@ def _build_table(
         if fmt != "csv":
             _side_by_side_warning(keep_cols, sheet, warnings)
 
-    if facts_source in ("xlsx", "xlsm"):
+    if facts_source in ("xlsx", "xlsm", "ods"):
         if facts is None:  # no full scan was needed: look for hidden rows and columns only
             facts = scan_sheet(path, facts_source, sheet, hidden_only=True)
         _hidden_warning(facts, d, len(data_rows), width, sheet, warnings)

@@ -229,3 +229,29 @@ def test_libreoffice_copies_of_the_messy_sheet(messy_book, libreoffice_copies, f
             col["notes"] = [n for n in col["notes"] if "error value" not in n]
     assert theirs == ours
     assert _values(copy) == _values(original)
+
+
+@pytest.mark.libreoffice
+def test_hidden_rows_and_columns_are_said_for_an_ods_copy_too(tmp_path):
+    # LibreOffice Calc saves rows and columns hidden in an .xlsx as table:visibility="collapse"
+    # in its .ods copy (OpenDocument 1.2, 19.763): the same warning for both files
+    if soffice() is None:
+        pytest.fail("LibreOffice (soffice) is not installed: the .ods copy cannot be made")
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Runs"
+    ws.append(["y", "a", "b", "c"])
+    for i in range(20):
+        ws.append([float(i), float(i % 3), float(i % 5), float(i % 7)])
+    ws.row_dimensions[6].hidden = True
+    ws.column_dimensions["C"].hidden = True
+    book = tmp_path / "runs.xlsx"
+    wb.save(book)
+    (ods,) = convert([book], "ods", tmp_path / "ods", make_profile(tmp_path))
+
+    def hidden_words(path):
+        return [w for w in read_table(path).warnings if "hidden" in w]
+
+    want = hidden_words(book)
+    assert want and "1 hidden row (6)" in want[0] and "1 hidden column (C)" in want[0]
+    assert hidden_words(ods) == want

@@ -542,6 +542,7 @@ class _MethodRunner:
             choose=spec.choose,
             workers=spec.workers,
             shared=self._cross_products,
+            scheme=spec.scheme,  # named with the curve (window, validation sheet)
         )
         if path is not None:
             curve = cross_validate_path(

@@ -585,6 +585,7 @@ def test_forward_chaining_says_when_its_first_part_learns_from_few_rows(tmp_path
     res = run_study(spec)
     note = next(w for w in res.warnings if w.startswith("time-ordered validation"))
     assert "the first part learns from 12 of the 120 rows" in note
+    assert res.models[0].curve.scheme == "time"  # named with the curve (window, sheet)
     more = run_study(spec.replace(folds=4))
     assert not any(w.startswith("time-ordered validation") for w in more.warnings)
 

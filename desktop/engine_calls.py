@@ -57,7 +57,10 @@ class EngineCalls:
         self, result: Any, *, out: Path | None, in_place: bool, progress: Progress
     ) -> Path:
         from engine.report import write_results
+        from engine.report.safe_write import refuse_to_replace_users_file
 
+        if out is not None:  # the save dialog's "replace?" is easily said yes to: as on the
+            refuse_to_replace_users_file(out)  # command line, only our own outputs are replaced
         return write_results(result, out=out, in_place=in_place, progress=progress)
 
     def score_rows(
@@ -70,8 +73,7 @@ class EngineCalls:
         d = result.design
         said = f"from the study of '{Path(d.source).name}' (sheet '{d.sheet}') in the window"
         return score_rows(
-            book, model, out=out, sheet=sheet, model_from=said, progress=progress,
-            replace_only_ours=False,
+            book, model, out=out, sheet=sheet, model_from=said, progress=progress
         )  # fmt: skip
 
     def load_settings(self, path: Path) -> Any:

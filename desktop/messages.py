@@ -93,6 +93,10 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
     ),
     (r"--folds must", "'Parts (folds)' must"),
     (
+        r"choose another --out \(Tamis replaces only its own earlier outputs\)",
+        "choose another file name (Tamis replaces only workbooks it wrote itself)",
+    ),
+    (
         r"\(--focal-penalty cv\)",
         "('Focal effect penalty' set to 'By validation', under Run settings)",
     ),

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import BinaryIO
 
-from engine.errors import Place, WriteProblem
+from engine.errors import InputProblem, Place, WriteProblem
 
 STEPS = ("written", "verified-temp", "backup", "replaced", "verified", "cleaned")
 
@@ -115,10 +115,11 @@ def tamis_sheets(path: str | Path) -> list[str]:
 
 
 def refuse_to_replace_users_file(path: str | Path, option: str = "--out") -> None:
-    """A command-line output may replace an earlier output of Tamis, never another file."""
+    """An output may replace an earlier output of Tamis, never another file (an input problem:
+    the user chooses another name)."""
     path = Path(path)
     if path.is_file() and not tamis_sheets(path):
-        raise WriteProblem(
+        raise InputProblem(
             f"'{path}' already exists and was not written by Tamis; choose another {option} "
             "(Tamis replaces only its own earlier outputs)",
             Place(file=str(path)),

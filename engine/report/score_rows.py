@@ -87,15 +87,14 @@ def score_rows(
     results_book: str | Path | None = None,
     model_from: str | None = None,
     progress: Progress | None = None,
-    replace_only_ours: bool = True,
 ) -> ScoreOutcome:
     """Predict the rows of ``book`` (sheet ``sheet``, default the first visible) with the
     ``ScoringModel`` ``model`` and write them to ``out`` (default ``default_out(book)``).
 
     ``results_book``: the results workbook the model was read from (never replaced);
     ``model_from``: where the model came from, in words for the predictions sheet (default:
-    that workbook). ``replace_only_ours``: refuse to replace an existing file that Tamis did not
-    write (the command line; the window asks through its save dialog).
+    that workbook). An existing file that Tamis did not write is never replaced (both fronts: the
+    window's save dialog asks "replace?", which is easily said yes to).
     """
     from engine.intake import read_table
     from engine.report.predictions import write_predictions
@@ -117,8 +116,7 @@ def score_rows(
             "another output file",
             Place(file=str(target)),
         )
-    if replace_only_ours:
-        refuse_to_replace_users_file(target)
+    refuse_to_replace_users_file(target)
     if target.suffix.lower() not in (".xlsx", ".xlsm"):
         raise InputProblem(
             f"predictions are written as an .xlsx workbook; the output '{target}' is not one",

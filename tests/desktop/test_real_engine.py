@@ -249,3 +249,27 @@ def test_a_slipped_cell_is_listed_under_rows_to_check(qtbot, store, tmp_path):
     # the actual-against-fitted chart, drawn when its tab is shown, marks and names that row
     view.tabs.setCurrentIndex(view.CHECK_TAB)
     assert view.fit_chart.named == [30]
+
+
+def test_saving_or_predicting_over_a_users_workbook_is_refused(qtbot, store, book, tmp_path):
+    # the save dialog's "replace?" is easily said yes to: a workbook Tamis did not write is
+    # never replaced, by "Save as" or by "Predict new rows"; Tamis's own output is
+    settings = {"methods": ["lasso"], "folds": 5, "n_penalties": 30}
+    w = window_with_a_study(qtbot, store, book, EngineCalls(), settings)
+    theirs = write_book(tmp_path / "assay.xlsx", n=20, seed=3, extra_sheet=False)
+    before = theirs.read_bytes()
+    for start in (lambda: w.save_as(theirs), lambda: w.predict_rows(book, theirs)):
+        assert start()
+        wait_idle(qtbot, w)
+        assert theirs.read_bytes() == before
+        assert w.last_message.tone != "info"
+        text = w.last_message.headline + " " + w.last_message.detail
+        assert "choose another file name" in text and "--out" not in text
+    ours = tmp_path / "results.xlsx"
+    with qtbot.waitSignal(w.saved, timeout=120_000):
+        assert w.save_as(ours)
+    wait_idle(qtbot, w)
+    with qtbot.waitSignal(w.saved, timeout=120_000):
+        assert w.save_as(ours)  # an earlier output of Tamis may be replaced
+    wait_idle(qtbot, w)
+    assert w.last_message.tone == "info", w.last_message

@@ -72,7 +72,6 @@ def test_score_refuses_to_overwrite_the_book(setup):
 
 
 def test_score_never_replaces_the_results_book_or_a_users_file(setup, tmp_path):
-    from engine.errors import WriteProblem
 
     _, results, new = setup
     before = results.read_bytes()
@@ -84,7 +83,7 @@ def test_score_never_replaces_the_results_book_or_a_users_file(setup, tmp_path):
     assert results.read_bytes() == before
     users = tmp_path / "budget.xlsx"
     users.write_bytes(new.read_bytes())  # a workbook of the user's, no sheet of ours
-    with pytest.raises(WriteProblem, match="already exists and was not written by Tamis"):
+    with pytest.raises(InputProblem, match="already exists and was not written by Tamis"):
         score.run(
             SimpleNamespace(book=str(new), results=str(results), sheet=None, out=str(users)),
             _ctx(),

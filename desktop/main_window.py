@@ -58,7 +58,7 @@ from desktop.roles import (
     roles_from_spec,
     settings_from_spec,
 )
-from desktop.settings_panel import SettingsPanel
+from desktop.settings_panel import SCHEME_WORDS, SettingsPanel
 from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
@@ -630,10 +630,28 @@ class MainWindow(QMainWindow):
                 self._header_timer.start()  # busy: try again shortly
 
     # roles, settings and checks ---------------------------------------------------------
-    def _on_roles_changed(self, _roles: dict) -> None:
+    def _on_roles_changed(self, roles: dict) -> None:
+        self._follow_validation_roles(roles)
         self._check()
         self._remember_timer.start()
         self._mark_findings_outdated()
+
+    def _follow_validation_roles(self, roles: dict) -> None:
+        """A time-order or group role asks for the validation that uses it: switch to it from
+        the default shuffled folds (and say so); another choice the user made stays, and the
+        check then names the conflict."""
+        wanted = {Role.TIME_ORDER: "time", Role.GROUP: "grouped"}
+        given = [wanted[r] for r in roles.values() if r in wanted]
+        if len(given) != 1 or self.settings_panel.values()["scheme"] != "kfold":
+            return
+        self.settings_panel.set_values({"scheme": given[0]})
+        self._say(
+            UserMessage(
+                "info",
+                f"Validation set to '{SCHEME_WORDS[given[0]]}', which uses the column's role.",
+                "Change it under Run settings if you meant another validation.",
+            )
+        )
 
     def _on_settings_changed(self) -> None:
         self._check()

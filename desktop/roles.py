@@ -157,6 +157,19 @@ def check_roles(
         problems.append(
             RoleProblem("Time-ordered folds need one column with the role 'time order'.")
         )
+    # a role that the chosen validation would not use is refused, not silently dropped
+    for role, needs, words in (
+        (Role.TIME_ORDER, "time", "Time-ordered blocks"),
+        (Role.GROUP, "grouped", "Folds that keep groups together"),
+    ):
+        for name in by_role[role] if scheme != needs else ():
+            problems.append(
+                RoleProblem(
+                    f"The role '{role.value}' is used by the validation '{words}' only: choose "
+                    "it under Run settings, or set this column to ignore.",
+                    name,
+                )
+            )
     if not methods:
         problems.append(RoleProblem("Tick at least one method under Run settings."))
     return problems

@@ -474,3 +474,24 @@ def test_a_column_missing_from_the_new_rows_is_said_without_marking_the_open_she
     assert not (tmp_path / "out.xlsx").exists()
     row = w.ledger.model.row_of(w.last_message.column)
     assert row >= 0 and not w.ledger.model.problem(w.last_message.column)
+
+
+def test_a_time_order_or_group_role_sets_the_validation_that_uses_it(qtbot, store, book):
+    # from the default shuffled folds the window switches to the validation the role asks for
+    # and says so; with another validation chosen, the check names the conflict instead (the
+    # command line refuses --time-order without --scheme time alike)
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE, "x1": Role.TIME_ORDER})
+    assert w.settings_panel.values()["scheme"] == "time"
+    assert "Time-ordered blocks" in w.last_message.headline
+    assert w.run_action.isEnabled()
+    w.settings_panel.set_values({"scheme": "repeated"})
+    w.settings_panel.changed.emit()
+    assert not w.run_action.isEnabled()
+    check = w.ledger.model.index(w.ledger.model.row_of("x1"), COL_CHECK)
+    assert "used by the validation 'Time-ordered blocks' only" in w.ledger.model.data(check)
+    w.ledger.model.set_roles({"x1": Role.CANDIDATE, "region": Role.GROUP})
+    assert w.settings_panel.values()["scheme"] == "repeated"  # a choice of the user stays
+    check = w.ledger.model.index(w.ledger.model.row_of("region"), COL_CHECK)
+    assert "'Folds that keep groups together' only" in w.ledger.model.data(check)

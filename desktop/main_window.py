@@ -157,6 +157,7 @@ class MainWindow(QMainWindow):
         self.last_message: UserMessage | None = None
         self.problems: list = []
         self._readiness_before = ""
+        self._changed_while_running = False  # roles or settings changed during a task
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
@@ -659,7 +660,10 @@ class MainWindow(QMainWindow):
         self._mark_findings_outdated()
 
     def _mark_findings_outdated(self) -> None:
-        if self.result is not None and not self.runner.busy:
+        if self.runner.busy:
+            # a change while a study runs: the findings it brings are already outdated
+            self._changed_while_running = True
+        elif self.result is not None:
             self.results.set_outdated(True)
 
     def _check(self) -> list:
@@ -832,6 +836,7 @@ class MainWindow(QMainWindow):
 
     # task signals (the one place outcomes arrive) ---------------------------------------
     def _on_task_started(self, label: str) -> None:
+        self._changed_while_running = False
         if label == "run":
             self._readiness_before = self.readiness.text()
             self.readiness.setText(_RUNNING)
@@ -869,6 +874,8 @@ class MainWindow(QMainWindow):
                 return
             self.result = result
             self.results.show_result(self.result)
+            if self._changed_while_running:
+                self.results.set_outdated(True)
             self.pages.setCurrentIndex(PAGE_FINDINGS)
             secs = getattr(value, "seconds", 0.0)
             drag = (
@@ -885,11 +892,18 @@ class MainWindow(QMainWindow):
                     if not found
                     else "The saved results are NOT reproduced: " + "; ".join(found) + ". "
                 )
+            to_check = len(result.far_cells) + len(result.unusual_rows())
+            check = (
+                f"{to_check} {'cell or row stands' if to_check == 1 else 'cells or rows stand'} "
+                "apart from the rest: see 'Rows to check' before relying on the result. "
+                if to_check
+                else ""
+            )
             self._say(
                 UserMessage(
                     "info",
                     f"Study finished in {secs:.1f} s.",
-                    audit + drag + "Read the cautions before acting on the result.",
+                    audit + check + drag + "Read the cautions before acting on the result.",
                 ),
                 ("Read before use", self.show_cautions),
             )

@@ -495,3 +495,21 @@ def test_a_time_order_or_group_role_sets_the_validation_that_uses_it(qtbot, stor
     assert w.settings_panel.values()["scheme"] == "repeated"  # a choice of the user stays
     check = w.ledger.model.index(w.ledger.model.row_of("region"), COL_CHECK)
     assert "'Folds that keep groups together' only" in w.ledger.model.data(check)
+
+
+def test_a_change_made_while_a_study_runs_marks_its_findings_outdated(qtbot, store, book):
+    calls = StandIn(slow_steps=60)  # about a second of work
+    w = make_window(qtbot, store, calls)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        assert w.run_study()
+        qtbot.waitUntil(lambda: w.progress_bar.value() > 10, timeout=10_000)
+        w.ledger.model.set_roles({"x1": Role.IGNORE})  # during the run
+    wait_idle(qtbot, w)
+    assert w.result is not None and w.results.outdated_note.isVisibleTo(w)
+    # a run with no change brings current findings
+    with qtbot.waitSignal(w.study_finished, timeout=60_000):
+        assert w.run_study()
+    wait_idle(qtbot, w)
+    assert not w.results.outdated_note.isVisibleTo(w)

@@ -246,6 +246,7 @@ def test_a_slipped_cell_is_listed_under_rows_to_check(qtbot, store, tmp_path):
     assert row30[4] == pytest.approx(dict(w.result.unusual_rows())[30].studentized)
     assert view.tabs.tabText(view.CHECK_TAB) == f"Rows to check ({len(rows)})"
     assert "least-squares refit" in view.check_note.text()
+    assert "cells or rows stand apart from the rest: see 'Rows to check'" in w.last_message.detail
     # the actual-against-fitted chart, drawn when its tab is shown, marks and names that row
     view.tabs.setCurrentIndex(view.CHECK_TAB)
     assert view.fit_chart.named == [30]

@@ -93,6 +93,10 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
     ),
     (r"--folds must", "'Parts (folds)' must"),
     (
+        r"use in-place writing, or choose another output name",
+        "use 'Save into workbook', or choose another file name",
+    ),
+    (
         r"choose another --out \(Tamis replaces only its own earlier outputs\)",
         "choose another file name (Tamis replaces only workbooks it wrote itself)",
     ),

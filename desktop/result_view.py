@@ -38,7 +38,7 @@ from desktop.charts.fit_chart import FitChart
 from desktop.charts.focal_chart import FocalChart
 from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
-from desktop.messages import as_sentence
+from desktop.messages import as_sentence, window_words
 from desktop.rows_model import RowsModel, fmt
 from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
 from desktop.theme import MUTED, PROBLEM
@@ -695,17 +695,22 @@ class ResultView(QWidget):
             else f"<br>Choosing controls from the response equation alone would give {fmt(f.naive_estimate)}."
         )
         column = escape(f.column)  # a user's heading ("R&D", "<5 km") shown as written
-        controls = escape(", ".join(f.controls)) or "none"
+        controls = escape(", ".join(f.controls))
         # what the engine said about this estimate (few groups for clustered errors ...) belongs
         # beside it, not only among the run's notes
         said = "".join(
-            f"<br><span style='color:{PROBLEM}'>{escape(as_sentence(note))}</span>"
+            f"<br><span style='color:{PROBLEM}'>{escape(as_sentence(window_words(note)))}</span>"
             for note in f.notes
         )
         self.focal_text.setText(
             f"<b>Effect of {column}: {fmt(f.estimate)}</b> (standard error {fmt(f.std_error)}, "
             f"{escape(f.covariance)}); 95% interval {fmt(f.ci_low)} to {fmt(f.ci_high)}.{said}<br>"
-            f"{len(f.controls)} controls: {controls}.{naive}<br>"
+            + (
+                f"{len(f.controls)} control{'' if len(f.controls) == 1 else 's'}: {controls}."
+                if f.controls
+                else "No control was kept."
+            )
+            + f"{naive}<br>"
             f"<span style='color:{MUTED}'>Read this as the effect of {column} only if every "
             "column that drives both it and the response is among the candidates: double "
             "selection chooses controls from them, it cannot supply missing ones. Check the "

@@ -90,6 +90,7 @@ def test_engine_advice_names_the_window_settings_not_command_line_options(qtbot)
         "(raise the limit, --exact-subset-limit, to search exactly; the time can grow quickly)",
         "can make every method look worse (fewer parts, --folds, give the first part more rows)",
         "compare with the cross-validated penalty (--focal-penalty cv)",
+        "to add the sheets to it use in-place writing, or choose another output name",
         "Their natural log (--log COLUMN) often suits such a column better",
         "constant (--missing fill keeps what it says, whether a cell is blank, as a 0/1 indicator",
     ):

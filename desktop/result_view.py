@@ -675,7 +675,10 @@ class ResultView(QWidget):
             self.share_note.setText(
                 f"Columns chosen in at least {s.threshold:.0%} of {s.runs} half-samples: "
                 + (", ".join(s.stable) if s.stable else "none")
-                + "."
+                + ". Each half-sample counts the columns among the first to enter its lasso "
+                "path (about the square root of 0.8 times the number of candidates), so a "
+                "column that enters later, even with a large coefficient, can show a low share: "
+                "a low share is not evidence that a column does not matter."
             )
 
     def _fill_focal(self) -> None:

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 __all__ = ["LogPenaltyAxis", "PlotPanel", "make_plot", "export_plot", "EXPORT_FILTER"]
 
+import html
+import textwrap
 from pathlib import Path
 
 import numpy as np
@@ -17,6 +19,8 @@ from desktop.theme import INK, MUTED
 EXPORT_FILTER = "PNG picture (*.png);;SVG drawing (*.svg)"
 
 pg.setConfigOptions(antialias=True, background="w", foreground=INK)
+
+TITLE_CHARS = 40  # a chart title's longest line in a narrow pane (wider panes take more)
 
 
 class LogPenaltyAxis(pg.AxisItem):
@@ -65,6 +69,17 @@ class PlotPanel(QWidget):
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(self.plot)
+
+    def set_title(self, text: str | None) -> None:
+        """The chart's title, broken into lines of at most TITLE_CHARS characters: a title on
+        one long line widens the plot past its widget and cuts off its right side."""
+        if not text:
+            self.item.setTitle(None)
+            return
+        # about 8 pixels a character at the title's size; never below TITLE_CHARS
+        chars = max(TITLE_CHARS, int(self.width() / 8) - 6)
+        lines = textwrap.wrap(text, chars) or [text]
+        self.item.setTitle("<br>".join(html.escape(line) for line in lines))
 
 
 def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:

@@ -33,7 +33,7 @@ class FitChart(PlotPanel):
         self.item.clear()
         self.named = []
         if actual is None or fitted is None or not len(actual):
-            self.item.setTitle("No fitted values to show")
+            self.set_title("No fitted values to show")
             return
         x = np.asarray(fitted, dtype=float)
         y = np.asarray(actual, dtype=float)
@@ -63,4 +63,4 @@ class FitChart(PlotPanel):
                 label.setPos(float(x[i]), float(y[i]))
                 self.item.addItem(label)
                 self.named.append(int(rows[i]))
-        self.item.setTitle(title)
+        self.set_title(title)

@@ -17,7 +17,7 @@ class FocalChart(PlotPanel):
     def set_focal(self, focal: FocalResult | None) -> None:
         self.item.clear()
         if focal is None:
-            self.item.setTitle("No focal column in this study")
+            self.set_title("No focal column in this study")
             return
         self.item.setLabel("bottom", f"Effect of one unit of {focal.column} on the response")
         rows: list[tuple[str, float, float | None, float | None, str]] = [
@@ -53,4 +53,4 @@ class FocalChart(PlotPanel):
         )
         self.item.getAxis("left").setTicks([ticks])
         self.item.setYRange(-0.8, len(rows) - 0.2, padding=0)
-        self.item.setTitle(f"Estimate and interval ({focal.covariance} standard errors)")
+        self.set_title(f"Estimate and interval ({focal.covariance} standard errors)")

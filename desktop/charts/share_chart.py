@@ -26,14 +26,14 @@ class ShareChart(PlotPanel):
         self.item.clear()
         self.shown = []
         if stab is None or not stab.shares:
-            self.item.setTitle("Stability was not run")
+            self.set_title("Stability was not run")
             return
         # columns never chosen get no bar: a row of empty bars under "most often chosen" reads
         # as if they had been
         chosen = [kv for kv in stab.shares.items() if kv[1] > 0]
         never = len(stab.shares) - len(chosen)
         if not chosen:
-            self.item.setTitle(f"No column was chosen in any of the {stab.runs} half-samples")
+            self.set_title(f"No column was chosen in any of the {stab.runs} half-samples")
             return
         ranked = sorted(chosen, key=lambda kv: (-kv[1], kv[0]))[:_SHOWN]
         self.shown = [n for n, _ in ranked]
@@ -61,6 +61,6 @@ class ShareChart(PlotPanel):
             title = f"the {n} columns ever chosen" if n > 1 else "the one column ever chosen"
         if never:
             title += f" ({never} never)"
-        self.item.setTitle(f"{stab.runs} half-samples; {title}")
+        self.set_title(f"{stab.runs} half-samples; {title}")
         self.item.setXRange(0, 1.02, padding=0)
         self.item.setYRange(-0.7, n - 0.3, padding=0)

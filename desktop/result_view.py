@@ -56,6 +56,10 @@ def cursor_rows(path: PenaltyPath, names: list[str], i: int) -> list[list[object
     return [[names[j], float(orig[j]), float(std[j])] for j in nz]
 
 
+def _columns(n: int) -> str:
+    return f"{n} column" + ("" if n == 1 else "s")
+
+
 def _table(model: RowsModel) -> QTableView:
     v = QTableView()
     v.setModel(model)
@@ -546,8 +550,9 @@ class ResultView(QWidget):
             scheme = SCHEME_WORDS.get(c.scheme, c.scheme)
             self.curve_note.setText(
                 f"{scheme}, {c.parts} held-out parts. Lowest error: {fmt(float(c.mean_error[c.index_min]))} "
-                f"with {int(c.n_selected[c.index_min])} columns; simplest within one standard error: "
-                f"{fmt(float(c.mean_error[c.index_one_se]))} with {int(c.n_selected[c.index_one_se])} columns."
+                f"with {_columns(int(c.n_selected[c.index_min]))}; simplest within one standard "
+                f"error: {fmt(float(c.mean_error[c.index_one_se]))} with "
+                f"{_columns(int(c.n_selected[c.index_one_se]))}."
                 + (f" Chosen by: {CHOICE_WORDS[rule].lower()}." if rule else "")
             )
         else:
@@ -578,7 +583,7 @@ class ResultView(QWidget):
         self.coef_model.set_rows(rows)
         chosen = " (the chosen point)" if i == self._chosen_index(m) else ""
         self.readout.setText(
-            f"<b>{len(rows)} columns selected</b>{chosen}<br>"
+            f"<b>{_columns(len(rows))} selected</b>{chosen}<br>"
             f"penalty {fmt(float(path.penalties[i]))} · budget t {fmt(float(path.l1_budget[i]))} · "
             f"point {i + 1} of {len(path)}"
         )

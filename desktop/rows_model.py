@@ -14,7 +14,8 @@ _DISPLAY = Qt.ItemDataRole.DisplayRole
 
 
 def fmt(v: Any) -> str:
-    """Numbers to 4 significant digits, None/NaN to a dash."""
+    """Numbers to 4 significant digits (whole numbers with separators from 10,000 on), None/NaN
+    to a dash."""
     if v is None:
         return "–"
     if isinstance(v, bool):
@@ -24,6 +25,8 @@ def fmt(v: Any) -> str:
     if isinstance(v, float):
         if math.isnan(v) or math.isinf(v):
             return "–"
+        if 1e4 <= abs(v) < 1e15:  # errors in a sheet's own units: 48,620 rather than 4.862e+04
+            return f"{v:,.0f}"
         return f"{v:.4g}"
     return str(v)
 

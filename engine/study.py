@@ -458,7 +458,8 @@ class _MethodRunner:
             coefficients={nm: float(b) for nm, b in zip(d.names, coef)},
             std_coefficients={nm: float(b * s) for nm, b, s in zip(d.names, coef, d.sds)},
             selected=selected,
-            r2=1.0 - rss / tss if tss > 0 else None,
+            # with no column kept the fit is the mean: R squared is 0, not the rounding left over
+            r2=(1.0 - rss / tss if selected else 0.0) if tss > 0 else None,
             cv_r2=cv_r2,
             fitted=fitted,
             smearing=smearing,

@@ -64,6 +64,7 @@ from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
 from engine.intake.workbook import SUPPORTED_SUFFIXES
+from engine.methods import method_info
 from engine.report.reproduce import differences
 from engine.report.score_rows import ScoreOutcome, default_out
 from engine.study_result import StudyResult
@@ -923,7 +924,8 @@ class MainWindow(QMainWindow):
             self._say(
                 UserMessage(
                     "info",
-                    f"Predicted {done.scored:,} of {done.rows:,} rows with '{done.method}'; "
+                    f"Predicted {done.scored:,} of {done.rows:,} rows with "
+                    f"{method_info(done.method).title}; "
                     f"written to {done.out.name}."
                     + (f" {done.range_note[0].upper()}{done.range_note[1:]}." if done.range_note else ""),
                     " ".join([*(c[0].upper() + c[1:] + "." for c in cautions),

@@ -504,8 +504,12 @@ class ResultView(QWidget):
         self._draw_visible_tab()
         notes = list(result.warnings) + list(d.warnings)
         notes += [f"Column '{c}' left out: {why}" for c, why in d.dropped_columns.items()]
-        for m in result.models:
-            notes += [f"{method_info(m.method).title}: {n}" for n in m.notes]
+        for m in result.models:  # a method's note also raised as a warning is said once
+            notes += [
+                f"{method_info(m.method).title}: {n}"
+                for n in m.notes
+                if not any(w.endswith(n) for w in notes)
+            ]
         self.cautions.setHtml(cautions_html(list(dict.fromkeys(notes))))
         self._on_method()
 

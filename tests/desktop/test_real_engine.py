@@ -147,7 +147,7 @@ def test_predict_new_rows_from_the_window_matches_the_engine(qtbot, store, book,
     wait_idle(qtbot, w)
     assert new.read_bytes() == before
     assert w.last_message.tone == "info", w.last_message
-    assert "Predicted 30 of 30 rows with 'lasso'" in w.last_message.headline
+    assert "Predicted 30 of 30 rows with Lasso" in w.last_message.headline
     assert "Each prediction has a 95% range of ±" in w.last_message.headline
     ws = load_workbook(out, read_only=True)["TM Predictions"]
     head = next(ws.iter_rows(min_row=4, max_row=4, values_only=True))

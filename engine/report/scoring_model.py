@@ -285,6 +285,7 @@ class ScoringModel:
 
     def _linear_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
         """The linear predictor (ln scale for a logged response) and the notes of each row."""
+        self.check_columns(table)
         n = table.n_rows
         X = np.empty((n, len(self.encodings)))
         missing_in: list[list[str]] = [[] for _ in range(n)]
@@ -378,12 +379,9 @@ class ScoringModel:
         return ["extrapolation: " + "; ".join(o) if o else "" for o in out]
 
     def _find_column(self, table, source: str):
-        for c in table.columns:
-            if c.name == source:
-                return c
-        for c in table.columns:
-            if c.heading.strip().lower() == source.strip().lower():
-                return c
+        found = self._column_or_none(table, source)
+        if found is not None:
+            return found
         names = [c.name for c in table.columns]
         close = difflib.get_close_matches(source, names, n=3, cutoff=0.6)
         hint = f"; close matches: {', '.join(repr(c) for c in close)}" if close else ""
@@ -392,6 +390,35 @@ class ScoringModel:
             f"(header row {table.header_row}){hint}; rename the heading to '{source}' or add the column",
             Place(file=str(table.source), sheet=table.sheet, column=source),
         )
+
+    def _column_or_none(self, table, source: str):
+        """The new rows' column for ``source``: by name, by heading, or, for a name that
+        carries its unit from a units row ("temp (°C)"), by the name without it ("temp")."""
+        for c in table.columns:
+            if c.name == source:
+                return c
+        wanted = {source.strip().lower()}
+        if source.endswith(")") and " (" in source:
+            wanted.add(source[: source.rindex(" (")].strip().lower())
+        for key in (source.strip().lower(), *sorted(wanted - {source.strip().lower()})):
+            hits = [c for c in table.columns if key in (c.heading.strip().lower(), c.name.lower())]
+            if len(hits) == 1:
+                return hits[0]
+        return None
+
+    def check_columns(self, table) -> None:
+        """Refuse new rows that lack columns the model uses, naming every one of them."""
+        missing = [s for s in self.sources if self._column_or_none(table, s) is None]
+        if len(missing) > 1:
+            raise InputProblem(
+                f"the model needs {len(missing)} columns that are not in sheet '{table.sheet}' "
+                f"(header row {table.header_row}): "
+                + ", ".join(f"'{s}'" for s in missing)
+                + "; rename the headings to those names or add the columns",
+                Place(file=str(table.source), sheet=table.sheet, column=missing[0]),
+            )
+        if missing:
+            self._find_column(table, missing[0])  # one column: with close matches named
 
     def _encode(self, enc: Encoding, col, table) -> np.ndarray:
         from engine.intake.table import ColumnKind

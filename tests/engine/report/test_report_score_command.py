@@ -14,7 +14,7 @@ from study_fixture import make_result, simulate_rows, write_rows
 from engine.commands import score
 from engine.errors import InputProblem
 from engine.intake import read_table
-from engine.report import load_scoring_model, write_results
+from engine.report import ScoringModel, load_scoring_model, write_results
 
 
 def _ctx():
@@ -298,3 +298,40 @@ def test_a_filled_cell_is_said_in_the_note_and_the_report(tmp_path):
     said = f"filled: 'dose' had no usable value, {fill:.6g} was put in"
     assert notes == [None, said, said]
     assert "2 rows were predicted with an empty or unreadable cell filled" in ctx.stderr.getvalue()
+
+
+def test_new_rows_without_the_units_row_and_missing_columns_named_at_once(tmp_path):
+    # the study's sheet had a units row ("temp (°C)"); new rows typed with the plain headings
+    # are matched; a sheet lacking two of the model's columns is refused naming both
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(1)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["temp", "press", "y"])
+    ws.append(["°C", "kPa", "g"])
+    for _ in range(50):
+        t, p = rng.normal(size=2)
+        ws.append([80 + 5 * t, 101 + 3 * p, 10 + t + p + rng.normal(0, 0.2)])
+    data = tmp_path / "runs.xlsx"
+    wb.save(data)
+    res = run_study(StudySpec(source=str(data), response="y", methods=("ols",), folds=5))
+    model = ScoringModel.from_result(res)
+    assert model.sources == ["temp (°C)", "press (kPa)"]
+    plain = openpyxl.Workbook()
+    plain.active.append(["temp", "press"])
+    plain.active.append([82.0, 99.5])
+    book = tmp_path / "plain.xlsx"
+    plain.save(book)
+    got = model.predict(read_table(book))
+    m = res.models[0]
+    want = m.intercept + m.coefficients["temp (°C)"] * 82.0 + m.coefficients["press (kPa)"] * 99.5
+    assert got[0] == pytest.approx(want, rel=1e-12)
+    other = openpyxl.Workbook()
+    other.active.append(["humidity", "speed"])
+    other.active.append([0.4, 3.0])
+    wrong = tmp_path / "other.xlsx"
+    other.save(wrong)
+    with pytest.raises(InputProblem, match=r"needs 2 columns .*'temp \(°C\)', 'press \(kPa\)'"):
+        model.predict(read_table(wrong))

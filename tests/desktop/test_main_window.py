@@ -470,7 +470,7 @@ def test_a_column_missing_from_the_new_rows_is_said_without_marking_the_open_she
     assert w.predict_rows(new, tmp_path / "out.xlsx")
     wait_idle(qtbot, w)
     assert w.last_message.tone == "problem"
-    assert "needs column" in w.last_message.headline + w.last_message.detail
+    assert "the model needs" in (w.last_message.headline + w.last_message.detail).lower()
     assert not (tmp_path / "out.xlsx").exists()
     row = w.ledger.model.row_of(w.last_message.column)
     assert row >= 0 and not w.ledger.model.problem(w.last_message.column)

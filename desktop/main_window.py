@@ -838,6 +838,7 @@ class MainWindow(QMainWindow):
     # task signals (the one place outcomes arrive) ---------------------------------------
     def _on_task_started(self, label: str) -> None:
         self._changed_while_running = False
+        self.message.hide()  # the last task's outcome is not this one's
         if label == "run":
             self._readiness_before = self.readiness.text()
             self.readiness.setText(_RUNNING)

@@ -350,6 +350,7 @@ class ResultView(QWidget):
             ],
         )
         self.check_view = _table(self.check_model)
+        self.check_view.selectionModel().currentRowChanged.connect(self._on_check_row)
         self.check_note = QLabel("")
         self.check_note.setWordWrap(True)
         self.fit_chart = FitChart()
@@ -410,6 +411,21 @@ class ResultView(QWidget):
             + refit
             + " The fitted-values sheet of the written workbook has the measures for every row."
         )
+
+    def _on_check_row(self, current, _previous=None) -> None:
+        """The picked cell's or row's point is ringed on the chart beside the list."""
+        if self.result is None or not current.isValid():
+            self.fit_chart.mark_row(None)
+            return
+        where = str(self.check_model.rows[current.row()][0])
+        far = {f.cell: f.row for f in self.result.far_cells}
+        row = far.get(where) if where in far else int(where.removeprefix("row "))
+        self._fill_fit_chart_if_stale()
+        self.fit_chart.mark_row(row)
+
+    def _fill_fit_chart_if_stale(self) -> None:
+        if self._stale.pop(self.CHECK_TAB, None) is not None:
+            self._fill_fit_chart()
 
     def _fill_fit_chart(self) -> None:
         r = self.result

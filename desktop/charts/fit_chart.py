@@ -10,7 +10,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QWidget
 
 from desktop.charts.common import PlotPanel
-from desktop.theme import MUTED, PROBLEM, SERIES
+from desktop.theme import ACCENT, MUTED, PROBLEM, SERIES
 
 _NAMED = 10  # flagged rows labelled on the chart; the table lists them all
 
@@ -19,6 +19,9 @@ class FitChart(PlotPanel):
     def __init__(self, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.named: list[int] = []  # sheet rows labelled on the chart
+        self.marked: int | None = None  # the sheet row picked in the list beside the chart
+        self._points: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+        self._mark = pg.ScatterPlotItem(size=18, pen=pg.mkPen(ACCENT, width=2.5), brush=None)
 
     def set_fit(
         self,
@@ -32,6 +35,8 @@ class FitChart(PlotPanel):
         """Points (fitted, actual); ``flagged``: sheet rows (among ``rows``) to mark and name."""
         self.item.clear()
         self.named = []
+        self.marked = None
+        self._points = None
         if actual is None or fitted is None or not len(actual):
             self.set_title("No fitted values to show")
             return
@@ -50,6 +55,10 @@ class FitChart(PlotPanel):
         self.item.addItem(
             pg.ScatterPlotItem(x, y, size=5, pen=None, brush=pg.mkBrush(SERIES[0] + "90"))
         )
+        if rows is not None:
+            self._points = (np.asarray(rows), x, y)
+        self._mark.setData([], [])
+        self.item.addItem(self._mark)
         marks = set(flagged or [])
         if marks and rows is not None:
             where = [i for i, r in enumerate(np.asarray(rows)) if int(r) in marks]
@@ -64,3 +73,15 @@ class FitChart(PlotPanel):
                 self.item.addItem(label)
                 self.named.append(int(rows[i]))
         self.set_title(title)
+
+    def mark_row(self, row: int | None) -> None:
+        """Ring the point of one sheet row (the row picked in the list), or none."""
+        self.marked = None
+        self._mark.setData([], [])
+        if row is None or self._points is None:
+            return
+        rows, x, y = self._points
+        where = np.flatnonzero(rows == row)
+        if where.size:
+            self._mark.setData(x[where], y[where])
+            self.marked = row

@@ -250,6 +250,10 @@ def test_a_slipped_cell_is_listed_under_rows_to_check(qtbot, store, tmp_path):
     # the actual-against-fitted chart, drawn when its tab is shown, marks and names that row
     view.tabs.setCurrentIndex(view.CHECK_TAB)
     assert view.fit_chart.named == [30]
+    # picking a line of the list rings its point: the far-out cell B30 and the row are one point
+    for line, want in ((0, 30), (rows.index(row30), 30)):
+        view.check_view.setCurrentIndex(view.check_model.index(line, 0))
+        assert view.fit_chart.marked == want
 
 
 def test_saving_or_predicting_over_a_users_workbook_is_refused(qtbot, store, book, tmp_path):

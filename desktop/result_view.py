@@ -289,9 +289,11 @@ class ResultView(QWidget):
         self.sizes_box.setToolTip("Subset methods report the best set of each size.")
         self.sizes_box.currentIndexChanged.connect(self._fill_sizes)
         self.sizes_model = RowsModel(
-            ["Size", "R squared", "Residual sum of squares", "BIC", "Columns"],
+            ["Size", "Held-out error", "R squared", "Residual sum of squares", "BIC", "Columns"],
             [
                 "Number of columns in the set.",
+                "Mean squared error on held-out rows for sets of this size (cross-validation: "
+                "the size is chosen by it).",
                 "In-sample share of variation explained.",
                 "",
                 "Bayesian information criterion (lower is better).",
@@ -669,11 +671,18 @@ class ResultView(QWidget):
             return
         m = self.result.model(self.sizes_box.currentData())
         chosen = len(m.selected)
+        held_out: dict[int, float] = {}
+        if m.curve is not None and m.curve.grid_kind != "penalty":
+            held_out = {int(k): float(e) for k, e in zip(m.curve.grid, m.curve.mean_error)}
         self.sizes_model.set_rows(
-            [[r.size, r.r2, r.rss, r.bic, ", ".join(r.columns)] for r in m.by_size or []]
+            [
+                [r.size, held_out.get(r.size), r.r2, r.rss, r.bic, ", ".join(r.columns)]
+                for r in m.by_size or []
+            ]
         )
         self.sizes_note.setText(
             f"The chosen size is {chosen}."
+            + (" No set predicted held-out rows better than the mean alone." if chosen == 0 else "")
             + (
                 " Found by an approximate search (too many columns for an exact one)."
                 if m.approximate

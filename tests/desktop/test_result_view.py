@@ -6,7 +6,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from conftest import simulated_result
+from conftest import simulated_result, write_book
 from PySide6.QtCore import Qt
 
 from desktop.charts.common import export_plot
@@ -244,3 +244,27 @@ def test_notes_on_the_focal_estimate_are_shown_beside_it(qtbot):
     v.show_result(result)
     v.tabs.setCurrentIndex(v.FOCAL_TAB)
     assert "The standard error allows for errors moving together" in v.focal_text.text()
+
+
+def test_sizes_show_the_held_out_error_that_chose_the_size(qtbot, tmp_path):
+    # a real forward-stepwise study: each size's held-out error sits beside its set, so the
+    # choice can be checked against the table
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    book = write_book(tmp_path / "lots.xlsx", n=60, p=6)
+    spec = StudySpec(
+        source=str(book), response="response_y", methods=("forward-stepwise",), folds=5
+    )
+    v = ResultView()
+    qtbot.addWidget(v)
+    v.show_result(run_study(spec))
+    m = v.result.models[0]
+    errors = dict(zip(m.curve.grid.astype(int), m.curve.mean_error))
+    assert v.sizes_model.rows and all(
+        row[1] == pytest.approx(errors[row[0]]) for row in v.sizes_model.rows
+    )
+    chosen = len(m.selected)
+    assert f"The chosen size is {chosen}." in v.sizes_note.text()
+    best = min(errors, key=errors.get)
+    assert chosen == best  # rule "min": the smallest held-out error

@@ -321,7 +321,8 @@ class ResultView(QWidget):
         lay = QVBoxLayout(w)
         bar = QHBoxLayout()
         bar.addWidget(self.share_note, 1)
-        bar.addWidget(_export_button(self, self.share_chart, "tamis-stability"))
+        self.share_export = _export_button(self, self.share_chart, "tamis-stability")
+        bar.addWidget(self.share_export)
         lay.addLayout(bar)
         lay.addWidget(self.share_chart, 1)
         return w
@@ -448,13 +449,12 @@ class ResultView(QWidget):
         self.focal_text.setWordWrap(True)
         self.focal_text.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.focal_chart = FocalChart()
+        self.focal_export = _export_button(self, self.focal_chart, "tamis-focal")
         w = QWidget()
         lay = QVBoxLayout(w)
         bar = QHBoxLayout()
         bar.addWidget(self.focal_text, 1)
-        bar.addWidget(
-            _export_button(self, self.focal_chart, "tamis-focal"), 0, Qt.AlignmentFlag.AlignTop
-        )
+        bar.addWidget(self.focal_export, 0, Qt.AlignmentFlag.AlignTop)
         lay.addLayout(bar)
         lay.addWidget(self.focal_chart, 1)
         return w
@@ -700,6 +700,7 @@ class ResultView(QWidget):
         s = self.result.stability
         self.share_chart.set_stability(s)
         self.share_chart.setVisible(s is not None)  # no empty axes when there is nothing
+        self.share_export.setEnabled(s is not None)
         if s is None:
             self.share_note.setText(
                 "Stability was not run. Set 'Stability half-samples' in Run settings to see "
@@ -720,6 +721,7 @@ class ResultView(QWidget):
         f = self.result.focal
         self.focal_chart.set_focal(f)
         self.focal_chart.setVisible(f is not None)
+        self.focal_export.setEnabled(f is not None)
         if f is None:
             self.focal_text.setText(
                 "No focal column. Give one column the role 'focal' to estimate its own effect "

@@ -166,7 +166,8 @@ class ResultView(QWidget):
         bar.addWidget(self.axis_box)
         bar.addStretch(1)
         bar.addWidget(self.back_button)
-        bar.addWidget(_export_button(self, self.path_chart, "tamis-path"))
+        self.path_export = _export_button(self, self.path_chart, "tamis-path")
+        bar.addWidget(self.path_export)
 
         self.readout = QLabel("")
         self.readout.setWordWrap(True)
@@ -191,7 +192,9 @@ class ResultView(QWidget):
         self.coef_view.clicked.connect(
             lambda idx: self.highlight(self.coef_model.rows[idx.row()][0])
         )
-        hint = QLabel("Drag the blue line across the chart. Click a row to pick out its line.")
+        hint = self.path_hint = QLabel(
+            "Drag the blue line across the chart. Click a row to pick out its line."
+        )
         hint.setObjectName("caption")
         hint.setWordWrap(True)
         side = QWidget()
@@ -545,6 +548,8 @@ class ResultView(QWidget):
         chosen = self._chosen_index(m)
         self.path_chart.set_path(m.path, names, chosen)
         self.back_button.setEnabled(m.path is not None)
+        self.path_export.setEnabled(m.path is not None)
+        self.path_hint.setVisible(m.path is not None)
         if m.path is None:
             self.coef_model.set_rows(
                 sorted(

@@ -55,7 +55,7 @@ class RowsModel(QAbstractTableModel):
         v = self.rows[index.row()][index.column()]
         if role == _DISPLAY:
             return fmt(v)
-        if role == Qt.ItemDataRole.ToolTipRole and isinstance(v, str) and len(v) > 40:
+        if role == Qt.ItemDataRole.ToolTipRole and isinstance(v, str) and len(v) > 16:
             return v
         if role == Qt.ItemDataRole.UserRole:
             return v

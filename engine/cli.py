@@ -240,6 +240,12 @@ def build_parser() -> argparse.ArgumentParser:
     sc.add_argument(
         "--out", metavar="PATH", help="where to write the predictions (default: BOOK-scored.xlsx)"
     )
+    sc.add_argument(
+        "--json",
+        action="store_true",
+        help="print one JSON document: where the predictions went, rows scored, the range's "
+        "half-width and the cautions",
+    )
 
     d = sub.add_parser("demo", help="write the demo workbook and run the default analysis on it")
     d.add_argument(

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import io
+import json
 from pathlib import Path
 from types import SimpleNamespace
 
@@ -112,6 +113,15 @@ def test_score_through_the_command_line(setup, tmp_path):
     code = main(["score", str(new), "--results", str(results), "--out", str(out)], ctx)
     assert code == 0, ctx.stderr.getvalue()
     assert Path(out).exists()
+    # --json: one document on stdout, the human lines on stderr
+    ctx = Context(stdout=io.StringIO(), stderr=io.StringIO(), config_dir=tmp_path)
+    argv = ["score", str(new), "--results", str(results), "--out", str(out), "--json"]
+    assert main(argv, ctx) == 0, ctx.stderr.getvalue()
+    doc = json.loads(ctx.stdout.getvalue())
+    model = load_scoring_model(results)
+    assert doc["output"] == str(out) and doc["rows"] == doc["scored"] == 30
+    assert doc["range_halfwidth"] == pytest.approx(1.959963984540054 * np.sqrt(model.cv_error))
+    assert "scored 30 of 30" in ctx.stderr.getvalue()
 
 
 def test_rows_beyond_the_fitted_range_are_scored_with_an_extrapolation_caution(setup, tmp_path):

@@ -655,6 +655,14 @@ def _ragged_warning(rows: list[list], field_counts: list[int], h: int, warnings:
             )
 
 
+def _sheet_ref(sheet: str) -> str:
+    """A sheet's name as a cell reference writes it: quoted, quotes doubled, when it holds
+    anything but letters, digits and underscores ('Lab ''QC'' data'!D4, Data!D4)."""
+    if sheet.replace("_", "").isalnum():
+        return sheet
+    return "'" + sheet.replace("'", "''") + "'"
+
+
 def _hidden_warning(
     facts: PackageFacts, h: int, n_rows: int, n_cols: int, sheet: str, warnings: list[str]
 ) -> None:
@@ -716,7 +724,9 @@ def _apply_facts(
             empty[i, c] = False
     if facts.uncached:
         cells = sorted(facts.uncached)
-        named = _listed([f"{sheet}!{cell_name(column_letter(c), r + 1)}" for r, c in cells])
+        named = _listed(
+            [f"{_sheet_ref(sheet)}!{cell_name(column_letter(c), r + 1)}" for r, c in cells]
+        )
         warnings.append(
             f"{len(cells)} formula cell{'s' if len(cells) > 1 else ''} in sheet '{sheet}' "
             f"{'have' if len(cells) > 1 else 'has'} no stored result ({named}); the file was "

@@ -695,3 +695,19 @@ def test_numbers_with_their_unit_are_among_the_sheet_warnings(tmp_path):
         w.startswith("column 'weight' (B): 12 numbers written with the unit 'kg'")
         for w in table.warnings
     )
+
+
+def test_cells_of_a_sheet_with_a_quote_in_its_name_are_named_as_references(tmp_path):
+    # a formula saved without its result (openpyxl keeps none) is named by its cell, written
+    # as a reference is: the sheet's name quoted, its own quote doubled
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Lab 'QC' data"
+    ws.append(["y", "x", "z"])
+    for i in range(12):
+        ws.append([float(i), float(i % 4), f"=A{i + 2}*2"])
+    path = tmp_path / "qc.xlsx"
+    wb.save(path)
+    table = read_table(path)
+    note = next(w for w in table.warnings if "no stored result" in w)
+    assert "'Lab ''QC'' data'!C2" in note

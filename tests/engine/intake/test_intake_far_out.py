@@ -29,7 +29,7 @@ def test_a_slipped_decimal_point_is_named_by_cell(tmp_path):
     col = next(c for c in table.columns if c.name == "weight_g")
     note = next(n for n in col.notes if "far outside" in n)
     assert note.startswith("1 value far outside the rest")
-    assert "B42 " in note  # data row 41 is sheet row 42 (headings on row 1)
+    assert "B42 (" in note  # data row 41 is sheet row 42 (headings on row 1)
 
 
 def test_a_long_right_tail_of_true_values_is_not_named(tmp_path):

@@ -373,7 +373,8 @@ def _build_table(
             far = far_values(col.values)
             if len(far):
                 named = ", ".join(
-                    f"{cell_name(letter, int(row_numbers[i]))} ({col.values[i]:.6g})" for i in far[:3]
+                    f"{cell_name(letter, int(row_numbers[i]))} ({col.values[i]:.6g})"
+                    for i in far[:3]
                 )
                 col.notes.append(
                     f"{len(far)} value{'s' if len(far) > 1 else ''} far outside the rest of the "

@@ -671,9 +671,10 @@ class _MethodRunner:
             ratio=self._ratio(),
             progress=progress.part(0.0, 0.15, "path on all rows"),
         )
+        power = "" if spec.adaptive_gamma == 1 else f"^{spec.adaptive_gamma:g}"
         note = (
-            f"weights 1/|b|^{spec.adaptive_gamma:g} from a first {al.init_used} fit, "
-            "recomputed inside each validation part"
+            f"each column's penalty weighted by 1/|b|{power}, b its coefficient in a first "
+            f"{al.init_used} fit (recomputed inside each validation part)"
         )
         return self._penalized(
             "adaptive-lasso",

@@ -92,8 +92,10 @@ def _column_tooltip(col: Column) -> str:
     return "\n".join(lines)
 
 
-LEDGER_HEADINGS = ("Column", "Cell", "Kind", "Missing", "Role", "Log", "Check")
-COL_NAME, COL_LETTER, COL_KIND, COL_MISSING, COL_ROLE, COL_LOG, COL_CHECK = range(7)
+# the role next to the name: on a narrow screen the columns after it may need a scroll, the
+# role (what the user sets) may not
+LEDGER_HEADINGS = ("Column", "Role", "Log", "Cell", "Kind", "Missing", "Check")
+COL_NAME, COL_ROLE, COL_LOG, COL_LETTER, COL_KIND, COL_MISSING, COL_CHECK = range(7)
 
 LOG_HELP = (
     "Tick to use the natural log of this number column (every value must be above 0). Suits "

@@ -20,7 +20,7 @@ from PySide6.QtGui import QDropEvent, QKeySequence
 from desktop.engine_calls import EngineCalls
 from desktop.main_window import PAGE_FINDINGS, MainWindow
 from desktop.roles import Role
-from desktop.table_models import COL_CHECK
+from desktop.table_models import COL_CHECK, COL_KIND
 from engine.errors import InputProblem, Place
 
 
@@ -111,7 +111,7 @@ def test_empty_state_then_open_a_workbook(qtbot, store, book):
     assert str(book.resolve()) == store.recent()[0]
     # kinds as intake detected them are shown on the column rows
     m = w.ledger.model
-    kinds = {m.name_at(r): m.data(m.index(r, 2)) for r in range(m.rowCount())}
+    kinds = {m.name_at(r): m.data(m.index(r, COL_KIND)) for r in range(m.rowCount())}
     assert (
         kinds["lot_id"] == "identifier"
         and kinds["region"] == "category"

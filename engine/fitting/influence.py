@@ -42,12 +42,7 @@ class UnusualRow:
     influential: bool
 
     def reasons(self) -> list[str]:
-        out = []
-        if self.outlier:
-            out.append("outlier")
-        if self.influential:
-            out.append("influential")
-        return out
+        return [w for w, on in (("outlier", self.outlier), ("influential", self.influential)) if on]
 
 
 @dataclass(frozen=True)
@@ -63,8 +58,7 @@ class Influence:
 
     def unusual(self) -> list[UnusualRow]:
         """Flagged rows, the most extreme first (outliers by |t|, then by Cook's distance)."""
-        outlier = self.outlier_p < OUTLIER_LEVEL
-        influential = self.cooks > self.cooks_limit
+        outlier, influential = self._masks()
         idx = np.flatnonzero(outlier | influential)
         rows = [
             UnusualRow(
@@ -83,13 +77,15 @@ class Influence:
 
     def flags(self) -> list[str]:
         """One word list per row ("outlier", "influential", both or empty), for a sheet column."""
-        outlier = self.outlier_p < OUTLIER_LEVEL
-        influential = self.cooks > self.cooks_limit
-        words = np.full(len(self.cooks), "", dtype=object)
-        words[outlier & ~influential] = "outlier"
-        words[influential & ~outlier] = "influential"
-        words[outlier & influential] = "outlier, influential"
-        return list(words)
+        outlier, influential = self._masks()
+        return [
+            ", ".join(w for w, on in (("outlier", o), ("influential", i)) if on)
+            for o, i in zip(outlier.tolist(), influential.tolist())
+        ]
+
+    def _masks(self) -> tuple[np.ndarray, np.ndarray]:
+        """(outlier, influential) per row, by the module's two rules (NaN counts as neither)."""
+        return self.outlier_p < OUTLIER_LEVEL, self.cooks > self.cooks_limit
 
 
 def influence(X: np.ndarray, y: np.ndarray) -> Influence | None:

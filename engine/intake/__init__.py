@@ -19,6 +19,7 @@ Modules
 -------
 ``workbook``    open a workbook with python-calamine; file-kind sniffing and failure messages
 ``package``     what the sheet XML tells beyond cell values: error cells, formulas without results
+``biff``        the same facts from the records of a binary .xls sheet
 ``delimited``   CSV: encoding, delimiter and decimal-mark sniffing
 ``header``      heading-row detection
 ``cells``       meaning of single cells: flag tokens, error values, numbers written as text

@@ -4,12 +4,11 @@ python-calamine returns an error cell (#N/A, #DIV/0! ...) and a formula cell tha
 without its result both as an empty cell. To count errors and to warn about formulas nobody
 calculated, the sheet's own XML is read here, with defusedxml (see engine.xmlsafe). The scan
 only runs when the sheet has empty cells where such cells could hide, and a quick byte search
-skips the parse when the XML holds no formula and no error at all.
+skips the parse when the XML holds no formula and no error at all. The binary .xls format
+(no XML) is read for the same facts by engine.intake.biff; formulas there always carry
+their result.
 
 Positions are 0-based (row, column) pairs.
-
-Limitation: the binary .xls format is not parsed here, so in an .xls file an error cell
-counts as missing but not as an error (and formulas there always carry a result).
 """
 
 from __future__ import annotations
@@ -23,6 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from engine.errors import InputProblem, Place
+from engine.intake.biff import XlsUnreadable, scan_xls_sheet
 from engine.intake.cells import column_index
 from engine.xmlsafe import check_prolog, iterparse_xml, parse_xml
 
@@ -194,6 +194,8 @@ def scan_sheet(path: Path, fmt: str, sheet: str, hidden_only: bool = False) -> P
     hidden rows and columns in one sheet; with ``hidden_only`` just the hidden ones (a quick
     byte search first: the sheet is parsed only when it has any)."""
     place = Place(file=str(path), sheet=sheet)
+    if fmt == "xls":
+        return _scan_xls(path, sheet, place, hidden_only)
     try:
         with zipfile.ZipFile(path) as zf:
             if fmt in ("xlsx", "xlsm"):
@@ -205,3 +207,21 @@ def scan_sheet(path: Path, fmt: str, sheet: str, hidden_only: bool = False) -> P
             f"{place.describe()}: the workbook package is damaged ({exc})", place
         ) from exc
     return PackageFacts()
+
+
+def _scan_xls(path: Path, sheet: str, place: Place, hidden_only: bool) -> PackageFacts:
+    """The same facts from a binary .xls workbook (engine.intake.biff reads its records)."""
+    try:
+        found = scan_xls_sheet(path.read_bytes(), sheet, hidden_only)
+    except XlsUnreadable as exc:
+        raise InputProblem(
+            f"{place.describe()}: the workbook's records could not be read ({exc}); "
+            "the file may be damaged",
+            place,
+        ) from exc
+    return PackageFacts(
+        errors=found.errors,
+        merged=found.merged,
+        hidden_rows=found.hidden_rows,
+        hidden_cols=found.hidden_cols,
+    )

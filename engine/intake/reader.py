@@ -291,7 +291,7 @@ def _build_table(
         empty = np.asarray(block == "", dtype=bool)
         if empty.shape != block.shape:  # numpy answers a scalar when it cannot compare elementwise
             empty = np.zeros(block.shape, dtype=bool)
-        if facts_source in ("xlsx", "xlsm", "ods") and empty.any():
+        if facts_source in ("xlsx", "xlsm", "ods", "xls") and empty.any():
             facts = scan_sheet(path, facts_source, sheet)
             _apply_facts(facts, block, empty, d, sheet, warnings)
 
@@ -328,7 +328,7 @@ def _build_table(
         if fmt != "csv":
             _side_by_side_warning(keep_cols, sheet, warnings)
 
-    if facts_source in ("xlsx", "xlsm", "ods"):
+    if facts_source in ("xlsx", "xlsm", "ods", "xls"):
         if facts is None:  # no full scan was needed: look for hidden rows and columns only
             facts = scan_sheet(path, facts_source, sheet, hidden_only=True)
         _hidden_warning(facts, d, len(data_rows), width, sheet, warnings)

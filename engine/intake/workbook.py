@@ -132,6 +132,25 @@ def open_workbook(path: Path, fmt: str) -> calamine.CalamineWorkbook:
             "or cut short; re-save it from a spreadsheet program",
             place,
         ) from exc
+    except BaseException as exc:
+        if not _reader_panicked(exc):
+            raise
+        raise InputProblem(
+            f"file '{path}' could not be read as an .{fmt} workbook (its reader stopped on "
+            "a damaged part); it may be damaged or cut short; re-save it from a spreadsheet "
+            "program",
+            place,
+        ) from exc
+
+
+def _reader_panicked(exc: BaseException) -> bool:
+    """The cell reader's compiled code stopped on something it did not expect in the file.
+
+    python-calamine is written in Rust; a panic there reaches Python as pyo3's
+    PanicException, which derives from BaseException (not Exception), so the handlers above
+    do not see it (measured: an .xls cut inside its sector table).
+    """
+    return type(exc).__name__ == "PanicException"
 
 
 def sheet_infos(book: calamine.CalamineWorkbook) -> list[SheetInfo]:
@@ -155,5 +174,13 @@ def read_grid(book: calamine.CalamineWorkbook, sheet: str, path: Path) -> list[l
     except (calamine.CalamineError, OSError, ValueError) as exc:
         raise InputProblem(
             f"{place.describe()}: the sheet could not be read ({exc}); the file may be damaged",
+            place,
+        ) from exc
+    except BaseException as exc:
+        if not _reader_panicked(exc):
+            raise
+        raise InputProblem(
+            f"{place.describe()}: the sheet could not be read (its reader stopped on a "
+            "damaged part); the file may be damaged",
             place,
         ) from exc

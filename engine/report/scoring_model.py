@@ -48,6 +48,7 @@ import numpy as np
 
 from engine.design import Encoding
 from engine.errors import InputProblem, Place
+from engine.intake.cells import MISSING_WORDS
 
 # Day 0 of the 1900 date system as Excel and LibreOffice count it for dates after 1900-03-01.
 EXCEL_EPOCH = _dt.date(1899, 12, 30)
@@ -493,7 +494,9 @@ class ScoringModel:
         if enc.kind == "product":
             raise ValueError("a product column's value comes from its factors (row_values)")
         kind = source_kind(self.encodings, enc.source)
-        miss = math.nan if enc.fill is None else float(enc.fill)
+        # the fill stands in for a cell read as missing (blank, error, placeholder); other
+        # text gets no prediction, as on the sheet (_miss_expr there)
+        miss = math.nan if enc.fill is None or not _blankish(raw) else float(enc.fill)
         # the number the cell holds (bools are ints to Python but flags to the sheet), else None
         num = raw if isinstance(raw, (int, float)) and not isinstance(raw, bool) else None
         is_num = num is not None
@@ -558,6 +561,18 @@ class ScoringModel:
         x = np.asarray(encoded, dtype=float)
         linear = self.centre + np.sum(self.std_coefficients * ((x - self.means) / self.sds))
         return float(self.to_response_units(np.array([linear]))[0])
+
+
+def _blankish(raw: object) -> bool:
+    """What the sheet's formulas take as a missing cell: blank (None; an error cell reaches
+    Python as None too), spaces, or a placeholder such as "n/a" (intake reads these as
+    missing). Typed text such as "#N/A" is text to a spreadsheet, not an error value."""
+    if raw is None:
+        return True
+    if not isinstance(raw, str):
+        return False
+    t = raw.strip()
+    return not t or t.lower() in MISSING_WORDS
 
 
 def _low(x: object) -> str:

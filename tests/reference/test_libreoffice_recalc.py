@@ -59,7 +59,7 @@ def _predictions(path: Path, first: int, count: int) -> np.ndarray:
     head, cols = scoring_layout(ws)
     pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
     vals = [ws.cell(head + first + i, pc).value for i in range(count)]
-    return np.array([np.nan if v in (None, "") else float(v) for v in vals])
+    return np.array([np.nan if v in (None, "", "#N/A") else float(v) for v in vals])
 
 
 def _plant_wrong_cached_value(src: Path, dst: Path) -> None:
@@ -426,3 +426,72 @@ def test_a_blank_with_no_stored_fill_is_named_in_the_check(tmp_path):
     letter = get_column_letter(cols2["household"])
     assert ws2.cell(head2 + 6, pc2).value == "#N/A"
     assert f"no value in {letter}" in ws2.cell(head2 + 6, cols2["Check"]).value
+
+
+def test_filled_and_unread_cells_on_the_recalculated_scoring_sheet(tmp_path):
+    # With the "fill" policy a cell intake reads as missing (blank, "n/a") takes the stored
+    # fill on the sheet as in `tamis score`, and the check says so; text the formulas do not
+    # read ("12.5 kg" in a number column, "maybe" in a yes/no column) gets no prediction and
+    # is named, never a silent fill. LibreOffice recalculates; the Python mirror of each
+    # formula (ScoringModel.cell_value) must give the same.
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(12)
+    n = 48
+    size = rng.normal(20, 4, size=n)
+    express = rng.random(n) < 0.4
+    y = 5.0 + 0.8 * size + 6.0 * express + rng.normal(scale=0.5, size=n)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y", "size", "express"])
+    for i in range(n):
+        ws.append(
+            [
+                float(y[i]),
+                None if i % 11 == 3 else float(size[i]),
+                None if i % 13 == 5 else ("yes" if express[i] else "no"),
+            ]
+        )
+    book = tmp_path / "parcels.xlsx"
+    wb.save(book)
+    res = run_study(
+        StudySpec(source=str(book), response="y", methods=("ols",), folds=4, missing="fill")
+    )
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    model = load_scoring_model(results)
+    fills = {e.source: e.fill for e in model.encodings if e.kind in ("number", "flag")}
+    assert fills["size"] is not None and fills["express"] is not None
+    new = [
+        (18.0, "yes"),
+        ("18.5 kg", "yes"),
+        (None, "no"),
+        ("n/a", "no"),
+        (21.0, "maybe"),
+        (21.0, None),
+    ]
+    pasted = paste_after_examples(results, ["size", "express"], new, tmp_path / "pasted.xlsx")
+    (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
+    got = _predictions(out, 6, len(new))
+    mirror = [model.sheet_prediction(model.row_values({"size": a, "express": b})) for a, b in new]
+    np.testing.assert_allclose(got, mirror, rtol=1e-9)
+    assert np.isnan(got[1]) and np.isnan(got[4])
+    # the filled rows equal the score command's route (intake reads "n/a" as missing)
+    rows = openpyxl.Workbook()
+    rows.active.append(["size", "express"])
+    for a, b in new:
+        rows.active.append([a, b])
+    new_book = tmp_path / "new.xlsx"
+    rows.save(new_book)
+    engine = model.predict(read_table(new_book))
+    np.testing.assert_allclose(got[[0, 2, 3, 5]], engine[[0, 2, 3, 5]], rtol=1e-9)
+    sheet = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(sheet)
+    checks = [sheet.cell(head + 6 + i, cols["Check"]).value or "" for i in range(len(new))]
+    size_col = get_column_letter(cols["size"])
+    express_col = get_column_letter(cols["express"])
+    assert checks[0] == ""
+    assert f"not a number in {size_col}" in checks[1]
+    assert f"{size_col} empty: filled" in checks[2] and f"{size_col} empty: filled" in checks[3]
+    assert f"not yes/no in {express_col}" in checks[4]
+    assert f"{express_col} empty: filled" in checks[5]

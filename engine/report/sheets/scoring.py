@@ -13,8 +13,8 @@ Layout (rows top to bottom, written in order for xlsxwriter's constant_memory mo
 - the first rows of the study's data as examples, then empty rows ready for pasting.
 
 Every formula uses only functions every spreadsheet program has (IF, ISNUMBER, ISLOGICAL,
-ISBLANK, ISERROR, EXACT, LOWER, TRIM, OR, AND, INT, MONTH, WEEKDAY, COUNTA, SUMPRODUCT, NA, and
-LN and EXP where the study took logs), and
+ISBLANK, ISERROR, ISTEXT, EXACT, LOWER, TRIM, LEN, MATCH, OR, AND, INT, MONTH, WEEKDAY, COUNTA,
+SUMPRODUCT, NA, and LN and EXP where the study took logs), and
 reads means, standard deviations, coefficients and the centre from cells rather than baking them
 in. Cached values are real numbers (Python mirror of each formula), so every reader shows them.
 """
@@ -28,11 +28,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from engine.intake.cells import MISSING_WORDS
 from engine.report.scoring_model import (
     DAYS_1900_TO_1904,
     RANGE_HIGH,
     RANGE_LOW,
     ScoringModel,
+    _flag_tokens,
     date_serial,
     scoring_reason,
     source_kind,
@@ -118,18 +120,30 @@ def example_rows(
     return rows
 
 
-def _miss_expr(enc, fill_ref: str) -> str:
-    return fill_ref if enc.fill is not None else "NA()"
+def _miss_expr(enc, fill_ref: str, src: str) -> str:
+    """A cell that is not a usable value: the stored fill when it counts as missing (blank,
+    an error value, a typed placeholder such as "n/a", as intake reads it), else no
+    prediction: text such as "12.5 kg" is not guessed at, the check column names it."""
+    if enc.fill is None:
+        return "NA()"
+    return f"IF({_blankish(src)},{fill_ref},NA())"
+
+
+def _blankish(src: str) -> str:
+    """True for a cell intake reads as missing: blank, an error value, spaces, a placeholder."""
+    words = ",".join(f'"{w}"' for w in sorted(MISSING_WORDS))
+    return (
+        f"OR(ISBLANK({src}),ISERROR({src}),IF(ISTEXT({src}),OR(LEN(TRIM({src}))=0,"
+        f"ISNUMBER(MATCH(LOWER(TRIM({src})),{{{words}}},0))),FALSE))"
+    )
 
 
 def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> str:
     """The encoded-value formula of model column j for the source cell reference ``src``."""
-    from engine.report.scoring_model import _flag_tokens
-
     enc = model.encodings[j]
     kind = source_kind(model.encodings, enc.source)
     level, fill, origin = cells["level"], cells["fill"], cells["origin"]
-    miss = _miss_expr(enc, fill)
+    miss = _miss_expr(enc, fill, src)
     yes, no = _flag_tokens()
     low = f"LOWER(TRIM({src}))"
     yes_test = "OR(" + ",".join(f'{low}="{t}"' for t in yes) + ")"
@@ -227,7 +241,11 @@ def write(
         ),
         (
             "Only the columns the model uses are needed. Means, standard deviations and coefficients "
-            "are read from the cells above the encoded columns, so the formulas stay short and auditable.",
+            "are read from the cells above the encoded columns, so the formulas stay short and auditable. "
+            "A row with no prediction (#N/A) has the reason in its Check cell: text where a number, "
+            "date or yes/no belongs (type the value itself), a level the model never saw, an empty "
+            "cell with no stored fill. The Check cell also names empty cells that took the stored "
+            "fill and values outside the range the model was fitted on.",
             None,
         ),
         ("Model used", model.method),
@@ -379,6 +397,16 @@ def write(
         if (kind := source_kind(encs, s)) in ("number", "date")
     ]
     logged_sources = sorted({sources.index(e.source) for e in encs if e.kind == "ln"})
+    flag_sources = [s_i for s_i, s in enumerate(sources) if source_kind(encs, s) == "flag"]
+    yes_words, no_words = _flag_tokens()
+    # columns whose empty cell takes the fill stored with the model
+    filled_sources = sorted(
+        {
+            sources.index(e.source)
+            for e in encs
+            if e.kind in ("number", "ln", "flag", "trend") and e.fill is not None
+        }
+    )
     # columns whose empty cell the formulas cannot fill (no stored fill; for a category, the
     # blank is not one of its levels): the row gets no prediction
     blank_means_none = sorted(
@@ -489,7 +517,22 @@ def write(
         for s_i, kind in typed_sources:  # text typed where a number or date belongs
             cell = cell_ref(r, s_i, False, True)
             checks.append(
-                f'IF(OR(ISBLANK({cell}),ISNUMBER({cell})),"","not a {kind} in {col_name(s_i)}; ")'
+                f'IF(OR(ISNUMBER({cell}),{_blankish(cell)}),"",'
+                f'"not a {kind} in {col_name(s_i)} (type it as a {kind}); ")'
+            )
+        for s_i in flag_sources:  # a word the yes/no formulas do not know
+            cell = cell_ref(r, s_i, False, True)
+            low = f"LOWER(TRIM({cell}))"
+            known = ",".join(f'"{t}"' for t in (*yes_words, *no_words))
+            checks.append(
+                f'IF(OR(ISNUMBER({cell}),ISLOGICAL({cell}),{_blankish(cell)}),"",'
+                f'IF(ISNUMBER(MATCH({low},{{{known}}},0)),"",'
+                f'"not yes/no in {col_name(s_i)}; "))'
+            )
+        for s_i in filled_sources:  # an empty cell took the stored fill: say so
+            cell = cell_ref(r, s_i, False, True)
+            checks.append(
+                f'IF(AND(NOT({empty}),{_blankish(cell)}),"{col_name(s_i)} empty: filled; ","")'
             )
         for s_i in logged_sources:  # a number with no log
             cell = cell_ref(r, s_i, False, True)

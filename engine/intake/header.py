@@ -94,6 +94,15 @@ _UNITS = frozenset(
 _UNIT_PIECE = re.compile(r"([^\d²³⁻-]+)(?:\^?-?[0-9]+|[²³]|⁻[¹²³])?")
 
 
+# words a units row uses to say what kind of value a column holds ("express" over "yes/no"):
+# put in brackets like a unit, so the name stays the heading with a remark, and new rows
+# headed "express" alone are still matched to it when scored
+_KIND_WORDS = frozenset(
+    """date time yes/no y/n 0/1 index count number no. text id code flag category class level
+    ratio rate score share percent days weeks months years hours minutes seconds""".split()
+)
+
+
 def _is_unit(value: object) -> bool:
     s = str(value).strip().lower()
     if s[:1] in "([" or s in _UNITS:
@@ -212,6 +221,6 @@ def join_sub_heading(heading: str, sub: str) -> str:
         return heading
     if not heading:
         return sub
-    if _is_unit(sub) and sub[:1] not in "([":
+    if (_is_unit(sub) or sub.lower() in _KIND_WORDS) and sub[:1] not in "([":
         return f"{heading} ({sub})"
     return f"{heading} {sub}"

@@ -97,6 +97,11 @@ def test_a_last_row_under_the_headings_is_never_taken_for_sub_headings():
         ("flow", "L/min", "flow (L/min)"),
         ("dose", "mg/kg", "dose (mg/kg)"),
         ("Rain", "(mm)", "Rain (mm)"),
+        # words saying the kind of value are bracketed like units (common practice of
+        # units rows), so "express" alone still names the column when new rows are scored
+        ("express", "yes/no", "express (yes/no)"),
+        ("quote_date", "date", "quote_date (date)"),
+        ("pallets", "count", "pallets (count)"),
         ("", "FTE", "FTE"),
         ("Store", "", "Store"),
     ],

@@ -603,7 +603,7 @@ def test_headings_repeated_down_the_sheet_are_left_out(tmp_path):
         "Branch",
         "Segment",
         "Balance (EUR)",
-        "Tenure months",
+        "Tenure (months)",
     ]
     assert table.n_rows == 30
     assert table.column("Segment").levels == ["SME", "Retail"]

@@ -7,33 +7,10 @@ __all__ = ["CAUTIONS", "cautions_html"]
 from html import escape
 
 from desktop.messages import window_words
+from engine.cautions import CAUTIONS as ENGINE_CAUTIONS
 
-CAUTIONS: tuple[tuple[str, str], ...] = (
-    (
-        "Chosen is not the same as causing",
-        "A column is chosen because it helps predict the response in these rows. That does not show "
-        "that changing it would change the response: it may stand in for something unmeasured, and "
-        "among correlated columns the choice between them can be close to arbitrary.",
-    ),
-    (
-        "Standard errors after selection are too small",
-        "Ordinary standard errors and p-values computed on the chosen columns ignore that the same "
-        "data did the choosing, so they look more certain than they are. The focal effect uses double "
-        "selection to guard against this for one column; for the others, treat the numbers as "
-        "descriptive, or confirm them on new data.",
-    ),
-    (
-        "Predictions outside the data are guesses",
-        "The fitted equations describe the range of values in this sheet. Scoring rows with values "
-        "far outside that range (or at a later time, under new conditions) extrapolates and can be "
-        "badly wrong.",
-    ),
-    (
-        "Your own review comes first",
-        "These results support a decision; they do not make it. Check them against what you know "
-        "about the data and follow your organisation's own review practice before acting on them.",
-    ),
-)
+# the wording lives in the engine (every front shows the same cautions)
+CAUTIONS = tuple((c.title, c.text) for c in ENGINE_CAUTIONS)
 
 
 def cautions_html(extra_warnings: list[str] | None = None) -> str:

@@ -27,6 +27,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from engine.errors import InputProblem, Place
+from engine.intake.cells import cell_name
 
 if TYPE_CHECKING:
     from engine.intake.table import Column, Table
@@ -685,8 +686,10 @@ def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool
     i = int(bad[0])
     row = int(table.row_numbers[i])
     more = f" and {bad.size - 1} more rows" if bad.size > 1 else ""
+    at = cell_name(c.letter, row)  # "E13", or "row 13, column 5" in a text file
     raise InputProblem(
-        f"column '{c.name}' in sheet '{table.sheet}' holds {v[i]:g} in cell {c.letter}{row}"
+        f"column '{c.name}' in sheet '{table.sheet}' holds {v[i]:g} in "
+        f"{at if c.letter.isdigit() else 'cell ' + at}"
         f"{more}; the natural log exists only above 0: take '{c.name}' off the logged columns "
         "(a column with genuine zeros stays in its own units), or correct those cells if they "
         "are mistakes"
@@ -696,7 +699,7 @@ def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool
             else " (or leave them blank, which drops their rows)"
         ),
         Place(file=str(table.source), sheet=table.sheet, column=c.name, row=row,
-              cell=f"{c.letter}{row}"),
+              cell=None if c.letter.isdigit() else at),
     )  # fmt: skip
 
 

@@ -223,8 +223,11 @@ class StudyResult:
         return [(int(rows[u.index]), u) for u in self.influence.unusual()]
 
     def to_json(self) -> dict[str, Any]:
+        from engine.cautions import short_lines
+
         d = self.design
         out: dict[str, Any] = {
+            "cautions": short_lines(),
             "response": d.response,
             "rows_used": int(d.n_rows),
             "rows_dropped": int(d.rows_dropped),

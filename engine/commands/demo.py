@@ -14,7 +14,7 @@ import os
 import sys
 from pathlib import Path
 
-from engine.commands.terminal import CAUTIONS, summary_text, terminal_progress
+from engine.commands.terminal import summary_text, terminal_progress
 from engine.errors import InputProblem
 from engine.study_spec import StudySpec
 
@@ -91,7 +91,7 @@ def run(args, ctx) -> int:
         written.append(out)
         ctx.written.append(result.output)
         if args.json:
-            documents.append({"analysis": label, **result.to_json(), "cautions": list(CAUTIONS)})
+            documents.append({"analysis": label, **result.to_json()})
         else:
             print(f"\n=== {label}: sheet '{spec.sheet}' ===", file=ctx.stdout)
             print(summary_text(result), file=ctx.stdout)

@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-from engine.commands.terminal import CAUTIONS, summary_text, terminal_progress
+from engine.commands.terminal import summary_text, terminal_progress
 from engine.errors import InputProblem
 from engine.study_spec import StudySpec
 
@@ -97,7 +97,7 @@ def finish(result, args, ctx, extra: dict | None = None) -> int:
         ctx.written.append(result.output)
     if args.json:
         json.dump(
-            {**result.to_json(), "cautions": list(CAUTIONS), **(extra or {})},
+            {**result.to_json(), **(extra or {})},
             ctx.stdout,
             indent=2,
             allow_nan=False,

@@ -6,15 +6,12 @@ __all__ = ["terminal_progress", "summary_text", "CAUTIONS"]
 
 import time
 
+from engine.cautions import short_lines
 from engine.design import drop_reasons_text
 from engine.progress import Progress
 
-CAUTIONS = (
-    "Selection is not causation: a kept column predicts the response on these rows; it is not shown to cause it.",
-    "Standard errors and p-values computed after selecting columns do not account for the selection step.",
-    "Predictions outside the range of the rows used (extrapolation) are not supported by the data.",
-    "Review the result with your own team's validation practice before acting on it.",
-)
+# one line each, worded once for every front (engine.cautions)
+CAUTIONS = tuple(short_lines())
 
 
 def terminal_progress(ctx) -> Progress:

@@ -11,19 +11,21 @@ __all__ = ["write", "CAUTIONS"]
 import datetime as _dt
 import math
 
+from engine.cautions import CAUTIONS as ENGINE_CAUTIONS
 from engine.design import drop_reasons_text
 from engine.methods import method_info
 from engine.report.sheets.cells import Formats, number, text
 
-CAUTIONS = (
-    "A column being kept by a method says it helps predict the response in these data; it does not "
-    "show that changing the column would change the response.",
-    "The usual standard errors and p-values of a least-squares refit ignore that the columns were "
-    "chosen from the same data, so they look more certain than they are; the focal-effect block "
-    "(double selection) is built to allow for that one effect only.",
-    "Predictions for rows whose values lie outside the range seen here (the mean and standard "
-    "deviation of each column are on the scoring sheet) extrapolate and deserve extra care.",
-    "Check these results with your own review practice before relying on them.",
+# worded once for every front (engine.cautions); the sheet adds where its ranges are
+CAUTIONS = tuple(
+    f"{c.title}. {c.text}"
+    + (
+        " The lowest and highest value fitted of each column are on the scoring sheet, whose "
+        "Check column names values outside them."
+        if c is ENGINE_CAUTIONS[2]
+        else ""
+    )
+    for c in ENGINE_CAUTIONS
 )
 
 

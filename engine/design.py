@@ -206,6 +206,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     named: list[tuple[str, str | None]] = [
         ("response", spec.response),
         ("focal column", spec.focal),
+        *(("candidate", name) for name in spec.candidates or ()),
     ]
     for role, given in named:
         twins = [c for c in table.columns if given and c.duplicate_of == given]
@@ -232,6 +233,16 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     explicit = spec.candidates is not None
     if explicit:
         chosen = [table.column(n) for n in spec.candidates or ()]
+        for c in chosen:  # a named candidate that holds another role: say why it is not one
+            if c.name == spec.response:
+                warnings.append(f"'{c.name}' is the response, so it is not among the candidates")
+            elif c.name in roles_taken:
+                role = "group" if group_col is not None and c is group_col else "time-order"
+                warnings.append(
+                    f"'{c.name}' is the {role} column, so it is left out of the candidates "
+                    f"(its rows decide the folds); to use it as a candidate, give no {role} "
+                    "column"
+                )
     else:
         chosen = [c for c in table.columns if c.name not in roles_taken]
     if spec.focal and spec.focal not in [c.name for c in chosen]:

@@ -16,6 +16,8 @@ __all__ = [
 ]
 
 import dataclasses
+import numbers
+import os
 from dataclasses import dataclass
 from typing import Any
 
@@ -40,6 +42,16 @@ MAX_TEST_SHARE = 0.5
 
 @dataclass(frozen=True)
 class StudySpec:
+    """What to fit: the file and sheet, the roles of its columns, the methods and how to validate.
+
+    Only ``source`` (a path: str or pathlib.Path) and ``response`` (a column's name or its
+    heading as the sheet writes it) are required; everything else has the command line's
+    defaults (``tamis fit --help`` describes each option under the same name). Column lists
+    take a tuple or list of names, or one name as a string; ``interactions`` takes pairs.
+    ``run_study(spec)`` (engine.study) fits it. Every check here raises ``InputProblem`` with
+    a message saying what to change.
+    """
+
     source: str  # path of the workbook or CSV file
     response: str
     sheet: str | None = None  # None: the first visible sheet
@@ -79,6 +91,7 @@ class StudySpec:
     test_share: float = 0.0
 
     def __post_init__(self) -> None:
+        _normalize_arguments(self)
         object.__setattr__(self, "methods", parse_methods(self.methods))
         if self.scheme not in SCHEMES:
             raise InputProblem(
@@ -175,3 +188,57 @@ class StudySpec:
         if isinstance(kwargs.get("interactions"), list):
             kwargs["interactions"] = tuple(tuple(p) for p in kwargs["interactions"])
         return cls(**kwargs)
+
+
+def _names(value: object, what: str) -> tuple[str, ...]:
+    """A tuple of column names from a tuple, a list, or one name given as a string."""
+    if isinstance(value, str):
+        return (value,)
+    try:
+        names = tuple(value)  # type: ignore[call-overload]
+    except TypeError:
+        raise InputProblem(f"{what} must be column names (got {value!r})") from None
+    for name in names:
+        if not isinstance(name, str):
+            raise InputProblem(f"{what} must be column names (got {name!r} among them)")
+    return names
+
+
+def _normalize_arguments(spec: StudySpec) -> None:
+    """Accept what a Python user naturally passes (a Path, a list, one name as a string) and
+    refuse the rest with a message, before anything is read."""
+    set_ = object.__setattr__
+    if not isinstance(spec.source, str):
+        try:
+            set_(spec, "source", os.fspath(spec.source))  # type: ignore[arg-type]
+        except TypeError:
+            raise InputProblem(
+                f"the source must be the path of a workbook or text file (got "
+                f"{type(spec.source).__name__}); save a table first, e.g. DataFrame.to_csv"
+            ) from None
+    for field_name, what in (
+        ("candidates", "the candidates"),
+        ("exclude", "the excluded columns"),
+        ("log_columns", "the logged columns"),
+    ):
+        value = getattr(spec, field_name)
+        if value is not None:
+            set_(spec, field_name, _names(value, what))
+    pairs = spec.interactions
+    if len(pairs) == 2 and all(isinstance(x, str) for x in pairs):
+        pairs = (pairs,)  # type: ignore[assignment]  # one pair given bare
+    checked = []
+    for pair in pairs:
+        names = _names(pair, "each interaction")
+        if len(names) != 2:
+            raise InputProblem(
+                f"each interaction is a pair of column names (got {pair!r}); "
+                "e.g. interactions=[('price', 'region')]"
+            )
+        checked.append((names[0], names[1]))
+    set_(spec, "interactions", tuple(checked))
+    for field_name in ("seed", "folds", "repeats", "n_penalties", "stability_runs"):
+        value = getattr(spec, field_name)
+        if isinstance(value, bool) or not isinstance(value, numbers.Integral):
+            raise InputProblem(f"{field_name} must be a whole number (got {value!r})")
+        set_(spec, field_name, int(value))

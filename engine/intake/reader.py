@@ -337,6 +337,7 @@ def _build_table(
     seen: dict[str, str] = {}  # casefolded name -> first column's name
     taken: set[str] = set()
     unnamed: list[str] = []
+    renamed: list[str] = []  # a heading used again: the later column's letter and new name
     for k, j in enumerate(keep_cols):
         letter = str(j + 1) if fmt == "csv" else column_letter(j)
         heading = headings[j]
@@ -389,12 +390,20 @@ def _build_table(
             col.notes.insert(
                 0, f"heading '{base}' is also used by an earlier column; renamed '{name}'"
             )
+            renamed.append(f"{letter} '{name}'")
         columns.append(col)
         if k % 8 == 7:
             progress.step(
                 0.5 + 0.4 * (k + 1) / len(keep_cols), f"typed {k + 1} of {len(keep_cols)} columns"
             )
 
+    if renamed:
+        shown = ", ".join(renamed[:NAMED_CELLS]) + (" ..." if len(renamed) > NAMED_CELLS else "")
+        warnings.append(
+            f"{len(renamed)} {'column repeats' if len(renamed) == 1 else 'columns repeat'} an "
+            f"earlier heading and {'is' if len(renamed) == 1 else 'are'} read under a numbered "
+            f"name ({shown}); a name alone means the first column with that heading"
+        )
     if unnamed:
         shown = ", ".join(unnamed[:NAMED_CELLS]) + (" ..." if len(unnamed) > NAMED_CELLS else "")
         warnings.append(

@@ -80,6 +80,11 @@ def make_folds(
             raise InputProblem(f"the group column has {groups.shape[0]} values for {n} rows")
         labels, codes = np.unique(groups, return_inverse=True)
         G = labels.shape[0]
+        if G < 2:
+            raise InputProblem(
+                f"the group column holds one group only ('{labels[0]}'): grouped folds need "
+                "at least 2 groups; choose a column with more groups or another validation"
+            )
         if G < folds:
             raise InputProblem(
                 f"the group column has only {G} groups but {folds} folds were asked: "

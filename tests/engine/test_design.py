@@ -402,3 +402,58 @@ def test_a_column_of_mostly_numbers_read_as_text_gives_intakes_reason():
     assert d.dropped_columns["cost"].startswith("4 of 6 values are numbers, too few")
     assert "write every cell as a plain number" in d.dropped_columns["cost"]
     assert "identifier" not in d.dropped_columns["cost"]
+
+
+def test_a_named_candidate_whose_heading_is_used_twice_and_the_sheet_say_so(tmp_path):
+    # a Python user or the command line naming "price" gets the first of two "price" columns:
+    # the sheet's warnings list the renamed one, the design says which column the name took
+    from engine.intake import read_table
+
+    lines = ["y,price,temp,price"] + [f"{i},{i % 4},{i % 5},{i * 2}" for i in range(14)]
+    path = tmp_path / "twice.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    table = read_table(path)
+    assert any(
+        "1 column repeats an earlier heading" in w and "4 'price (2)'" in w for w in table.warnings
+    )
+    design = build_design(
+        table, _spec(source=str(path), response="y", candidates=("price", "temp"))
+    )
+    assert any(
+        "the candidate 'price' is column 2; the same heading is also on column 4 (read as "
+        "'price (2)')" in w
+        for w in design.warnings
+    )
+
+
+def test_a_named_candidate_holding_another_role_is_said_to_be_left_out():
+    y = _col("y", ColumnKind.NUMBER, [float(i % 7) for i in range(24)])
+    x = _col("x", ColumnKind.NUMBER, [float(i % 5) for i in range(24)], "B")
+    store = _col("store", ColumnKind.CATEGORY, [f"s{i % 4}" for i in range(24)], "C")
+    design = build_design(
+        _table(y, x, store),
+        _spec(response="y", candidates=("x", "store", "y"), group="store", folds=4),
+    )
+    assert design.names == ["x"]
+    assert any("'store' is the group column, so it is left out" in w for w in design.warnings)
+    assert any(
+        "'y' is the response, so it is not among the candidates" in w for w in design.warnings
+    )
+
+
+def test_a_python_user_may_pass_a_path_a_list_or_one_name():
+    # what a script naturally passes is taken as meant; anything else is refused by name
+    spec = StudySpec(
+        source=Path("book.xlsx"), response="y", candidates="x", interactions=("x", "z"),
+        log_columns=["y"], seed=np.int64(3),
+    )  # fmt: skip
+    assert spec.source == "book.xlsx" and spec.candidates == ("x",)
+    assert spec.interactions == (("x", "z"),) and spec.log_columns == ("y",) and spec.seed == 3
+    for bad, words in (
+        (dict(seed=None), "seed must be a whole number"),
+        (dict(candidates=[1]), "the candidates must be column names"),
+        (dict(interactions=[("x",)]), "each interaction is a pair of column names"),
+        (dict(source=3), "the source must be the path of a workbook or text file"),
+    ):
+        with pytest.raises(InputProblem, match=words):
+            StudySpec(**{"source": "book.xlsx", "response": "y", **bad})

@@ -54,6 +54,10 @@ def test_grouped_never_splits_a_group_and_covers_all_rows():
 def test_grouped_refuses_fewer_groups_than_folds():
     with pytest.raises(InputProblem, match="the group column has only 3 groups but 5 folds"):
         make_folds(30, "grouped", folds=5, groups=np.arange(30) % 3)
+    # one group: no number of folds can work, so none is suggested
+    with pytest.raises(InputProblem, match="holds one group only \\('north'\\)") as caught:
+        make_folds(30, "grouped", folds=5, groups=np.array(["north"] * 30))
+    assert "at most" not in str(caught.value)
 
 
 def test_too_few_rows_for_the_folds():

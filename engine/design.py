@@ -322,14 +322,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     y_all = np.asarray(response.values, dtype=float)
     drop(~np.isfinite(y_all), f"response '{response.name}' missing")
     for note in response.notes:  # words in the response's cells cost their rows: say which
-        if any(
-            words in note
-            for words in (
-                " not a number treated as missing",
-                " not numbers treated as missing",
-                " not detected without a limit",
-            )
-        ):
+        if _unread_cells(note):
             warning = f"response '{response.name}': {note}; their rows were left out"
             if "'<" in note or "'>" in note:
                 warning += (
@@ -365,6 +358,15 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             usable = _without_mostly_missing(usable, keep, spec.focal, dropped_columns, warnings)
         for c in usable:
             drop(c.missing_mask(), f"missing in candidate '{c.name}'")
+    for c in usable:  # words typed in a candidate's cells cost rows or get the fill: say which
+        for note in c.notes:
+            if _unread_cells(note):
+                then = (
+                    "filled like blank cells"
+                    if spec.missing == "fill"
+                    else "their rows were left out"
+                )
+                warnings.append(f"candidate '{c.name}': {note}; {then}")
 
     for c in [response, *usable] if logged else []:
         if c.name in logged:
@@ -685,6 +687,18 @@ def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:
             "change by a factor of e (2.718...)"
         )
     return "; ".join(said)
+
+
+def _unread_cells(note: str) -> bool:
+    """Whether a column's note names cells whose words intake could not read as values."""
+    return any(
+        words in note
+        for words in (
+            " not a number treated as missing",
+            " not numbers treated as missing",
+            " not detected without a limit",
+        )
+    )
 
 
 def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool) -> None:

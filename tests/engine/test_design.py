@@ -457,3 +457,24 @@ def test_a_python_user_may_pass_a_path_a_list_or_one_name():
     ):
         with pytest.raises(InputProblem, match=words):
             StudySpec(**{"source": "book.xlsx", "response": "y", **bad})
+
+
+@pytest.mark.parametrize(
+    ("missing", "then"), [("drop", "their rows were left out"), ("fill", "filled like blank cells")]
+)
+def test_words_in_a_candidate_name_their_cells_like_the_response(tmp_path, missing, then):
+    from engine.intake import read_table
+
+    lines = ["y,x,z"] + [f"{i},{i % 5},{i % 3}" for i in range(20)]
+    lines[5] = "4,twelve,1"
+    path = tmp_path / "words.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    design = build_design(read_table(path), _spec(source=str(path), response="y", missing=missing))
+    assert any(
+        w.startswith(
+            "candidate 'x': 1 cell that is not a number treated as missing: row 6, "
+            "column 2 'twelve'"
+        )
+        and w.endswith(then)
+        for w in design.warnings
+    ), design.warnings

@@ -395,9 +395,12 @@ def _covariance_words(cov_type: str, spec: StudySpec) -> str:
     return f"CR1, clustered by '{spec.group}'" if cov_type == "CR1" else cov_type
 
 
-def _log_reading(response_log: bool, focal_log: bool, focal: str, y: str) -> str:
+def _log_reading(
+    response_log: bool, focal_log: bool, focal: str, y: str, step: str | None = None
+) -> str:
     """How to read the focal estimate when logs were taken (common practice; close for small
-    changes): an elasticity with both in ln, a relative change with the response alone."""
+    changes): an elasticity with both in ln, a relative change with the response alone.
+    ``step``: what a change of the focal column is when it is not a unit (yes against no)."""
     if response_log and focal_log:
         return (
             f"both in ln: the estimate is an elasticity, the percent change in {y} for a 1% "
@@ -405,7 +408,8 @@ def _log_reading(response_log: bool, focal_log: bool, focal: str, y: str) -> str
         )
     if response_log:
         return (
-            f"{y} in ln: 100 x the estimate is about the percent change in {y} per unit of {focal}"
+            f"{y} in ln: 100 x the estimate is about the percent change in {y} "
+            f"{step or f'per unit of {focal}'}"
         )
     if focal_log:
         return (
@@ -842,17 +846,25 @@ class _MethodRunner:
             self.notes.append(f"double selection: {note}")
         found = ds.to_focal(d.names[j], [d.names[i] for i in controls])
         found.covariance = _covariance_words(ds.covariance, spec)
-        reading = _log_reading(
-            d.response_log, d.encodings[j].kind == "ln", spec.focal or "", d.response
-        )
+        enc = d.encodings[j]
+        step = {
+            "flag": "for yes against no",
+            "level": f"for '{enc.level}' against '{enc.reference}'",
+        }.get(enc.kind)
+        reading = _log_reading(d.response_log, enc.kind == "ln", spec.focal or "", d.response, step)
         if reading:
             found.notes.append(reading)
-        enc = d.encodings[j]
         if enc.kind == "level":  # a category of two labels as the focal column
             found.notes.append(
                 f"'{d.names[j]}' is 1 for '{enc.level}' and 0 for '{enc.reference}': the "
                 f"estimate is the difference in {d.response_label} between the two, with the "
                 "chosen controls held as they are"
+            )
+        elif enc.kind == "flag":  # a yes/no column: say which answer counts as 1
+            found.notes.append(
+                f"'{d.names[j]}' is 1 for yes and 0 for no: the estimate is the difference in "
+                f"{d.response_label} between yes and no rows, with the chosen controls held as "
+                "they are"
             )
         pairs = [(a, b) for a, b in spec.interactions if spec.focal in (a, b)]
         if pairs and any(

@@ -193,6 +193,40 @@ def test_focal_effect_with_both_in_ln_is_read_as_an_elasticity(tmp_path):
     assert f.column == "ln(price)"
     assert f.ci_low < -1.2 < f.ci_high  # the simulated elasticity
     assert any("elasticity" in note for note in f.notes)
+    # the sheet says the estimate is on the ln scale, with the reading beside it
+    from engine.report import write_results
+
+    out = write_results(res, out=tmp_path / "results.xlsx")
+    ws = openpyxl.load_workbook(out, read_only=True)["TM Coefficients"]
+    first = [r[0] for r in ws.iter_rows(values_only=True) if r and r[0]]
+    assert "Estimate (ln scale: read it as below)" in first
+    assert "Estimate (original units)" not in first
+    assert any(str(v).startswith("Both in ln: the estimate is an elasticity") for v in first)
+
+
+def test_a_yes_no_focal_under_a_logged_response_reads_as_yes_against_no(tmp_path):
+    rng = np.random.default_rng(5)
+    n = 120
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["spend", "income", "car"])
+    for _ in range(n):
+        income = float(np.exp(rng.normal(10.0, 0.4)))
+        car = bool(rng.random() < 0.5)
+        spend = np.exp(1.0 + 0.6 * np.log(income) + 0.1 * car + rng.normal(0, 0.2))
+        ws.append([float(spend), income, "Y" if car else "N"])
+    book = tmp_path / "homes.xlsx"
+    wb.save(book)
+    res = run_study(
+        StudySpec(
+            source=str(book), response="spend", log_columns=("spend", "income"),
+            methods=("ols",), folds=5, focal="car",
+        )
+    )  # fmt: skip
+    notes = res.focal.notes
+    assert any("percent change in spend for yes against no" in n for n in notes), notes
+    assert any("'car' is 1 for yes and 0 for no" in n for n in notes), notes
+    assert not any("per unit of car" in n for n in notes)
 
 
 def test_cli_log_option_reaches_the_json(tmp_path):

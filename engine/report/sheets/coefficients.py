@@ -85,8 +85,14 @@ def write(book, ws, result, fm: Formats) -> None:
         r += 1
         text(ws, r, 0, f"Focal effect of '{f.column}' (double selection)", fm.title)
         r += 1
+        d = result.design
+        enc = d.encodings[d.names.index(f.column)] if f.column in d.names else None
+        logged = d.response_log or (enc is not None and enc.kind == "ln")
         rows = [
-            ("Estimate (original units)", f.estimate),
+            (
+                "Estimate (ln scale: read it as below)" if logged else "Estimate (original units)",
+                f.estimate,
+            ),
             (f"Standard error ({f.covariance})", f.std_error),
             ("95% interval, low", f.ci_low),
             ("95% interval, high", f.ci_high),
@@ -102,6 +108,9 @@ def write(book, ws, result, fm: Formats) -> None:
                 text(ws, r, 1, value)
             else:
                 number(ws, r, 1, value, fm.number)
+            r += 1
+        for note in f.notes:  # how to read it (logs, which label is 1), few groups...
+            text(ws, r, 0, note[:1].upper() + note[1:], fm.note)
             r += 1
         text(
             ws,

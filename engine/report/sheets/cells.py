@@ -6,7 +6,7 @@ Every text that may have come from the user's workbook goes through ``text`` (xl
 
 from __future__ import annotations
 
-__all__ = ["Formats", "text", "number", "col_name", "cell_ref", "range_ref"]
+__all__ = ["Formats", "text", "number", "col_name", "cell_ref", "range_ref", "heading_row"]
 
 import math
 
@@ -19,7 +19,8 @@ class Formats:
     def __init__(self, book) -> None:
         add = book.add_format
         self.title = add({"bold": True, "font_size": 14})
-        self.heading = add({"bold": True, "bottom": 1})
+        # headings wrap within their column (the row is made tall enough: heading_row)
+        self.heading = add({"bold": True, "bottom": 1, "text_wrap": True, "valign": "bottom"})
         self.label = add({"bold": True})
         self.note = add({"italic": True, "font_color": "#595959", "text_wrap": False})
         self.wrap = add({"text_wrap": True, "valign": "top"})
@@ -73,3 +74,17 @@ def range_ref(sheet: str, r0: int, c0: int, r1: int, c1: int) -> str:
     a = xl_rowcol_to_cell(r0, c0, True, True)
     b = xl_rowcol_to_cell(r1, c1, True, True)
     return f"'{sheet}'!{a}:{b}"
+
+
+def heading_row(ws, row: int, headings: list[str], width: float) -> None:
+    """Make a row of wrapped headings tall enough for the longest one, before it is written.
+
+    A row with a height of its own is shown at that height by every spreadsheet program; one
+    left to the default would cut a wrapped heading to its first line in some of them. About
+    ``width`` characters fit on a line of the narrowest column the headings sit in.
+    """
+    longest = max((len(h) for h in headings), default=0)
+    # whole words wrap, so a line holds a little less than the width: a fifth kept spare
+    lines = min(4, max(1, -(-(longest * 6) // (5 * max(int(width) - 1, 4)))))
+    if lines > 1:
+        ws.set_row(row, 15 * lines)

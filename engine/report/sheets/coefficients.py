@@ -12,7 +12,7 @@ from __future__ import annotations
 
 __all__ = ["write"]
 
-from engine.report.sheets.cells import Formats, number, text
+from engine.report.sheets.cells import Formats, heading_row, number, text
 
 
 def _coef(ws, r: int, c: int, value: float, fm: Formats) -> None:
@@ -46,6 +46,7 @@ def write(book, ws, result, fm: Formats) -> None:
     text(ws, 3, 0, "Units:", fm.note)
     text(ws, 3, 4, "original units", fm.note)
     text(ws, 3, 4 + len(models), "standardized", fm.note)
+    heading_row(ws, 4, heads[4:], 14)
     for c, h in enumerate(heads):
         text(ws, 4, c, h, fm.heading)
     ws.set_column(0, 1, 24)

@@ -10,7 +10,7 @@ import numpy as np
 
 from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn
 from engine.report.names import FITTED
-from engine.report.sheets.cells import Formats, range_ref, text
+from engine.report.sheets.cells import Formats, heading_row, range_ref, text
 
 # above this many rows the chart is left out: a scatter of more points makes spreadsheet
 # programs slow to open and scroll the sheet, and the table still holds every value
@@ -46,6 +46,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         )
         heads += ["Leverage", "Studentized residual", "Cook's distance", "Unusual"]
         heads.append("Actual value of an unusual row (for the chart)")
+    heading_row(ws, 3, heads[1:], 16)
     for c, h in enumerate(heads):
         text(ws, 3, c, h, fm.heading)
     ws.set_column(0, 0, 11)

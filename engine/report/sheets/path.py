@@ -13,7 +13,7 @@ __all__ = ["write", "MAX_SERIES", "CHART_ROWS"]
 import numpy as np
 
 from engine.report.bulk_rows import BulkSheet
-from engine.report.sheets.cells import Formats, number, range_ref, text
+from engine.report.sheets.cells import Formats, heading_row, number, range_ref, text
 
 MAX_SERIES = 40  # spreadsheet charts cap series counts; the table keeps every column
 CHART_ROWS = 22
@@ -79,6 +79,7 @@ def write(
         r += CHART_ROWS
         head = r
         heads = ["Penalty", "L1 budget t", "L2 budget", "Columns kept"] + [d.names[j] for j in cols]
+        heading_row(ws, head, heads[1:], 12)
         for c, h in enumerate(heads):
             text(ws, head, c, h, fm.heading)
         l1 = np.abs(P).sum(axis=1)

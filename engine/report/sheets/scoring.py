@@ -39,7 +39,7 @@ from engine.report.scoring_model import (
     scoring_reason,
     source_kind,
 )
-from engine.report.sheets.cells import Formats, cell_ref, col_name, number, text
+from engine.report.sheets.cells import Formats, cell_ref, col_name, heading_row, number, text
 
 N_EXAMPLES = 5
 _PARAM_ROWS = (
@@ -221,7 +221,10 @@ def write(
         n_blank = int(max(20, min(200, 20_000 // (k + m + 2))))
 
     _fast_formulas(ws)
-    ws.set_column(0, max(m - 1, 0), 14)
+    # a column as wide as its heading (within reason); the first also fits the labels of the
+    # top block (centre, intercept, half-width), whose values sit beside them in column B
+    for s_i, s in enumerate(sources or [""]):
+        ws.set_column(s_i, s_i, min(30, max(14, len(s) + 2)))
     ws.set_column(pred_col, pred_col, 16)
     if low_col is not None and high_col is not None:
         ws.set_column(low_col, high_col, 14)
@@ -254,15 +257,15 @@ def write(
             scoring_reason(result),
         ),
         (
-            "Centre (ln-scale prediction at the column means)"
+            "Centre: the ln-scale prediction at the column means"
             if model.response_log
-            else "Centre (prediction at the column means)",
+            else "Centre: the prediction at the column means",
             model.centre,
         ),
         (
-            "Intercept (ln scale, columns in their own units)"
+            "Intercept: on the ln scale, with the columns in their own units"
             if model.response_log
-            else "Intercept (original units)",
+            else "Intercept: in original units",
             model.intercept,
         ),
         (
@@ -278,12 +281,19 @@ def write(
     if halfwidth is not None:
         top.append(
             (
-                "Half-width of the 95% range beside each prediction: 1.96 x the cross-validated "
-                "root mean squared error"
+                "Half-width of the 95% range: the prediction +- this, 1.96 x the "
+                "cross-validated root mean squared error"
                 + (" (ln scale; the ends are EXP of ln-scale ends)" if model.response_log else ""),
                 halfwidth,
             )
         )
+    labels = [
+        label.split(": ", 1)[0]
+        for label, value in top
+        if value is not None and not isinstance(value, str)
+    ]
+    first_width = max([len(sources[0]) + 2 if sources else 0, 14, *(len(x) + 1 for x in labels)])
+    ws.set_column(0, 0, min(first_width, 60))
     row = 0
     param_top = 8
     n_param = len(_PARAM_ROWS) + len(cat_sources)
@@ -300,6 +310,10 @@ def write(
     while row < header:
         if row < len(top):
             label, value = top[row]
+            why = ""
+            if value is not None and not isinstance(value, str) and ": " in label:
+                # a short label beside the number, what it means to the right of it
+                label, why = label.split(": ", 1)
             text(
                 ws,
                 row,
@@ -311,6 +325,8 @@ def write(
                 text(ws, row, 1, value, fm.kept)
             elif value is not None:
                 number(ws, row, 1, value, fm.number)
+            if why:
+                text(ws, row, 2, why[:1].upper() + why[1:], fm.note)
         if param_top <= row <= last_param_row:
             i = row - param_top
             if i < len(_PARAM_ROWS):
@@ -359,6 +375,18 @@ def write(
         row += 1
 
     # header row
+    heading_row(
+        ws,
+        header,
+        [
+            *sources,
+            model.prediction_label,
+            RANGE_LOW,
+            "Check",
+            *(f"{e.name} (model)" for e in encs),
+        ],
+        14,
+    )
     for s_i, s in enumerate(sources):
         text(ws, header, s_i, s, fm.heading)
     text(ws, header, pred_col, model.prediction_label, fm.heading)

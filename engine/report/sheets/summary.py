@@ -14,7 +14,7 @@ import math
 from engine.cautions import CAUTIONS as ENGINE_CAUTIONS
 from engine.design import drop_reasons_text
 from engine.methods import method_info
-from engine.report.sheets.cells import Formats, number, text
+from engine.report.sheets.cells import Formats, heading_row, number, text
 
 # worded once for every front (engine.cautions); the sheet adds where its ranges are
 CAUTIONS = tuple(
@@ -40,7 +40,7 @@ def write(book, ws, result, fm: Formats) -> None:
     spec, d = result.spec, result.design
     ws.set_column(0, 0, 34)
     ws.set_column(1, 1, 26)
-    ws.set_column(2, 9, 15)
+    ws.set_column(2, 11, 15)
     r = 0
     text(ws, r, 0, "Tamis study results", fm.title)
     r += 2
@@ -60,7 +60,7 @@ def write(book, ws, result, fm: Formats) -> None:
         ("Rows dropped", d.rows_dropped),
         ("Why rows were dropped", reasons),
         ("Response", d.response_label),
-        ("Candidate columns (model columns after encoding)", d.n_cols),
+        ("Model columns (after encoding)", d.n_cols),
         (
             "Columns left out",
             "; ".join(f"{k}: {v}" for k, v in d.dropped_columns.items()) or "none",
@@ -110,6 +110,7 @@ def write(book, ws, result, fm: Formats) -> None:
     tested = result.test_rows is not None
     if tested:
         heads += ["Error on the final test rows", "R squared on the final test rows"]
+    heading_row(ws, r, heads[2:], 15)
     for c, h in enumerate(heads):
         text(ws, r, c, h, fm.heading)
     r += 1

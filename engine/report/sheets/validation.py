@@ -12,7 +12,7 @@ __all__ = ["write"]
 
 import numpy as np
 
-from engine.report.sheets.cells import Formats, number, range_ref, text
+from engine.report.sheets.cells import Formats, heading_row, number, range_ref, text
 
 CHART_ROWS = 20
 
@@ -81,6 +81,7 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
                 "Columns kept",
                 "Marker",
             ]
+            heading_row(ws, head, heads[1:6], 13)
             for c, h in enumerate(heads):
                 text(ws, head, c, h, fm.heading)
             chosen = cv.chosen(spec.choose) if m.choice in ("min", "one-se") else None

@@ -20,7 +20,35 @@ import sys as _sys
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__", "BLAS_SPIN_EXPONENT"]
+# the names a Python user needs, loaded on first use (``import engine`` stays light, and the
+# BLAS setting below still comes before numpy): see "Using Tamis from Python" in the README
+_PUBLIC = {
+    "StudySpec": "engine.study_spec",
+    "run_study": "engine.study",
+    "StudyResult": "engine.study_result",
+    "Progress": "engine.progress",
+    "CancelToken": "engine.progress",
+    "Cancelled": "engine.errors",
+    "InputProblem": "engine.errors",
+    "TamisError": "engine.errors",
+    "read_table": "engine.intake",
+    "read_frame": "engine.intake",
+    "write_results": "engine.report",
+    "ScoringModel": "engine.report",
+    "load_scoring_model": "engine.report",
+}
+
+__all__ = ["__version__", "BLAS_SPIN_EXPONENT", *_PUBLIC]
+
+
+def __getattr__(name: str):
+    module = _PUBLIC.get(name)
+    if module is None:
+        raise AttributeError(f"module 'engine' has no attribute '{name}'")
+    import importlib
+
+    return getattr(importlib.import_module(module), name)
+
 
 # OpenBLAS's helper threads keep spinning for 2**28 cycles (about 0.1 s) after each threaded
 # call before they sleep; the compiled paths then lose up to a third of a core to them (measured

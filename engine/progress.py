@@ -28,6 +28,10 @@ class CancelToken:
     def cancel(self) -> None:
         self._event.set()
 
+    def reset(self) -> None:
+        """Clear a cancel, so the token can serve the next run."""
+        self._event.clear()
+
     @property
     def cancelled(self) -> bool:
         return self._event.is_set()

@@ -144,7 +144,15 @@ def _spec_in_sheet_names(spec: StudySpec, table: Table) -> StudySpec:
 def run_study(
     spec: StudySpec, progress: Progress | None = None, *, table: Table | None = None
 ) -> StudyResult:
-    """Run every method of ``spec`` and return the result (nothing is written to disk)."""
+    """Run every method of ``spec`` and return the result (nothing is written to disk).
+
+    ``progress``: ``Progress(callback, cancel)``, the callback called on this thread with the
+    fraction done (0 to 1) and the step in words; ``cancel.cancel()`` from another thread
+    stops the run at its next step with ``Cancelled``. ``table``: the sheet already read
+    (``read_table``), else ``spec.source`` is read. Raises ``InputProblem`` (a subclass of
+    ``TamisError``, with ``.place`` naming the file, sheet, column, row or cell) for input
+    that cannot be used, with a message saying what to change.
+    """
     progress = _monotone(progress or silent())
     started = _dt.datetime.now().astimezone().isoformat(timespec="seconds")
     t0 = time.perf_counter()

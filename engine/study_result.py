@@ -58,6 +58,10 @@ class Criteria:
 
 @dataclass
 class ModelResult:
+    """One method's fit: coefficients in original units (the intercept unpenalized), the
+    chosen penalty and how it was chosen, the cross-validated error, the path and validation
+    curve, and notes a reader must see (a choice at the grid's edge, approximate searches)."""
+
     method: str
     intercept: float
     coefficients: dict[str, float]  # original units; every model column, 0.0 if not selected
@@ -171,6 +175,13 @@ class StabilityResult:
 
 @dataclass
 class StudyResult:
+    """What ``run_study`` returns: the specification as run, the design (rows used, encodings,
+    dropped rows and columns), one ``ModelResult`` per method, the focal effect and stability
+    when asked, the warnings of the run, and the rows to check. ``model(method)`` picks one
+    fit, ``scoring_method()`` names the one the scoring sheet uses, ``to_json()`` is the
+    command line's JSON document (cautions included); ``ScoringModel.from_result(result)``
+    predicts new rows, ``write_results(result, out=...)`` writes the results workbook."""
+
     spec: StudySpec
     design: Design
     models: list[ModelResult]

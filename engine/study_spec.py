@@ -190,12 +190,12 @@ class StudySpec:
         return cls(**kwargs)
 
 
-def _names(value: object, what: str) -> tuple[str, ...]:
+def _names(value: Any, what: str) -> tuple[str, ...]:
     """A tuple of column names from a tuple, a list, or one name given as a string."""
     if isinstance(value, str):
         return (value,)
     try:
-        names = tuple(value)  # type: ignore[call-overload]
+        names: tuple[Any, ...] = tuple(value)
     except TypeError:
         raise InputProblem(f"{what} must be column names (got {value!r})") from None
     for name in names:

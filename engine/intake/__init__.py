@@ -27,16 +27,19 @@ Modules
 ``classify``    one column's kind and typed values
 ``similarity``  columns that repeat another column
 ``reader``      the flow that builds a Table
+``frame``       a pandas DataFrame read as a sheet would be
 ``describe``    a Table as plain data
 """
 
 from engine.intake.cells import ERROR_VALUES, FLAG_FALSE, FLAG_TRUE
 from engine.intake.describe import describe_table
+from engine.intake.frame import read_frame
 from engine.intake.reader import list_sheets, read_table
 from engine.intake.table import Column, ColumnKind, SheetInfo, Table
 
 __all__ = [
     "read_table",
+    "read_frame",
     "list_sheets",
     "describe_table",
     "Table",

@@ -80,7 +80,7 @@ class Table:
     row_numbers: np.ndarray  # int64, 1-based sheet row of each data row (blank rows skipped)
     blank_rows_skipped: int = 0
     warnings: list[str] = field(default_factory=list)
-    file_format: str = "xlsx"  # xlsx, xlsm, xls, ods, csv
+    file_format: str = "xlsx"  # xlsx, xlsm, xls, ods, csv; "frame" for a DataFrame (read_frame)
     # how a text file was read, in words: {"encoding": "utf-8", "delimiter": "';'", "decimal mark": "','"}
     reading: dict[str, str] = field(default_factory=dict)
 

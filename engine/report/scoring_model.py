@@ -243,7 +243,8 @@ class ScoringModel:
 
     # -- predictions on rows read by intake
     def predict(self, table) -> np.ndarray:
-        """Predictions for every data row of an intake ``Table`` (NaN where a value is missing)."""
+        """Predictions for every data row of an intake ``Table`` or a pandas DataFrame (NaN
+        where a value is missing)."""
         return self.predict_with_notes(table)[0]
 
     def predict_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
@@ -286,6 +287,7 @@ class ScoringModel:
 
     def _linear_with_notes(self, table) -> tuple[np.ndarray, list[str]]:
         """The linear predictor (ln scale for a logged response) and the notes of each row."""
+        table = as_table(table)
         self.check_columns(table)
         n = table.n_rows
         X = np.empty((n, len(self.encodings)))
@@ -352,6 +354,7 @@ class ScoringModel:
     def range_cautions(self, table) -> list[str]:
         """Per row, the model columns whose value lies outside the range of the rows the model
         was fitted on ("" when none): the prediction there is an extrapolation."""
+        table = as_table(table)
         n = table.n_rows
         out: list[list[str]] = [[] for _ in range(n)]
         if self.lows is None or self.highs is None:
@@ -409,6 +412,7 @@ class ScoringModel:
 
     def check_columns(self, table) -> None:
         """Refuse new rows that lack columns the model uses, naming every one of them."""
+        table = as_table(table)
         missing = [s for s in self.sources if self._column_or_none(table, s) is None]
         if len(missing) > 1:
             raise InputProblem(
@@ -561,6 +565,14 @@ class ScoringModel:
         x = np.asarray(encoded, dtype=float)
         linear = self.centre + np.sum(self.std_coefficients * ((x - self.means) / self.sds))
         return float(self.to_response_units(np.array([linear]))[0])
+
+
+def as_table(rows):
+    """New rows as an intake Table: a Table as it is, a pandas DataFrame read like a sheet."""
+    from engine.intake.frame import read_frame
+    from engine.intake.table import Table
+
+    return rows if isinstance(rows, Table) else read_frame(rows, "new rows")
 
 
 def _blankish(raw: object) -> bool:

@@ -3,7 +3,9 @@
 Each block: the chosen penalty, a native scatter-with-lines chart on a log penalty axis (one
 series per column, up to ``MAX_SERIES``; a vertical line marks the chosen penalty), then the
 table: penalty, L1 budget t = sum |beta_j|, L2 budget sum beta_j^2, columns kept, and one column
-per model column that is ever nonzero on the path.
+per model column that is ever nonzero on the path, in the order of the chart's lines (those
+kept at the chosen penalty first, then by entry along the path). Each line has its own colour
+and line style; beyond ``LEGEND_UP_TO`` lines a note points to the table instead of a legend.
 """
 
 from __future__ import annotations
@@ -17,6 +19,15 @@ from engine.report.sheets.cells import Formats, heading_row, number, range_ref, 
 
 MAX_SERIES = 40  # spreadsheet charts cap series counts; the table keeps every column
 CHART_ROWS = 22
+# a legend names up to this many lines and still fits beside the chart
+LEGEND_UP_TO = 25
+# line colours (ten well apart), then a line style per ten lines, so no two of the 40 drawn
+# lines look alike
+_COLOURS = (
+    "#1F4E79", "#C55A11", "#548235", "#7030A0", "#BF9000",
+    "#2E75B6", "#C00000", "#00B0A0", "#7F6000", "#E36CB8",
+)  # fmt: skip
+_DASHES = ("solid", "dash", "round_dot", "long_dash")
 
 
 def _charted(path, names: list[str], ever: np.ndarray, chosen: int) -> list[int]:
@@ -63,6 +74,19 @@ def write(
         text(ws, r, 0, "Chosen penalty", fm.label)
         number(ws, r, 1, m.penalty if m.penalty is not None else pen[chosen])
         text(ws, r, 2, f"rule: {m.choice}" if m.choice else "", fm.note)
+        drawn = _charted(path, d.names, ever, chosen)
+        # the table's columns in the order of the lines (kept at the chosen penalty first, then
+        # by entry along the path), the columns not drawn after them
+        cols = drawn + [j for j in cols if j not in set(drawn)]
+        if len(drawn) > LEGEND_UP_TO:
+            text(
+                ws, r, 4,
+                f"{len(drawn)} lines{f' of {len(cols)} columns' if len(cols) > len(drawn) else ''}"
+                " are too many for a legend: the table below names them in the order of the "
+                "lines' colours, then line styles (columns kept at the chosen penalty first, "
+                "then by entry along the path)",
+                fm.note,
+            )  # fmt: skip
         r += 1
         ylo = float(P.min()) if P.size else -1.0
         yhi = float(P.max()) if P.size else 1.0
@@ -91,13 +115,17 @@ def write(
         first, last = head + 1, head + L
         chart = book.add_chart({"type": "scatter", "subtype": "straight"})
         pos = {j: 4 + c for c, j in enumerate(cols)}
-        for j in _charted(path, d.names, ever, chosen):
+        for i, j in enumerate(drawn):
             chart.add_series(
                 {
                     "name": [sheet_name, head, pos[j]],
                     "categories": range_ref(sheet_name, first, 0, last, 0),
                     "values": range_ref(sheet_name, first, pos[j], last, pos[j]),
-                    "line": {"width": 1.25},
+                    "line": {
+                        "width": 1.25,
+                        "color": _COLOURS[i % len(_COLOURS)],
+                        "dash_type": _DASHES[(i // len(_COLOURS)) % len(_DASHES)],
+                    },
                 }
             )
         chart.add_series(
@@ -111,7 +139,7 @@ def write(
         chart.set_title({"name": f"Coefficient path: {m.method}"})
         chart.set_x_axis({"name": "penalty (log scale)", "log_base": 10, "label_position": "low"})
         chart.set_y_axis({"name": "standardized coefficient"})
-        chart.set_legend({"position": "right" if len(cols) <= 15 else "none"})
+        chart.set_legend({"position": "right" if len(drawn) <= LEGEND_UP_TO else "none"})
         chart.set_size({"width": 640, "height": 20 * CHART_ROWS})
         ws.insert_chart(chart_r, 0, chart, {"x_offset": 5, "y_offset": 5})
         blocks.append((m.method, head))

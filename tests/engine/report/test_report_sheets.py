@@ -51,6 +51,19 @@ def test_path_charts_reference_the_penalty_column_and_mark_the_choice(written):
     assert ws.cell(head + 1, 1).value == pytest.approx(lasso.path.penalties[0])
     assert "log" in charts[0] and '<c:logBase val="10"/>' in charts[0]
     assert "chosen penalty" in charts[0]
+    # every line has its own look (colour and line style), and the table's columns come in
+    # the order of the lines: those kept at the chosen penalty first
+    looks = re.findall(
+        r'<c:spPr><a:ln w="\d+"><a:solidFill><a:srgbClr val="(\w+)"/></a:solidFill>'
+        r'(?:<a:prstDash val="(\w+)"/>)?',
+        charts[0],
+    )
+    drawn = [look for look in looks if look[0] != "000000"]  # the marker line is black
+    assert len(drawn) >= 2 and len(set(drawn)) == len(drawn)
+    names = [ws.cell(head, c).value for c in range(5, 5 + len(drawn))]
+    kept = set(lasso.selected)
+    firsts = [n in kept for n in names]
+    assert firsts == sorted(firsts, reverse=True)  # kept columns before the others
 
 
 def test_validation_chart_has_custom_error_bars_on_the_se_column(written):

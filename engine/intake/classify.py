@@ -76,6 +76,9 @@ _TEXT_LIMIT = 10
 # a number written with its unit ("12.5 kg", "45 min", "80 °C")
 _TEXT_UNIT = 11
 _CODES = 12
+# day 0 of spreadsheet date serial numbers (1900 system: day 1 is 1900-01-01, counting the
+# 1900-02-29 that never was, so day 0 is 1899-12-30 for every date after February 1900)
+_SERIAL_EPOCH = dt.datetime(1899, 12, 30)
 # what a unit written after a number looks like: letters (Latin or Greek: "µg", "Ω"), degree
 # and prime signs, powers, a slash or a dot inside ("km/h", "mg/kg", "m²", "°C")
 _NUMBER_AND_UNIT = re.compile(
@@ -309,6 +312,7 @@ _WARNING_MARKS = (
     "percentages written two ways",
     "written with the unit",
     "numbers written with different units",
+    "read as date serial",
 )
 
 
@@ -614,6 +618,21 @@ def _classify_mixed(
                 + (f", {mark_note}" if mark_note else "")
             )
     elif n_dates and n_dates >= _share(decisive):
+        # a plain number among dates is a date typed without its format when it lies where
+        # serial numbers of dates do (10000 = 1927-05-18 to 100000 = 2173-10-14; 1900 system)
+        serial = np.flatnonzero(
+            np.isin(codes, (_NUMBER, _TEXT_NUMBER)) & (numbers >= 10_000) & (numbers <= 100_000)
+        )
+        for k in serial.tolist():
+            dates[k] = _SERIAL_EPOCH + dt.timedelta(days=float(numbers[k]))
+            codes[k] = _DATE
+        if serial.size:
+            k0 = int(serial[0])
+            notes.append(
+                f"{serial.size} number{'s' if serial.size > 1 else ''} among the dates read as "
+                f"date serial number{'s' if serial.size > 1 else ''} (e.g. {cell_at(k0)} "
+                f"{numbers[k0]:g} as {dates[k0]:%Y-%m-%d})"
+            )
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
         bad = unusable_note(keep, "dates")
         values = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")

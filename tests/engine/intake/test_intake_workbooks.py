@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime as dt
 import math
 import os
 
@@ -711,3 +712,24 @@ def test_cells_of_a_sheet_with_a_quote_in_its_name_are_named_as_references(tmp_p
     table = read_table(path)
     note = next(w for w in table.warnings if "no stored result" in w)
     assert "'Lab ''QC'' data'!C2" in note
+
+
+def test_a_plain_number_among_dates_is_a_date_serial_number(tmp_path):
+    # a date typed or pasted without its format arrives as its serial number; openpyxl's
+    # from_excel (general-purpose library) says which day a serial is in the 1900 system
+    from openpyxl.utils.datetime import from_excel
+
+    rows = [["day", "sold"]] + [
+        [dt.datetime(2024, 5, 1) + dt.timedelta(days=i), 10.0 + i] for i in range(12)
+    ]
+    rows[5][0] = 45446.0  # no date format: the serial number alone
+    rows[8][0] = 12.0  # too small to be a date of these rows: stays unusable
+    table = read_table(_saved_sheet(tmp_path, "Days", rows))
+    day = table.column("day")
+    assert day.kind == ColumnKind.DATE
+    assert str(day.values[4])[:10] == from_excel(45446).date().isoformat() == "2024-06-03"
+    assert np.isnat(day.values[7])
+    assert any(
+        "1 number among the dates read as date serial number (e.g. A6 45446" in w
+        for w in table.warnings
+    )

@@ -380,7 +380,32 @@ class ScoringModel:
                 out[i].append(
                     f"'{enc.source}' {shown(v[i])} outside the fitted {shown(lo)} to {shown(hi)}"
                 )
+        for source, part, seen in self.seen_date_parts():
+            days = _as_days(self._find_column(table, source))
+            ok = np.isfinite(days)
+            d = np.where(ok, days, 0).astype("int64").astype("datetime64[D]")
+            if part == "month":
+                got = (d.astype("datetime64[M]").astype(int) % 12) + 1
+            else:
+                got = ((d.astype(int) + 3) % 7) + 1
+            for i in np.flatnonzero(ok & ~np.isin(got, list(seen))):
+                out[i].append(
+                    f"'{source}' in {part} {int(got[i])}, which no fitted row was in (read as "
+                    f"{part} {min(seen)}, the reference)"
+                )
         return ["extrapolation: " + "; ".join(o) if o else "" for o in out]
+
+    def seen_date_parts(self) -> list[tuple[str, str, set[int]]]:
+        """(date column, "month" or "weekday", the values the fitted rows had) for every date
+        split into parts: a new row in another month has no coefficient of its own."""
+        seen: dict[tuple[str, str], set[int]] = {}
+        for enc in self.encodings:
+            if enc.kind in ("month", "weekday"):
+                values = seen.setdefault((enc.source, enc.kind), set())
+                values.add(int(enc.level or 0))
+                if enc.reference:
+                    values.add(int(enc.reference))
+        return [(source, part, values) for (source, part), values in seen.items()]
 
     def _find_column(self, table, source: str):
         found = self._column_or_none(table, source)

@@ -375,6 +375,15 @@ def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp
     fitted = res.models[0].fitted[:5]
     np.testing.assert_allclose(got[:5], fitted, rtol=1e-9)
     np.testing.assert_allclose(got[5:], model.predict(read_table(new_book)), rtol=1e-9)
+    # the fitted rows run from January to June: July has no coefficient of its own (it is read
+    # as the reference month), which both the sheet's check and the engine's cautions say
+    sheet = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(sheet)
+    july, february = (sheet.cell(head + 6 + i, cols["Check"]).value or "" for i in range(2))
+    assert "month not seen in fitting in A" in july and "month" not in february
+    cautions = model.range_cautions(read_table(new_book))
+    assert "'made_on' in month 7, which no fitted row was in" in cautions[0]
+    assert "month" not in cautions[1]
 
 
 def test_a_blank_with_no_stored_fill_is_named_in_the_check(tmp_path):

@@ -562,6 +562,14 @@ def write(
             checks.append(
                 f'IF(AND(NOT({empty}),{_blankish(cell)}),"{col_name(s_i)} empty: filled; ","")'
             )
+        for source, part, seen in model.seen_date_parts():  # a month no fitted row was in
+            cell = cell_ref(r, sources.index(source), False, True)
+            fn = f"MONTH({cell})" if part == "month" else f"WEEKDAY({cell},2)"
+            known = ",".join(f"{fn}={v}" for v in sorted(seen))
+            checks.append(
+                f'IF(ISNUMBER({cell}),IF(OR({known}),"",'
+                f'"{part} not seen in fitting in {col_name(sources.index(source))}; "),"")'
+            )
         for s_i in logged_sources:  # a number with no log
             cell = cell_ref(r, s_i, False, True)
             checks.append(

@@ -34,10 +34,17 @@ from engine.intake.text_dates import looks_like_date
 SCAN_ROWS = 60
 
 
+# a number written plainly ("-1.38", "2.5e-3"): not a word, decided without the full parse
+# (a wide text file's rows hold thousands of them and the heading search reads 60 rows)
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
+
+
 def _is_word(value: object) -> bool:
     if not isinstance(value, str):
         return False
     s = value.strip()
+    if _PLAIN_NUMBER.fullmatch(s):
+        return False
     if not s or s.upper() in ERROR_VALUES or looks_like_date(s):
         return False
     return parse_number_text(s, ".") is None and parse_number_text(s, ",") is None

@@ -45,6 +45,21 @@ class Formats:
         self.param = add({"num_format": "General", "font_color": "#404040"})
         self.days = add({"num_format": "0"})  # a whole count of days, never shown as a date
         self.param_label = add({"italic": True, "font_color": "#404040"})
+        self._add = add
+        self._digits: dict[int, object] = {}
+
+    def digits(self, x: float):
+        """A format showing ``x`` to about six significant digits (the cell keeps every digit):
+        results read as 1506.66 rather than 1506.6626601456. Whole numbers, and magnitudes
+        that need an exponent, keep the General format."""
+        a = abs(x)
+        if x == round(x) or a < 1e-4 or a >= 1e10:
+            return self.number
+        decimals = min(9, max(0, 5 - math.floor(math.log10(a))))
+        if decimals not in self._digits:
+            fmt = "0." + "0" * decimals if decimals else "0"
+            self._digits[decimals] = self._add({"num_format": fmt})
+        return self._digits[decimals]
 
 
 def text(ws, row: int, col: int, value: object, fmt=None) -> None:
@@ -53,12 +68,13 @@ def text(ws, row: int, col: int, value: object, fmt=None) -> None:
 
 
 def number(ws, row: int, col: int, value: float | int | None, fmt=None) -> None:
-    """Write a finite number; leave the cell empty for None, NaN or infinity."""
+    """Write a finite number; leave the cell empty for None, NaN or infinity. ``fmt`` may be
+    the Formats themselves: the number then shows about six significant digits."""
     if value is None:
         return
     x = float(value)
     if math.isfinite(x):
-        ws.write_number(row, col, x, fmt)
+        ws.write_number(row, col, x, fmt.digits(x) if isinstance(fmt, Formats) else fmt)
 
 
 def col_name(col: int) -> str:

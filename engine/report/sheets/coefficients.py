@@ -19,7 +19,7 @@ def _coef(ws, r: int, c: int, value: float, fm: Formats) -> None:
     if value == 0.0:
         ws.write_number(r, c, 0.0, fm.zero)
     else:
-        number(ws, r, c, value, fm.number)
+        number(ws, r, c, value, fm)
 
 
 def write(book, ws, result, fm: Formats) -> None:
@@ -51,13 +51,14 @@ def write(book, ws, result, fm: Formats) -> None:
         text(ws, 4, c, h, fm.heading)
     ws.set_column(0, 1, 24)
     ws.set_column(2, 2, 10)
-    ws.set_column(3, 3, 28)
+    # wide enough for the longest list of methods keeping a column (bold text runs wider)
+    ws.set_column(3, 3, min(60, max(28, 1.15 * len(", ".join(m.method for m in models)))))
     ws.set_column(4, len(heads), 14)
     ws.freeze_panes(5, 1)
     r = 5
     text(ws, r, 0, "(intercept)", fm.label)
     for t, m in enumerate(models):
-        number(ws, r, 4 + t, m.intercept, fm.number)
+        number(ws, r, 4 + t, m.intercept, fm)
     r += 1
     for enc in d.encodings:
         name = enc.name
@@ -78,7 +79,7 @@ def write(book, ws, result, fm: Formats) -> None:
             text(ws, r, c + 1, "yes" if name in stab.stable else "")
             c += 2
         for m in with_se:
-            number(ws, r, c, (m.std_errors or {}).get(name), fm.number)
+            number(ws, r, c, (m.std_errors or {}).get(name), fm)
             c += 1
         r += 1
     if result.focal is not None:
@@ -108,7 +109,7 @@ def write(book, ws, result, fm: Formats) -> None:
             if isinstance(value, str):
                 text(ws, r, 1, value)
             else:
-                number(ws, r, 1, value, fm.number)
+                number(ws, r, 1, value, fm)
             r += 1
         for note in f.notes:  # how to read it (logs, which label is 1), few groups...
             text(ws, r, 0, note[:1].upper() + note[1:], fm.note)

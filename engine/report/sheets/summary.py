@@ -118,12 +118,12 @@ def write(book, ws, result, fm: Formats) -> None:
     for m in result.models:
         text(ws, r, 0, _methods_title(m.method), fm.label if m.method == best else None)
         text(ws, r, 1, m.method)
-        number(ws, r, 2, m.cv_error)
-        number(ws, r, 3, m.cv_error_se)
-        number(ws, r, 4, m.cv_r2)
+        number(ws, r, 2, m.cv_error, fm)
+        number(ws, r, 3, m.cv_error_se, fm)
+        number(ws, r, 4, m.cv_r2, fm)
         number(ws, r, 5, len(m.selected))
-        number(ws, r, 6, m.r2)
-        number(ws, r, 7, m.penalty)
+        number(ws, r, 6, m.r2, fm)
+        number(ws, r, 7, m.penalty, fm)
         if m.choice:
             text(ws, r, 8, m.choice)
         notes = list(m.notes)
@@ -134,8 +134,8 @@ def write(book, ws, result, fm: Formats) -> None:
         if notes:
             text(ws, r, 9, "; ".join(notes))
         if tested:
-            number(ws, r, 10, m.test_error)
-            number(ws, r, 11, m.test_r2)
+            number(ws, r, 10, m.test_error, fm)
+            number(ws, r, 11, m.test_r2, fm)
         r += 1
     if result.focal is not None:
         f = result.focal

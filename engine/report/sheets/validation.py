@@ -88,10 +88,10 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
             for i in range(len(grid)):
                 rr = head + 1 + i
                 number(ws, rr, 0, grid[i])
-                number(ws, rr, 1, mean[i])
-                number(ws, rr, 2, se[i])
-                number(ws, rr, 3, mean[i] - se[i])
-                number(ws, rr, 4, mean[i] + se[i])
+                number(ws, rr, 1, mean[i], fm)
+                number(ws, rr, 2, se[i], fm)
+                number(ws, rr, 3, mean[i] - se[i], fm)
+                number(ws, rr, 4, mean[i] + se[i], fm)
                 number(ws, rr, 5, cv.n_selected[i])
                 marks = []
                 if i == cv.index_min:
@@ -170,9 +170,9 @@ def write(book, ws, result, fm: Formats, sheet_name: str) -> list[tuple[str, int
             r += 1
             for row in m.by_size:
                 number(ws, r, 0, row.size)
-                number(ws, r, 1, row.rss)
-                number(ws, r, 2, row.r2)
-                number(ws, r, 3, row.bic)
+                number(ws, r, 1, row.rss, fm)
+                number(ws, r, 2, row.r2, fm)
+                number(ws, r, 3, row.bic, fm)
                 text(ws, r, 4, ", ".join(row.columns) or "(none)")
                 r += 1
         r += 2

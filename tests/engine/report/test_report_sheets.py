@@ -187,3 +187,21 @@ def test_a_model_without_columns_scores_its_constant(tmp_path):
     assert formula.startswith("=") and "A" + str(head + 1) not in formula
     cached = openpyxl.load_workbook(out, data_only=True)["TM Scoring"].cell(head + 1, 1).value
     assert cached == pytest.approx(lasso.intercept)
+
+
+def test_numbers_show_six_significant_digits_and_keep_them_all(written):
+    # display only: the cell holds the full value (common practice for result tables)
+    from engine.report.sheets.cells import Formats
+
+    result, out = written
+    ws = openpyxl.load_workbook(out)["TM Summary"]
+    cells = [c for row in ws.iter_rows() for c in row if isinstance(c.value, float)]
+    cv = next(c for c in cells if c.value == result.models[0].cv_error)
+    digits = len(cv.number_format.partition(".")[2])
+    shown = f"{cv.value:.{digits}f}"
+    assert len(shown.replace(".", "").replace("-", "").lstrip("0")) == 6
+    assert cv.value == result.models[0].cv_error  # nothing rounded in the cell
+    fm = Formats(type("Book", (), {"add_format": lambda self, d: d})())
+    assert fm.digits(1506.6626601456)["num_format"] == "0.00"
+    assert fm.digits(0.000380649)["num_format"] == "0.000000000"
+    assert fm.digits(12.0) is fm.number and fm.digits(3.2e-7) is fm.number

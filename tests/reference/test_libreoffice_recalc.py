@@ -62,6 +62,16 @@ def _predictions(path: Path, first: int, count: int) -> np.ndarray:
     return np.array([np.nan if v in (None, "", "#N/A") else float(v) for v in vals])
 
 
+def _new_rows_book(path: Path, headings: list[str], rows: list[tuple]) -> Path:
+    """A workbook of new rows for the score route, the same rows as pasted on the sheet."""
+    wb = openpyxl.Workbook()
+    wb.active.append(headings)
+    for row in rows:
+        wb.active.append(list(row))
+    wb.save(path)
+    return path
+
+
 def _plant_wrong_cached_value(src: Path, dst: Path) -> None:
     """Copy ``src`` with the first prediction's cached value replaced by WRONG."""
     wb = openpyxl.load_workbook(src, read_only=True)
@@ -364,12 +374,7 @@ def test_in_place_results_in_a_1904_dated_workbook_recalculate_to_the_engine(tmp
     new = [(dt.datetime(2024, 7, 15), 78.0), (dt.datetime(2024, 2, 29), 85.5)]
     assert openpyxl.load_workbook(book, read_only=True).epoch == CALENDAR_MAC_1904
     pasted = paste_after_examples(book, ["made_on", "temp"], new, tmp_path / "pasted.xlsx")
-    rows = openpyxl.Workbook()
-    rows.active.append(["made_on", "temp"])
-    for day, temp in new:
-        rows.active.append([day, temp])
-    new_book = tmp_path / "new.xlsx"
-    rows.save(new_book)
+    new_book = _new_rows_book(tmp_path / "new.xlsx", ["made_on", "temp"], new)
     (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
     got = _predictions(out, 1, 5 + len(new))
     fitted = res.models[0].fitted[:5]
@@ -486,12 +491,7 @@ def test_filled_and_unread_cells_on_the_recalculated_scoring_sheet(tmp_path):
     np.testing.assert_allclose(got, mirror, rtol=1e-9)
     assert np.isnan(got[1]) and np.isnan(got[4])
     # the filled rows equal the score command's route (intake reads "n/a" as missing)
-    rows = openpyxl.Workbook()
-    rows.active.append(["size", "express"])
-    for a, b in new:
-        rows.active.append([a, b])
-    new_book = tmp_path / "new.xlsx"
-    rows.save(new_book)
+    new_book = _new_rows_book(tmp_path / "new.xlsx", ["size", "express"], new)
     engine = model.predict(read_table(new_book))
     np.testing.assert_allclose(got[[0, 2, 3, 5]], engine[[0, 2, 3, 5]], rtol=1e-9)
     sheet = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]

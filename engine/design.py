@@ -573,7 +573,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     X = np.ascontiguousarray(X)
     means = X.mean(axis=0)
     sds = X.std(axis=0)
-    warnings.extend(_duplicate_warnings(X, names, means, sds))
+    duplicates = _duplicates(X, means, sds)
 
     groups = None
     if group_col is not None:
@@ -606,6 +606,34 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             f"the focal column '{spec.focal}' in {where} is constant on the rows used; choose another focal column",
             place(spec.focal),
         )
+    # a control that moves exactly with the focal column would take an arbitrary share of its
+    # effect: it carries nothing the focal column does not, so it is left out
+    copies = sorted(
+        {k if j == focal_index else j for j, k, _ in duplicates if focal_index in (j, k)}
+    )
+    warnings.extend(
+        _duplicate_words(names, j, k, sign)
+        for j, k, sign in duplicates
+        if focal_index not in (j, k)
+    )
+    if copies:
+        for j in copies:
+            why = (
+                f"it moves exactly with the focal column '{names[focal_index]}' on the rows used "
+                "(the same once both are put on one scale), so no effect could be told apart "
+                "from the focal one"
+            )
+            dropped_columns[names[j]] = why
+            warnings.append(f"column '{names[j]}' left out: {why}")
+        keep_cols = np.array([j not in copies for j in range(len(names))])
+        X = np.ascontiguousarray(X[:, keep_cols])
+        names = [nm for nm, k in zip(names, keep_cols) if k]
+        encodings = [e for e, k in zip(encodings, keep_cols) if k]
+        X, names, encodings = without_orphan_products(
+            X, names, encodings, dropped_columns, warnings
+        )
+        means, sds = X.mean(axis=0), X.std(axis=0)
+        focal_index = names.index(focal_name)
     return Design(
         source=str(table.source),
         sheet=table.sheet,
@@ -812,27 +840,29 @@ def _rows(count: int) -> str:
     return f"{count} row" if count == 1 else f"{count} rows"
 
 
-def _duplicate_warnings(
-    X: np.ndarray, names: list[str], means: np.ndarray, sds: np.ndarray
-) -> list[str]:
-    """Name pairs of model columns that are exact copies (or exact negatives) of each other."""
+def _duplicates(X: np.ndarray, means: np.ndarray, sds: np.ndarray) -> list[tuple[int, int, int]]:
+    """Pairs (j, k, sign) of model columns that move exactly together (sign 1: column j is a
+    scaled copy of the earlier column k) or exactly against each other (sign -1)."""
     if X.shape[1] < 2:
         return []
     Z = (X - means) / sds
     # hash each standardized column (rounded) so exact duplicates meet in one bucket
-    out: list[str] = []
+    out: list[tuple[int, int, int]] = []
     seen: dict[bytes, int] = {}
     for j in range(Z.shape[1]):
         col = np.round(Z[:, j], 9) + 0.0  # + 0.0 folds -0.0 into 0.0
         for sign, key in ((1, col.tobytes()), (-1, (0.0 - col).tobytes())):
             if key in seen:
-                k = seen[key]
-                rel = "an exact copy" if sign == 1 else "an exact mirror (negative multiple)"
-                out.append(
-                    f"column '{names[j]}' is {rel} of '{names[k]}' on the rows used; "
-                    "their effects cannot be told apart"
-                )
+                out.append((j, seen[key], sign))
                 break
         else:
             seen[col.tobytes()] = j
     return out
+
+
+def _duplicate_words(names: list[str], j: int, k: int, sign: int) -> str:
+    rel = "an exact copy" if sign == 1 else "an exact mirror (negative multiple)"
+    return (
+        f"column '{names[j]}' is {rel} of '{names[k]}' on the rows used, once both are put on "
+        "one scale; their effects cannot be told apart"
+    )

@@ -196,7 +196,10 @@ def test_exact_duplicate_columns_are_reported():
         _col("b", ColumnKind.NUMBER, [2, 6, 4, 10, 8], "C"),
     )
     d = build_design(t, _spec())
-    assert any("'b' is an exact copy of 'a'" in w for w in d.warnings)
+    assert any(
+        "'b' is an exact copy of 'a' on the rows used, once both are put on one scale" in w
+        for w in d.warnings
+    )
 
 
 def test_population_standard_deviation_is_used():
@@ -478,3 +481,23 @@ def test_words_in_a_candidate_name_their_cells_like_the_response(tmp_path, missi
         and w.endswith(then)
         for w in design.warnings
     ), design.warnings
+
+
+def test_a_scaled_copy_of_the_focal_column_is_left_out_of_the_controls():
+    # price in another currency beside price: double selection would split the effect
+    # between the two at random; the copy carries nothing the focal column does not
+    rng = np.random.default_rng(2)
+    n = 40
+    price = rng.uniform(1, 3, n)
+    other = rng.normal(size=n)
+    y = 10 - 4 * price + other + rng.normal(scale=0.1, size=n)
+    t = _table(
+        _col("y", ColumnKind.NUMBER, y),
+        _col("price", ColumnKind.NUMBER, price, "B"),
+        _col("price_usd", ColumnKind.NUMBER, 1.1 * price, "C"),
+        _col("other", ColumnKind.NUMBER, other, "D"),
+    )
+    d = build_design(t, _spec(focal="price"))
+    assert d.names == ["price", "other"] and d.focal_index == 0
+    assert "focal column 'price'" in d.dropped_columns["price_usd"]
+    assert not any("exact copy" in w for w in d.warnings)

@@ -37,6 +37,13 @@ if TYPE_CHECKING:
 MAX_LEVELS = 60
 
 
+def date_part(days: np.ndarray, part: str) -> np.ndarray:
+    """The month (1-12) or ISO weekday (1 Monday - 7 Sunday) of datetime64 values."""
+    if part == "month":
+        return (days.astype("datetime64[M]").astype(int) % 12) + 1
+    return ((days.astype("datetime64[D]").astype(int) + 3) % 7) + 1  # 1970-01-01: a Thursday
+
+
 def log_name(column: str) -> str:
     """The model's name for the natural log of a column."""
     return f"ln({column})"
@@ -461,14 +468,10 @@ def build_design(table: Table, spec: StudySpec) -> Design:
                 days,
             )
             if spec.date_parts:
-                dd = d[ok]
-                months = (dd.astype("datetime64[M]").astype(int) % 12) + 1
                 monthly = np.full(d.shape, 0, dtype=int)
-                monthly[ok] = months
+                monthly[ok] = date_part(d[ok], "month")
                 weekday = np.full(d.shape, 0, dtype=int)
-                weekday[ok] = (
-                    (d[ok].astype("datetime64[D]").astype(int) + 3) % 7
-                ) + 1  # 1970-01-01 was a Thursday
+                weekday[ok] = date_part(d[ok], "weekday")
                 for part, vals, kind in (
                     ("month", monthly, "month"),
                     ("weekday", weekday, "weekday"),
@@ -616,16 +619,16 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         for j, k, sign in duplicates
         if focal_index not in (j, k)
     )
-    if copies:
-        for j in copies:
+    if copies and focal_index is not None and focal_name is not None:
+        for idx in copies:
             why = (
-                f"it moves exactly with the focal column '{names[focal_index]}' on the rows used "
+                f"it moves exactly with the focal column '{focal_name}' on the rows used "
                 "(the same once both are put on one scale), so no effect could be told apart "
                 "from the focal one"
             )
-            dropped_columns[names[j]] = why
-            warnings.append(f"column '{names[j]}' left out: {why}")
-        keep_cols = np.array([j not in copies for j in range(len(names))])
+            dropped_columns[names[idx]] = why
+            warnings.append(f"column '{names[idx]}' left out: {why}")
+        keep_cols = np.array([i not in copies for i in range(len(names))])
         X = np.ascontiguousarray(X[:, keep_cols])
         names = [nm for nm, k in zip(names, keep_cols) if k]
         encodings = [e for e, k in zip(encodings, keep_cols) if k]

@@ -46,7 +46,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from engine.design import Encoding
+from engine.design import Encoding, date_part
 from engine.errors import InputProblem, Place
 from engine.intake.cells import MISSING_WORDS
 
@@ -135,6 +135,9 @@ class ScoringModel:
     # the linear predictor estimates ln(response): predictions are exp(.) * smearing
     response_log: bool = False
     smearing: float = 1.0
+    # (date column, "month" or "weekday") -> the values the fitted rows had, from every
+    # encoding of the design (a month whose coefficient is 0 was still seen)
+    date_parts_seen: dict[tuple[str, str], set[int]] = field(default_factory=dict)
 
     @classmethod
     def from_parts(
@@ -177,6 +180,7 @@ class ScoringModel:
             highs=np.array([ranges.get(e.name, nan)[1] for e in used], dtype=float),
             response_log=smearing is not None,
             smearing=1.0 if smearing is None else float(smearing),
+            date_parts_seen=_date_parts_seen(encodings, {e.source for e in used}),
         )
 
     @classmethod
@@ -357,9 +361,9 @@ class ScoringModel:
         table = as_table(table)
         n = table.n_rows
         out: list[list[str]] = [[] for _ in range(n)]
-        if self.lows is None or self.highs is None:
-            return ["" for _ in range(n)]
         for j, enc in enumerate(self.encodings):
+            if self.lows is None or self.highs is None:  # an older workbook: no ranges kept
+                break
             lo, hi = float(self.lows[j]), float(self.highs[j])
             if enc.kind not in ("number", "trend", "ln") or not (
                 math.isfinite(lo) and math.isfinite(hi)
@@ -383,11 +387,7 @@ class ScoringModel:
         for source, part, seen in self.seen_date_parts():
             days = _as_days(self._find_column(table, source))
             ok = np.isfinite(days)
-            d = np.where(ok, days, 0).astype("int64").astype("datetime64[D]")
-            if part == "month":
-                got = (d.astype("datetime64[M]").astype(int) % 12) + 1
-            else:
-                got = ((d.astype(int) + 3) % 7) + 1
+            got = date_part(np.where(ok, days, 0).astype("int64").astype("datetime64[D]"), part)
             for i in np.flatnonzero(ok & ~np.isin(got, list(seen))):
                 out[i].append(
                     f"'{source}' in {part} {int(got[i])}, which no fitted row was in (read as "
@@ -397,15 +397,13 @@ class ScoringModel:
 
     def seen_date_parts(self) -> list[tuple[str, str, set[int]]]:
         """(date column, "month" or "weekday", the values the fitted rows had) for every date
-        split into parts: a new row in another month has no coefficient of its own."""
-        seen: dict[tuple[str, str], set[int]] = {}
-        for enc in self.encodings:
-            if enc.kind in ("month", "weekday"):
-                values = seen.setdefault((enc.source, enc.kind), set())
-                values.add(int(enc.level or 0))
-                if enc.reference:
-                    values.add(int(enc.reference))
-        return [(source, part, values) for (source, part), values in seen.items()]
+        split into parts the model uses, leaving out parts every value of which was seen: a
+        new row in another month has no coefficient of its own."""
+        return [
+            (source, part, values)
+            for (source, part), values in self.date_parts_seen.items()
+            if len(values) < (12 if part == "month" else 7)
+        ]
 
     def _find_column(self, table, source: str):
         found = self._column_or_none(table, source)
@@ -495,11 +493,9 @@ class ScoringModel:
                 v = days - float(origin)
                 return np.where(np.isfinite(v), v, miss)
             ok = np.isfinite(days)
-            d = np.where(ok, days, 0).astype("int64").astype("datetime64[D]")
-            if enc.kind == "month":
-                part = (d.astype("datetime64[M]").astype(int) % 12) + 1
-            else:
-                part = ((d.astype(int) + 3) % 7) + 1  # 1970-01-01 was a Thursday (ISO weekday 4)
+            part = date_part(
+                np.where(ok, days, 0).astype("int64").astype("datetime64[D]"), enc.kind
+            )
             return np.where(ok, (part == int(enc.level or 0)).astype(float), 0.0)
         if enc.kind == "missing":
             return col.missing_mask().astype(float)
@@ -600,6 +596,21 @@ def as_table(rows):
     return rows if isinstance(rows, Table) else read_frame(rows, "new rows")
 
 
+def _date_parts_seen(
+    encodings: list[Encoding], sources: set[str]
+) -> dict[tuple[str, str], set[int]]:
+    """The months and weekdays of the fitted rows, from a design's encodings (each level and
+    the reference), for the date columns in ``sources``."""
+    seen: dict[tuple[str, str], set[int]] = {}
+    for enc in encodings:
+        if enc.kind in ("month", "weekday") and enc.source in sources:
+            values = seen.setdefault((enc.source, enc.kind), set())
+            values.add(int(enc.level or 0))
+            if enc.reference:
+                values.add(int(enc.reference))
+    return seen
+
+
 def _blankish(raw: object) -> bool:
     """What the sheet's formulas take as a missing cell: blank (None; an error cell reaches
     Python as None too), spaces, or a placeholder such as "n/a" (intake reads these as
@@ -608,7 +619,7 @@ def _blankish(raw: object) -> bool:
         return True
     if not isinstance(raw, str):
         return False
-    t = raw.strip()
+    t = raw.strip(" ")  # as the sheet's TRIM, which takes off spaces only
     return not t or t.lower() in MISSING_WORDS
 
 

@@ -13,7 +13,7 @@ Layout (rows top to bottom, written in order for xlsxwriter's constant_memory mo
 - the first rows of the study's data as examples, then empty rows ready for pasting.
 
 Every formula uses only functions every spreadsheet program has (IF, ISNUMBER, ISLOGICAL,
-ISBLANK, ISERROR, ISTEXT, EXACT, LOWER, TRIM, LEN, MATCH, OR, AND, INT, MONTH, WEEKDAY, COUNTA,
+ISBLANK, ISERROR, ISTEXT, EXACT, LOWER, TRIM, LEN, OR, AND, INT, MONTH, WEEKDAY, COUNTA,
 SUMPRODUCT, NA, and LN and EXP where the study took logs), and
 reads means, standard deviations, coefficients and the centre from cells rather than baking them
 in. Cached values are real numbers (Python mirror of each formula), so every reader shows them.
@@ -120,21 +120,29 @@ def example_rows(
     return rows
 
 
+# a Check longer than this is split into a helper cell per source column (the standard sets
+# no length, but Excel takes at most 8,192 characters, [MS-OI29500] 2.1.1085; a helper
+# stays far below that)
+_CHECK_IN_ONE_CELL = 2000
+_MISSING_WORDS = ",".join(f'"{w}"' for w in sorted(MISSING_WORDS))
+
+
 def _miss_expr(enc, fill_ref: str, src: str) -> str:
     """A cell that is not a usable value: the stored fill when it counts as missing (blank,
     an error value, a typed placeholder such as "n/a", as intake reads it), else no
     prediction: text such as "12.5 kg" is not guessed at, the check column names it."""
     if enc.fill is None:
         return "NA()"
-    return f"IF({_blankish(src)},{fill_ref},NA())"
+    return f"IF({_missing_cell_test(src)},{fill_ref},NA())"
 
 
-def _blankish(src: str) -> str:
-    """True for a cell intake reads as missing: blank, an error value, spaces, a placeholder."""
-    words = ",".join(f'"{w}"' for w in sorted(MISSING_WORDS))
+def _missing_cell_test(src: str) -> str:
+    """Formula text, true for a cell intake reads as missing: blank, an error value, spaces,
+    a placeholder word. Compared with = against the words, not MATCH: MATCH takes "?" and "*"
+    as wildcards in some spreadsheet programs."""
     return (
         f"OR(ISBLANK({src}),ISERROR({src}),IF(ISTEXT({src}),OR(LEN(TRIM({src}))=0,"
-        f"ISNUMBER(MATCH(LOWER(TRIM({src})),{{{words}}},0))),FALSE))"
+        f"OR(LOWER(TRIM({src}))={{{_MISSING_WORDS}}})),FALSE))"
     )
 
 
@@ -374,30 +382,6 @@ def write(
                         text(ws, row, enc0 + t, lv, fm.param)
         row += 1
 
-    # header row
-    heading_row(
-        ws,
-        header,
-        [
-            *sources,
-            model.prediction_label,
-            RANGE_LOW,
-            "Check",
-            *(f"{e.name} (model)" for e in encs),
-        ],
-        14,
-    )
-    for s_i, s in enumerate(sources):
-        text(ws, header, s_i, s, fm.heading)
-    text(ws, header, pred_col, model.prediction_label, fm.heading)
-    if low_col is not None and high_col is not None:
-        text(ws, header, low_col, RANGE_LOW, fm.heading)
-        text(ws, header, high_col, RANGE_HIGH, fm.heading)
-    text(ws, header, check_col, "Check", fm.heading)
-    text(ws, header, label_col, "(encoded values below)", fm.note)
-    for j, enc in enumerate(encs):
-        text(ws, header, enc0 + j, f"{enc.name} (model)", fm.heading)
-
     def ref(name: str, j: int) -> str:
         return cell_ref(prow[name], enc0 + j, True, False)
 
@@ -441,16 +425,139 @@ def write(
         {
             sources.index(e.source)
             for e in encs
-            if e.kind in ("number", "ln", "flag", "level", "trend", "month", "weekday")
+            if e.kind in ("number", "ln", "flag", "level", "trend")
             and e.fill is None
             and not (e.kind == "level" and "" in model.category_levels.get(e.source, []))
         }
     )
+
+    def empty_test(r: int) -> str:
+        """Formula text, true when row r's paste block is empty (no prediction, no check)."""
+        if not m:  # a model with no column: a constant
+            return "FALSE"
+        return f"COUNTA({cell_ref(r, 0, False, True)}:{cell_ref(r, m - 1, False, True)})=0"
+
+    def check_parts(r: int) -> dict[int, list[str]]:
+        """Row r's check: why a row has no prediction (an unseen level, a cell the formulas
+        cannot read, no value where nothing is stored to fill it) and what to look at in one
+        that has (a filled cell, a month or value outside what the model was fitted on); a
+        list of message formulas per source column."""
+        empty = empty_test(r)
+        by_source: dict[int, list[str]] = {}
+
+        def say(s_i: int, formula: str) -> None:
+            by_source.setdefault(s_i, []).append(formula)
+
+        for s in cat_sources:
+            s_i = sources.index(s)
+            cell = cell_ref(r, s_i, False, True)
+            lr = level_rows[s]
+            n_lv = max(len(model.category_levels.get(s, [])), 1)
+            lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
+            say(
+                s_i,
+                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(LOWER(TRIM({cell})),LOWER({lv_rng})))=0,'
+                f'"unseen level in {col_name(s_i)}; ",""))',
+            )
+        for s_i in blank_means_none:  # no value and no stored fill: no prediction, say why
+            cell = cell_ref(r, s_i, False, True)
+            say(
+                s_i,
+                f'IF(AND(NOT({empty}),{_missing_cell_test(cell)}),"no value in {col_name(s_i)}; ","")',
+            )
+        for s_i, kind in typed_sources:  # text typed where a number or date belongs
+            cell = cell_ref(r, s_i, False, True)
+            say(
+                s_i,
+                f'IF(OR(ISNUMBER({cell}),{_missing_cell_test(cell)}),"",'
+                f'"not a {kind} in {col_name(s_i)} (type it as a {kind}); ")',
+            )
+        for s_i in flag_sources:  # a word the yes/no formulas do not know
+            cell = cell_ref(r, s_i, False, True)
+            say(
+                s_i,
+                f'IF(OR(ISNUMBER({cell}),ISLOGICAL({cell}),{_missing_cell_test(cell)}),"",'
+                f'IF(OR(LOWER(TRIM({cell}))={{{flag_words}}}),"",'
+                f'"not yes/no in {col_name(s_i)}; "))',
+            )
+        for s_i in filled_sources:  # an empty cell took the stored fill: say so
+            cell = cell_ref(r, s_i, False, True)
+            say(
+                s_i,
+                f"IF(AND(NOT({empty}),{_missing_cell_test(cell)}),"
+                f'"{col_name(s_i)} empty: the stored fill used; ","")',
+            )
+        for source, part, seen in model.seen_date_parts():  # a month no fitted row was in
+            s_i = sources.index(source)
+            cell = cell_ref(r, s_i, False, True)
+            fn = f"MONTH({cell})" if part == "month" else f"WEEKDAY({cell},2)"
+            known = ",".join(str(v) for v in sorted(seen))
+            say(
+                s_i,
+                f'IF(ISNUMBER({cell}),IF(OR({fn}={{{known}}}),"",'
+                f'"{part} not seen in fitting in {col_name(s_i)}; "),"")',
+            )
+        for s_i in logged_sources:  # a number with no log
+            cell = cell_ref(r, s_i, False, True)
+            say(
+                s_i,
+                f'IF(ISNUMBER({cell}),IF({cell}<=0,"not above 0 (no ln) in {col_name(s_i)}; ",""),"")',
+            )
+        for j, enc in enumerate(encs):
+            lows, highs = model.lows, model.highs
+            if enc.kind not in ("number", "trend", "ln") or lows is None or highs is None:
+                continue
+            if not (math.isfinite(float(lows[j])) and math.isfinite(float(highs[j]))):
+                continue
+            e_cell = cell_ref(r, enc0 + j)
+            lo, hi = ref("lowest value fitted", j), ref("highest value fitted", j)
+            s_i = sources.index(enc.source)
+            say(
+                s_i,
+                f"IF(ISNUMBER({e_cell}),IF(OR({e_cell}<{lo},{e_cell}>{hi}),"
+                f'"outside the fitted range in {col_name(s_i)}; ",""),"")',
+            )
+        return by_source
+
+    flag_words = ",".join(f'"{t}"' for t in (*yes_words, *no_words))
+    first_parts = check_parts(first)
+    # a check too long for one cell (spreadsheet programs cap a formula at 8,192 characters)
+    # is split: one helper cell per source column to the right, the Check cell joins them
+    check_helpers = (
+        len("&".join(f for parts in first_parts.values() for f in parts)) > _CHECK_IN_ONE_CELL
+    )
+    check0 = enc0 + k + 1
+    # header row
+    heading_row(
+        ws,
+        header,
+        [
+            *sources,
+            model.prediction_label,
+            RANGE_LOW,
+            "Check",
+            *(f"{e.name} (model)" for e in encs),
+        ],
+        14,
+    )
+    for s_i, s in enumerate(sources):
+        text(ws, header, s_i, s, fm.heading)
+    text(ws, header, pred_col, model.prediction_label, fm.heading)
+    if low_col is not None and high_col is not None:
+        text(ws, header, low_col, RANGE_LOW, fm.heading)
+        text(ws, header, high_col, RANGE_HIGH, fm.heading)
+    text(ws, header, check_col, "Check", fm.heading)
+    text(ws, header, label_col, "(encoded values below)", fm.note)
+    for j, enc in enumerate(encs):
+        text(ws, header, enc0 + j, f"{enc.name} (model)", fm.heading)
+
+    if check_helpers:
+        for s_i in sorted(first_parts):
+            text(ws, header, check0 + s_i, f"check: {sources[s_i]}", fm.param_label)
     for t in range(n_rows):
         r = first + t
         ex = examples[t] if t < len(examples) else None
-        paste = f"{cell_ref(r, 0, False, True)}:{cell_ref(r, max(m - 1, 0), False, True)}"
-        empty = f"COUNTA({paste})=0" if m else "FALSE"  # a model with no column: a constant
+        empty = empty_test(r)
         encoded: list[float] = []
         for s_i, s in enumerate(sources):
             is_date = source_kind(encs, s) == "date"
@@ -524,71 +631,15 @@ def write(
                     ev = pv_linear + sign * halfwidth
                     ecached = math.exp(ev) if model.response_log else ev
                 ws.write_formula(r, c, f'=IF(ISNUMBER({p_cell}),{end},"")', fm.number, ecached)
-        # check: unseen category levels (compared as the model does: spaces trimmed, case ignored), and numbers or
-        # dates outside the range of the rows the model was fitted on (extrapolation)
-        checks = []
-        for s in cat_sources:
-            cell = cell_ref(r, sources.index(s), False, True)
-            lr = level_rows[s]
-            n_lv = max(len(model.category_levels.get(s, [])), 1)
-            lv_rng = f"{cell_ref(lr, enc0, True, True)}:{cell_ref(lr, enc0 + n_lv - 1, True, True)}"
-            checks.append(
-                f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(LOWER(TRIM({cell})),LOWER({lv_rng})))=0,'
-                f'"unseen level in {col_name(sources.index(s))}; ",""))'
-            )
-        for s_i in blank_means_none:  # no value and no stored fill: no prediction, say why
-            cell = cell_ref(r, s_i, False, True)
-            checks.append(
-                f"IF(AND(NOT({empty}),OR(ISBLANK({cell}),ISERROR({cell}))),"
-                f'"no value in {col_name(s_i)}; ","")'
-            )
-        for s_i, kind in typed_sources:  # text typed where a number or date belongs
-            cell = cell_ref(r, s_i, False, True)
-            checks.append(
-                f'IF(OR(ISNUMBER({cell}),{_blankish(cell)}),"",'
-                f'"not a {kind} in {col_name(s_i)} (type it as a {kind}); ")'
-            )
-        for s_i in flag_sources:  # a word the yes/no formulas do not know
-            cell = cell_ref(r, s_i, False, True)
-            low = f"LOWER(TRIM({cell}))"
-            known = ",".join(f'"{t}"' for t in (*yes_words, *no_words))
-            checks.append(
-                f'IF(OR(ISNUMBER({cell}),ISLOGICAL({cell}),{_blankish(cell)}),"",'
-                f'IF(ISNUMBER(MATCH({low},{{{known}}},0)),"",'
-                f'"not yes/no in {col_name(s_i)}; "))'
-            )
-        for s_i in filled_sources:  # an empty cell took the stored fill: say so
-            cell = cell_ref(r, s_i, False, True)
-            checks.append(
-                f'IF(AND(NOT({empty}),{_blankish(cell)}),"{col_name(s_i)} empty: filled; ","")'
-            )
-        for source, part, seen in model.seen_date_parts():  # a month no fitted row was in
-            cell = cell_ref(r, sources.index(source), False, True)
-            fn = f"MONTH({cell})" if part == "month" else f"WEEKDAY({cell},2)"
-            known = ",".join(f"{fn}={v}" for v in sorted(seen))
-            checks.append(
-                f'IF(ISNUMBER({cell}),IF(OR({known}),"",'
-                f'"{part} not seen in fitting in {col_name(sources.index(source))}; "),"")'
-            )
-        for s_i in logged_sources:  # a number with no log
-            cell = cell_ref(r, s_i, False, True)
-            checks.append(
-                f'IF(ISNUMBER({cell}),IF({cell}<=0,"not above 0 (no ln) in {col_name(s_i)}; ",""),"")'
-            )
-        for j, enc in enumerate(encs):
-            lows, highs = model.lows, model.highs
-            if enc.kind not in ("number", "trend", "ln") or lows is None or highs is None:
-                continue
-            if not (math.isfinite(float(lows[j])) and math.isfinite(float(highs[j]))):
-                continue
-            e_cell = cell_ref(r, enc0 + j)
-            lo, hi = ref("lowest value fitted", j), ref("highest value fitted", j)
-            checks.append(
-                f"IF(ISNUMBER({e_cell}),IF(OR({e_cell}<{lo},{e_cell}>{hi}),"
-                f'"outside the fitted range in {col_name(sources.index(enc.source))}; ",""),"")'
-            )
-        if checks:
-            ws.write_formula(r, check_col, "=" + "&".join(checks), None, "")
+        by_source = check_parts(r)
+        whole = "&".join(f for s_i in sorted(by_source) for f in by_source[s_i])
+        if whole and not check_helpers:
+            ws.write_formula(r, check_col, "=" + whole, None, "")
+        elif whole:
+            for s_i, parts in sorted(by_source.items()):
+                ws.write_formula(r, check0 + s_i, "=" + "&".join(parts), fm.param, "")
+            joined = "&".join(cell_ref(r, check0 + s_i) for s_i in sorted(by_source))
+            ws.write_formula(r, check_col, "=" + joined, None, "")
     ws.freeze_panes(first, 0)
     return ScoringLayout(
         header_row=header,

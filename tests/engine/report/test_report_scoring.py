@@ -140,3 +140,43 @@ def test_headings_match_the_source(study):
     result, _, _, _ = study
     model = ScoringModel.from_result(result, "lasso")
     assert set(model.sources) <= set(HEADINGS)
+
+
+def test_every_scoring_formula_fits_the_spreadsheet_limit_on_a_wide_model(tmp_path):
+    # Source: [MS-OI29500] 2.1.1085 (ECMA-376 Part 1, 18.18.35 ST_Formula): the standard sets
+    # no length, the most used spreadsheet program takes at most 8,192 characters. A model of
+    # 60 columns with stored fills makes a long Check, which is then split into a helper
+    # cell per column
+    import re
+    import zipfile
+
+    import openpyxl
+
+    from engine.report import write_results
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(5)
+    n, p = 150, 60
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y"] + [f"x{j}" for j in range(p)])
+    X = rng.normal(size=(n, p))
+    y = X[:, :5].sum(axis=1) + rng.normal(size=n)
+    for i in range(n):
+        ws.append([float(y[i])] + [None if (i + j) % 37 == 0 else float(X[i, j]) for j in range(p)])
+    book = tmp_path / "wide.xlsx"
+    wb.save(book)
+    res = run_study(
+        StudySpec(source=str(book), response="y", methods=("ols",), folds=4, missing="fill")
+    )
+    out = write_results(res, out=tmp_path / "results.xlsx")
+    names = openpyxl.load_workbook(out, read_only=True).sheetnames
+    with zipfile.ZipFile(out) as zf:
+        xml = zf.read(f"xl/worksheets/sheet{names.index('TM Scoring') + 1}.xml").decode()
+    formulas = re.findall(r"<f>(.*?)</f>", xml)
+    assert formulas and max(len(f) for f in formulas) <= 8192
+    # the Check joins one helper cell per source column, each naming its own column's issues
+    helpers = openpyxl.load_workbook(out, read_only=True)["TM Scoring"]
+    heads = next(r for r in helpers.iter_rows(values_only=True) if r and "Check" in r)
+    assert sum(1 for h in heads if isinstance(h, str) and h.startswith("check: x")) == p

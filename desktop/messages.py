@@ -111,6 +111,7 @@ _WINDOW_WORDS: tuple[tuple[str, str], ...] = (
     ),
     (r"\(--log COLUMN\)", "(tick 'Log' for the column)"),
     (r"\(--group COLUMN\)", "(give one column the role 'group')"),
+    (r"\(--scheme kfold\)", "('Validation' set to 'Shuffled folds', under Run settings)"),
     (r"\(--time-order COLUMN\)", "(give one column the role 'time order')"),
     (r": --penalty-ratio\)", ", an option of the command line: tamis fit --penalty-ratio)"),
     (

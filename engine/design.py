@@ -28,6 +28,7 @@ import numpy as np
 
 from engine.errors import InputProblem, Place
 from engine.intake.cells import cell_name
+from engine.intake.classify import worth_a_warning
 
 if TYPE_CHECKING:
     from engine.intake.table import Column, Table
@@ -367,7 +368,8 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             drop(c.missing_mask(), f"missing in candidate '{c.name}'")
     for c in usable:  # words typed in a candidate's cells cost rows or get the fill: say which
         for note in c.notes:
-            if _unread_cells(note):
+            # (a note intake already repeats among the sheet's warnings is not said twice)
+            if _unread_cells(note) and not worth_a_warning(note):
                 then = (
                     "filled like blank cells"
                     if spec.missing == "fill"

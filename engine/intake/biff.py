@@ -63,7 +63,9 @@ def _workbook_stream(data: bytes) -> memoryview:
     from xlrd.compdoc import CompDoc, CompDocError
 
     try:
-        doc = CompDoc(data, logfile=_Quiet())
+        # lenient as spreadsheet programs are: some writers leave sector chains that a strict
+        # reading calls corrupt, while the records themselves are fine
+        doc = CompDoc(data, logfile=_Quiet(), ignore_workbook_corruption=True)
         for name in ("Workbook", "Book"):
             mem, base, size = doc.locate_named_stream(name)
             if mem is not None:

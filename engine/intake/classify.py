@@ -112,6 +112,7 @@ def classify_column(
     decimal: str = ".",
     day_first: bool = False,
     from_text_file: bool = False,
+    serial_dates: bool = True,
 ) -> Column:
     """Classify `cells` (object array, one per data row; "" empty) into a typed Column."""
     n = len(cells)
@@ -163,6 +164,7 @@ def classify_column(
         decimal,
         day_first,
         from_text_file,
+        serial_dates,
     )
 
 
@@ -444,6 +446,7 @@ def _classify_mixed(
     decimal: str,
     day_first: bool,
     from_text_file: bool,
+    serial_dates: bool = True,
 ) -> Column:
     m = present_idx.size
     present = cells[present_idx].tolist()
@@ -620,8 +623,13 @@ def _classify_mixed(
     elif n_dates and n_dates >= _share(decisive):
         # a plain number among dates is a date typed without its format when it lies where
         # serial numbers of dates do (10000 = 1927-05-18 to 100000 = 2173-10-14; 1900 system)
+        # (serial_dates False: a workbook counting from 1904, where such a number means
+        # another day; left unread there rather than guessed)
         serial = np.flatnonzero(
-            np.isin(codes, (_NUMBER, _TEXT_NUMBER)) & (numbers >= 10_000) & (numbers <= 100_000)
+            np.isin(codes, (_NUMBER, _TEXT_NUMBER))
+            & (numbers >= 10_000)
+            & (numbers <= 100_000)
+            & serial_dates
         )
         for k in serial.tolist():
             dates[k] = _SERIAL_EPOCH + dt.timedelta(days=float(numbers[k]))

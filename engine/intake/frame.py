@@ -35,15 +35,11 @@ def _cell(value: object) -> object:
         if np.isnat(value):
             return ""
         value = value.astype("datetime64[us]").item()
-    if hasattr(value, "to_pydatetime"):  # a pandas Timestamp (NaT is caught below)
-        try:
-            value = value.to_pydatetime()
-        except ValueError:
-            return ""
+    if hasattr(value, "to_pydatetime"):  # a pandas Timestamp (NaT was caught above)
+        value = value.to_pydatetime()
     if isinstance(value, _dt.datetime | _dt.date):
         return value
-    text = str(value)
-    return "" if text in ("NaT", "nan", "<NA>") else text
+    return str(value)
 
 
 def read_frame(frame, name: str = "DataFrame") -> Table:
@@ -61,10 +57,14 @@ def read_frame(frame, name: str = "DataFrame") -> Table:
     row_numbers = np.arange(2, n + 2, dtype=np.int64)
     out = []
     taken: set[str] = set()
-    for j, (key, heading) in enumerate(zip(columns, headings)):
-        values = frame[key]
+    for j, heading in enumerate(headings):
+        # by position: a label used twice would give a table, not a column
+        values = frame.iloc[:, j] if hasattr(frame, "iloc") else frame[columns[j]]
+        listed = values.tolist() if hasattr(values, "tolist") else list(values)
+        # pandas marks missing values its own ways (NaT, NA, NaN): one call per column
+        missing = values.isna().to_numpy() if hasattr(values, "isna") else np.zeros(n, bool)
         cells = np.empty(n, dtype=object)
-        cells[:] = [_cell(v) for v in (values.tolist() if hasattr(values, "tolist") else values)]
+        cells[:] = ["" if gone else _cell(v) for v, gone in zip(listed, missing)]
         col_name = heading
         k = 2
         while col_name.casefold() in taken:

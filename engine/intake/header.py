@@ -103,10 +103,10 @@ _UNIT_PIECE = re.compile(r"([^\d²³⁻-]+)(?:\^?-?[0-9]+|[²³]|⁻[¹²³])?")
 
 # words a units row uses to say what kind of value a column holds ("express" over "yes/no"):
 # put in brackets like a unit, so the name stays the heading with a remark, and new rows
-# headed "express" alone are still matched to it when scored
+# headed "express" alone are still matched to it when scored. Nouns that also make names
+# with the heading ("Interest" over "rate", "Price" over "index") are left out
 _KIND_WORDS = frozenset(
-    """date time yes/no y/n 0/1 index count number no. text id code flag category class level
-    ratio rate score share percent days weeks months years hours minutes seconds""".split()
+    "date time yes/no y/n 0/1 true/false days weeks months years hours minutes seconds".split()
 )
 
 

@@ -13,7 +13,7 @@ Positions are 0-based (row, column) pairs.
 
 from __future__ import annotations
 
-__all__ = ["PackageFacts", "guard_parts", "scan_sheet"]
+__all__ = ["PackageFacts", "guard_parts", "scan_sheet", "counts_from_1904"]
 
 import posixpath
 import re
@@ -45,6 +45,8 @@ class PackageFacts:
     merged: list[tuple[int, int, int, int]] = field(default_factory=list)
     hidden_rows: list[int] = field(default_factory=list)  # 0-based sheet rows hidden (xlsx, ods)
     hidden_cols: list[int] = field(default_factory=list)  # 0-based columns hidden (xlsx, ods)
+    # why these facts could not be read, when the cells could (said as a warning)
+    unread: str = ""
 
 
 def guard_parts(path: Path) -> None:
@@ -214,14 +216,27 @@ def _scan_xls(path: Path, sheet: str, place: Place, hidden_only: bool) -> Packag
     try:
         found = scan_xls_sheet(path.read_bytes(), sheet, hidden_only)
     except XlsUnreadable as exc:
-        raise InputProblem(
-            f"{place.describe()}: the workbook's records could not be read ({exc}); "
-            "the file may be damaged",
-            place,
-        ) from exc
+        # the cell reader read the sheet: carry on without these facts, and say so
+        return PackageFacts(
+            unread=f"{place.describe()}: its records could not be read for error cells and "
+            f"hidden rows ({exc}); error cells, if any, count as missing"
+        )
     return PackageFacts(
         errors=found.errors,
         merged=found.merged,
         hidden_rows=found.hidden_rows,
         hidden_cols=found.hidden_cols,
     )
+
+
+def counts_from_1904(path: Path, fmt: str) -> bool:
+    """Whether an .xlsx/.xlsm workbook counts date serial numbers from 1904 (ECMA-376 Part 1,
+    workbookPr date1904): a plain number among dates then means another day."""
+    if fmt not in ("xlsx", "xlsm"):
+        return False
+    try:
+        with zipfile.ZipFile(path) as zf:
+            head = zf.read("xl/workbook.xml")[:4096]
+    except (zipfile.BadZipFile, KeyError, OSError):
+        return False
+    return re.search(rb"<(?:\w+:)?workbookPr\b[^>]*\bdate1904=\"(?:1|true)\"", head) is not None

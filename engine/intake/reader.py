@@ -27,7 +27,7 @@ from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
 from engine.intake.delimited import read_delimited
 from engine.intake.far_out import far_values, screened
 from engine.intake.header import cell_key, detect_header_row, join_sub_heading, sub_heading_row
-from engine.intake.package import PackageFacts, guard_parts, scan_sheet
+from engine.intake.package import PackageFacts, counts_from_1904, guard_parts, scan_sheet
 from engine.intake.similarity import mark_near_duplicates
 from engine.intake.table import Column, ColumnKind, SheetInfo, Table
 from engine.intake.workbook import (
@@ -332,8 +332,12 @@ def _build_table(
         if facts is None:  # no full scan was needed: look for hidden rows and columns only
             facts = scan_sheet(path, facts_source, sheet, hidden_only=True)
         _hidden_warning(facts, d, len(data_rows), width, sheet, warnings)
+        if facts.unread:
+            warnings.append(facts.unread)
 
     columns: list[Column] = []
+    # a plain number among dates is read as its day only where serial numbers count from 1900
+    serial_dates = fmt != "csv" and not counts_from_1904(path, facts_source or "")
     seen: dict[str, str] = {}  # casefolded name -> first column's name
     taken: set[str] = set()
     unnamed: list[str] = []
@@ -369,6 +373,7 @@ def _build_table(
             decimal=decimal,
             day_first=day_first,
             from_text_file=fmt == "csv",
+            serial_dates=serial_dates,
         )
         if col.kind is ColumnKind.NUMBER and screened(col.notes):
             far = far_values(col.values)
@@ -390,7 +395,7 @@ def _build_table(
             col.notes.insert(
                 0, f"heading '{base}' is also used by an earlier column; renamed '{name}'"
             )
-            renamed.append(f"{letter} '{name}'")
+            renamed.append(f"{'column ' if fmt == 'csv' else ''}{letter} '{name}'")
         columns.append(col)
         if k % 8 == 7:
             progress.step(

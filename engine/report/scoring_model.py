@@ -36,6 +36,7 @@ __all__ = [
     "RANGE_LOW",
     "RANGE_HIGH",
     "range_words",
+    "flag_tokens",
 ]
 
 import datetime as _dt
@@ -80,7 +81,8 @@ def date_serial(iso: str) -> float:
     return float((_dt.date.fromisoformat(iso[:10]) - EXCEL_EPOCH).days)
 
 
-def _flag_tokens() -> tuple[tuple[str, ...], tuple[str, ...]]:
+def flag_tokens() -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The words read as yes and as no (intake's), for the sheet's formulas and their mirror."""
     from engine.intake.cells import CHECK_MARKS, FLAG_FALSE, FLAG_TRUE
 
     return tuple(FLAG_TRUE) + tuple(CHECK_MARKS), tuple(FLAG_FALSE)
@@ -463,7 +465,7 @@ class ScoringModel:
             if kind in (ColumnKind.NUMBER, ColumnKind.FLAG):
                 v = np.asarray(values, dtype=float).copy()
             elif enc.kind == "flag" and kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER):
-                yes, no = _flag_tokens()
+                yes, no = flag_tokens()
                 v = np.array(
                     [1.0 if _low(x) in yes else 0.0 if _low(x) in no else np.nan for x in values]
                 )
@@ -536,7 +538,7 @@ class ScoringModel:
                 return 1.0 if raw != 0 else 0.0
             if isinstance(raw, bool):
                 return 1.0 if raw else 0.0
-            yes, no = _flag_tokens()
+            yes, no = flag_tokens()
             t = "" if raw is None else str(raw).strip().lower()
             return 1.0 if t in yes else 0.0 if t in no else miss
         if enc.kind == "level":

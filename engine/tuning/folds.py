@@ -83,7 +83,8 @@ def make_folds(
         if G < 2:
             raise InputProblem(
                 f"the group column holds one group only ('{labels[0]}'): grouped folds need "
-                "at least 2 groups; choose a column with more groups or another validation"
+                "at least 2 groups; choose a column with more groups, or shuffled folds "
+                "(--scheme kfold) without one"
             )
         if G < folds:
             raise InputProblem(

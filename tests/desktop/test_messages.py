@@ -82,6 +82,7 @@ def test_engine_advice_names_the_window_settings_not_command_line_options(qtbot)
     assert "Parts (folds)" in labels
     assert {"Focal effect penalty"} <= labels
     assert panel.focal_penalty.findText("By validation") >= 0
+    assert panel.scheme.findText("Shuffled folds") >= 0 and "Validation" in labels
     for text in (
         "grouped folds need a group column (--group COLUMN)",
         "time-ordered folds need a time-order column (--time-order COLUMN)",
@@ -93,6 +94,7 @@ def test_engine_advice_names_the_window_settings_not_command_line_options(qtbot)
         "to add the sheets to it use in-place writing, or choose another output name",
         "Their natural log (--log COLUMN) often suits such a column better",
         "constant (--missing fill keeps what it says, whether a cell is blank, as a 0/1 indicator",
+        "choose a column with more groups, or shuffled folds (--scheme kfold) without one",
     ):
         out = window_words(text)
         assert out != text and ("--" not in out or "command line" in out), out

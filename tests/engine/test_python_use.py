@@ -72,3 +72,20 @@ def test_new_rows_in_a_dataframe_score_like_the_same_rows_in_a_workbook(tmp_path
     assert "'west'" in notes[3]
     with pytest.raises(TypeError, match="expected a pandas DataFrame or an intake Table"):
         model.predict([[1.0, "north"]])
+
+
+def test_a_dataframe_with_missing_dates_and_a_repeated_label_reads_like_a_sheet():
+    # pandas marks missing values as NaT, NA and NaN; a label used twice names two columns
+    frame = pd.DataFrame(
+        {
+            "day": pd.to_datetime(["2024-01-01", None, "2024-01-03"]),
+            "x": [1.0, np.nan, 3.0],
+            "count": pd.array([1, None, 3], dtype="Int64"),
+        }
+    )
+    frame = pd.concat([frame, frame[["x"]]], axis=1)
+    table = engine.read_frame(frame)
+    assert [c.name for c in table.columns] == ["day", "x", "count", "x (2)"]
+    assert [c.missing for c in table.columns] == [1, 1, 1, 1]
+    assert np.isnat(table.column("day").values[1])
+    assert table.row_numbers.tolist() == [2, 3, 4]  # as on a sheet with headings in row 1

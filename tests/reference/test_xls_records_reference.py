@@ -105,3 +105,18 @@ def test_damaged_xls_records_are_named(xls_book, tmp_path):
     with pytest.raises(InputProblem) as caught:
         read_table(broken, sheet="Kiln runs")
     assert "kiln broken.xls" in str(caught.value)
+
+
+def test_records_that_cannot_be_read_leave_the_cells_read_and_say_so(xls_book, monkeypatch):
+    # the cell reader read the sheet; when our record walk cannot, the facts it would add
+    # are missing and a warning says so, rather than refusing a file that opens elsewhere
+    from engine.intake import package
+    from engine.intake.biff import XlsUnreadable
+
+    def refuse(data, sheet, hidden_only=False):
+        raise XlsUnreadable("a record ends past its sheet")
+
+    monkeypatch.setattr(package, "scan_xls_sheet", refuse)
+    table = read_table(xls_book[0], sheet="Kiln runs")
+    assert table.column("yield").errors == 0 and table.n_rows > 20
+    assert any("could not be read for error cells and hidden rows" in w for w in table.warnings)

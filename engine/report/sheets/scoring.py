@@ -34,8 +34,8 @@ from engine.report.scoring_model import (
     RANGE_HIGH,
     RANGE_LOW,
     ScoringModel,
-    _flag_tokens,
     date_serial,
+    flag_tokens,
     scoring_reason,
     source_kind,
 )
@@ -152,7 +152,7 @@ def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> st
     kind = source_kind(model.encodings, enc.source)
     level, fill, origin = cells["level"], cells["fill"], cells["origin"]
     miss = _miss_expr(enc, fill, src)
-    yes, no = _flag_tokens()
+    yes, no = flag_tokens()
     low = f"LOWER(TRIM({src}))"
     yes_test = "OR(" + ",".join(f'{low}="{t}"' for t in yes) + ")"
     no_test = "OR(" + ",".join(f'{low}="{t}"' for t in no) + ")"
@@ -229,8 +229,8 @@ def write(
         n_blank = int(max(20, min(200, 20_000 // (k + m + 2))))
 
     _fast_formulas(ws)
-    # a column as wide as its heading (within reason); the first also fits the labels of the
-    # top block (centre, intercept, half-width), whose values sit beside them in column B
+    # a column as wide as its heading (within reason); the first is widened further below to
+    # fit the labels of the top block (centre, intercept, half-width)
     for s_i, s in enumerate(sources or [""]):
         ws.set_column(s_i, s_i, min(30, max(14, len(s) + 2)))
     ws.set_column(pred_col, pred_col, 16)
@@ -410,7 +410,7 @@ def write(
     ]
     logged_sources = sorted({sources.index(e.source) for e in encs if e.kind == "ln"})
     flag_sources = [s_i for s_i, s in enumerate(sources) if source_kind(encs, s) == "flag"]
-    yes_words, no_words = _flag_tokens()
+    yes_words, no_words = flag_tokens()
     # columns whose empty cell takes the fill stored with the model
     filled_sources = sorted(
         {

@@ -101,7 +101,7 @@ def test_a_last_row_under_the_headings_is_never_taken_for_sub_headings():
         # units rows), so "express" alone still names the column when new rows are scored
         ("express", "yes/no", "express (yes/no)"),
         ("quote_date", "date", "quote_date (date)"),
-        ("pallets", "count", "pallets (count)"),
+        ("Interest", "rate", "Interest rate"),  # a noun of the name, not a kind of value
         ("", "FTE", "FTE"),
         ("Store", "", "Store"),
     ],

@@ -733,3 +733,24 @@ def test_a_plain_number_among_dates_is_a_date_serial_number(tmp_path):
         "1 number among the dates read as date serial number (e.g. A6 45446" in w
         for w in table.warnings
     )
+
+
+def test_a_plain_number_among_dates_of_a_1904_workbook_is_not_guessed(tmp_path):
+    # ECMA-376 Part 1, workbookPr date1904: serial numbers count from 1904-01-01 there, so
+    # 45446 would be another day than in the 1900 system; the cell is named, not read
+    from openpyxl.utils.datetime import CALENDAR_MAC_1904
+
+    wb = openpyxl.Workbook()
+    wb.epoch = CALENDAR_MAC_1904
+    ws = wb.active
+    ws.append(["day", "sold"])
+    for i in range(10):
+        ws.append([dt.datetime(2024, 5, 1) + dt.timedelta(days=i), float(i)])
+        ws.cell(i + 2, 1).number_format = "yyyy-mm-dd"
+    ws.cell(5, 1).value = 45446.0
+    ws.cell(5, 1).number_format = "General"
+    path = tmp_path / "mac.xlsx"
+    wb.save(path)
+    day = read_table(path).column("day")
+    assert np.isnat(day.values[3]) and str(day.values[0])[:10] == "2024-05-01"
+    assert any("not a date treated as missing: A5 '45446'" in n for n in day.notes)

@@ -66,6 +66,19 @@ def test_path_charts_reference_the_penalty_column_and_mark_the_choice(written):
     assert firsts == sorted(firsts, reverse=True)  # kept columns before the others
 
 
+def test_path_lines_come_kept_first_then_by_entry():
+    # a path where column 1 enters and leaves again: at the chosen (last) penalty columns
+    # 0 and 2 are kept, so they are drawn first, in their order of entry, column 1 after
+    from engine.report.sheets.path import _charted
+
+    path = type("Path", (), {})()
+    path.std_coefs = np.array(
+        [[0, 0, 0], [0.5, 0, 0], [0.6, 0.2, 0], [0.7, 0, 0.1], [0.8, 0, 0.3]], dtype=float
+    )
+    ever = (path.std_coefs != 0).any(axis=0)
+    assert _charted(path, ["a", "b", "c"], ever, 4) == [0, 2, 1]
+
+
 def test_validation_chart_has_custom_error_bars_on_the_se_column(written):
     result, out = written
     chart = next(c for c in _charts(out).values() if "Cross-validation: lasso" in c)

@@ -72,13 +72,15 @@ def _sheet(
             text(ws, 3, c, h, fm.heading)
         ws.set_column(0, len(heads), 15)
         ws.freeze_panes(4, 1)
-        cols = {c.name: c for c in table.columns}
         columns: list[NumberColumn | TextColumn] = [
             NumberColumn(np.asarray(table.row_numbers, dtype=float))
         ]
         date_style = style_index(fm.date)
         for s in sources:
-            columns.append(_values_column(cols.get(s), table.n_rows, date_style, date1904))
+            # the column the model read, also when its heading differs ("temp" for "temp (°C)")
+            columns.append(
+                _values_column(model.column_in(table, s), table.n_rows, date_style, date1904)
+            )
         columns.append(NumberColumn(np.asarray(preds, dtype=float), style_index(fm.prediction)))
         if ranges is not None:
             columns += [NumberColumn(np.asarray(end, dtype=float)) for end in ranges]

@@ -298,6 +298,7 @@ class ScoringModel:
         n = table.n_rows
         X = np.empty((n, len(self.encodings)))
         missing_in: list[list[str]] = [[] for _ in range(n)]
+        unread_cells: dict[tuple[int, str], str] = {}  # (row, source) -> "F4 'warm'"
         not_positive: dict[int, list[str]] = {}
         for j, enc in enumerate(self.encodings):
             if enc.kind == "product":  # its factors come before it (design order)
@@ -316,6 +317,9 @@ class ScoringModel:
                     int(i), []
                 ):
                     missing_in[i].append(enc.source)
+                    said = _text_cell(col, int(i), table)
+                    if said:
+                        unread_cells[(int(i), enc.source)] = said
         linear = (
             self.intercept + X @ self.coefficients
             if len(self.encodings)
@@ -338,7 +342,11 @@ class ScoringModel:
             parts = said + [
                 f"'{s}' is not above 0, so it has no ln" for s in not_positive.get(row, [])
             ]
-            parts += ["no usable value in " + ", ".join(f"'{s}'" for s in rest)] if rest else []
+            shown = [
+                f"'{s}'" + (f" ({unread_cells[(row, s)]})" if (row, s) in unread_cells else "")
+                for s in rest
+            ]
+            parts += ["no usable value in " + ", ".join(shown)] if rest else []
             notes.append("; ".join(parts))
         return np.asarray(linear, dtype=float), notes
 
@@ -420,6 +428,10 @@ class ScoringModel:
             Place(file=str(table.source), sheet=table.sheet, column=source),
         )
 
+    def column_in(self, table, source: str):
+        """The new rows' column the model reads for ``source`` (None when there is none)."""
+        return self._column_or_none(as_table(table), source)
+
     def _column_or_none(self, table, source: str):
         """The new rows' column for ``source``: by name, by heading, or, for a name that
         carries its unit from a units row ("temp (°C)"), by the name without it ("temp")."""
@@ -471,6 +483,13 @@ class ScoringModel:
                 )
             elif kind == ColumnKind.EMPTY:  # nothing typed: every cell takes the fill, if any
                 v = np.full(len(values), np.nan)
+            elif enc.kind == "number" and kind in (ColumnKind.CATEGORY, ColumnKind.IDENTIFIER):
+                # a few new rows with a stray word ("warm") are typed as text by intake: read
+                # each cell that spells a number, the others have no usable value (named in the
+                # row's note); a column without any number is the wrong column
+                v = _numbers_in_text(values)
+                if not np.isfinite(v).any():
+                    raise self._wrong_kind(enc, col, table, "numbers")
             else:
                 raise self._wrong_kind(enc, col, table, "numbers")
             if enc.kind == "flag":
@@ -596,6 +615,29 @@ def as_table(rows):
     from engine.intake.table import Table
 
     return rows if isinstance(rows, Table) else read_frame(rows, "new rows")
+
+
+def _numbers_in_text(values) -> np.ndarray:
+    """The number each text cell spells (intake's reading of one cell), NaN for the others."""
+    from engine.intake.cells import parse_number_text
+
+    out = np.full(len(values), np.nan)
+    for i, v in enumerate(values):
+        if isinstance(v, str) and v.strip():
+            x = parse_number_text(v.strip(), ".")
+            out[i] = np.nan if x is None else x
+    return out
+
+
+def _text_cell(col, i: int, table) -> str:
+    """The cell of a row as a message names it ("F4 'warm'"), when it holds text; else ""."""
+    from engine.intake.cells import cell_name
+
+    v = col.values[i] if i < len(col.values) else None
+    if not isinstance(v, str) or not v.strip():
+        return ""
+    shown = v if len(v) <= 30 else v[:27] + "..."
+    return f"{cell_name(col.letter, int(table.row_numbers[i]))} '{shown}'"
 
 
 def _date_parts_seen(

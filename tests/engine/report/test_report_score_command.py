@@ -338,6 +338,14 @@ def test_new_rows_without_the_units_row_and_missing_columns_named_at_once(tmp_pa
     m = res.models[0]
     want = m.intercept + m.coefficients["temp (°C)"] * 82.0 + m.coefficients["press (kPa)"] * 99.5
     assert got[0] == pytest.approx(want, rel=1e-12)
+    # the predictions sheet echoes the values the model read, under the model's headings
+    from engine.report.score_rows import score_rows
+
+    scored = score_rows(book, model, out=tmp_path / "plain-scored.xlsx")
+    ws = openpyxl.load_workbook(scored.out, read_only=True)["TM Predictions"]
+    head = list(next(ws.iter_rows(min_row=4, max_row=4, values_only=True)))
+    first = next(ws.iter_rows(min_row=5, max_row=5, values_only=True))
+    assert first[head.index("temp (°C)")] == 82.0 and first[head.index("press (kPa)")] == 99.5
     other = openpyxl.Workbook()
     other.active.append(["humidity", "speed"])
     other.active.append([0.4, 3.0])

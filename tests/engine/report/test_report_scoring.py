@@ -180,3 +180,44 @@ def test_every_scoring_formula_fits_the_spreadsheet_limit_on_a_wide_model(tmp_pa
     helpers = openpyxl.load_workbook(out, read_only=True)["TM Scoring"]
     heads = next(r for r in helpers.iter_rows(values_only=True) if r and "Check" in r)
     assert sum(1 for h in heads if isinstance(h, str) and h.startswith("check: x")) == p
+
+
+def test_a_stray_word_among_new_numbers_costs_its_row_only(tmp_path):
+    # three new rows with "warm" in one: intake types so few cells with a word as text, yet
+    # the other rows' numbers are read and the row with the word is named by its cell
+    import openpyxl
+
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(0)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y", "temp"])
+    for _ in range(40):
+        t = float(rng.normal(20, 3))
+        ws.append([2 * t + float(rng.normal()), t])
+    wb.save(tmp_path / "fit.xlsx")
+    res = run_study(
+        StudySpec(source=str(tmp_path / "fit.xlsx"), response="y", methods=("ols",), folds=4)
+    )
+    model = ScoringModel.from_result(res)
+    new = openpyxl.Workbook()
+    new.active.append(["temp"])
+    for v in (20.0, "warm", 21.5):
+        new.active.append([v])
+    new.save(tmp_path / "new.xlsx")
+    pred, notes = model.predict_with_notes(read_table(tmp_path / "new.xlsx"))
+    m = res.models[0]
+    np.testing.assert_allclose(
+        pred[[0, 2]], m.intercept + m.coefficients["temp"] * np.array([20.0, 21.5])
+    )
+    assert np.isnan(pred[1]) and notes[1] == "no usable value in 'temp' (A3 'warm')"
+    # a column with no number at all is the wrong column: refused, naming it
+    wrong = openpyxl.Workbook()
+    wrong.active.append(["temp"])
+    for v in ("warm", "cold"):
+        wrong.active.append([v])
+    wrong.save(tmp_path / "wrong.xlsx")
+    with pytest.raises(InputProblem, match="column 'temp'"):
+        model.predict(read_table(tmp_path / "wrong.xlsx"))

@@ -156,5 +156,9 @@ def write_results(
                 ) from exc
 
         commit(target, build, verify_results_file, expected)
+    if in_place and getattr(result, "source_fingerprint", None):
+        # our own write changed the file (the user's sheets are as they were): a second
+        # save of the same result must not take it for someone else's change
+        result.source_fingerprint = fingerprint(target).to_dict()
     progress.step(1.0, "written")
     return target

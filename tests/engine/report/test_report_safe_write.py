@@ -102,6 +102,20 @@ def test_file_changed_since_read_is_refused(tmp_path):
     assert book.read_bytes() == changed
 
 
+def test_saving_into_the_workbook_twice_is_not_taken_for_a_change(tmp_path):
+    # the first save changed the file itself; a second save of the same result replaces our
+    # sheets, while a change by someone else after it is still refused
+    result, rows = make_result(tmp_path, name="book.xlsx")
+    book = Path(result.spec.source)
+    result.source_fingerprint = fingerprint(book)
+    write_results(result, in_place=True)
+    write_results(result, in_place=True)
+    with open(book, "ab") as fh:
+        fh.write(b"\0")
+    with pytest.raises(WriteProblem, match="changed on disk"):
+        write_results(result, in_place=True)
+
+
 def test_change_during_writing_is_refused(tmp_path, monkeypatch):
     result, rows = make_result(tmp_path, name="book.xlsx")
     book = Path(result.spec.source)

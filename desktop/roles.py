@@ -24,7 +24,7 @@ from dataclasses import dataclass
 from enum import StrEnum
 from typing import Any
 
-from engine.design import mostly_missing
+from engine.design import looks_like_row_number, mostly_missing
 from engine.intake.table import Column, ColumnKind, Table
 from engine.study_spec import StudySpec
 
@@ -70,12 +70,14 @@ class RoleProblem:
 
 
 def default_roles(table: Table) -> dict[str, Role]:
-    """Numbers, flags, categories and dates start as candidates; identifiers, empties and columns
-    blank in most rows (the engine's rule for candidates not chosen by name) are ignored."""
+    """Numbers, flags, categories and dates start as candidates; identifiers, empties, columns
+    blank in most rows and row numbers (the engine's rules for candidates not chosen by name)
+    are ignored."""
     roles: dict[str, Role] = {}
     for c in table.columns:
         usable = c.kind in (*_NUMERIC_KINDS, ColumnKind.CATEGORY, ColumnKind.DATE)
         usable = usable and not c.constant and not mostly_missing(c.missing, table.n_rows)
+        usable = usable and not looks_like_row_number(c)
         roles[c.name] = Role.CANDIDATE if usable else Role.IGNORE
     return roles
 

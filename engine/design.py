@@ -300,6 +300,11 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             reason = "it looks like an identifier (almost every value is different)"
         elif c.kind == ColumnKind.CATEGORY and len(c.levels) > MAX_LEVELS:
             reason = f"it has {len(c.levels)} categories (more than {MAX_LEVELS})"
+        elif not explicit and c.name != spec.focal and looks_like_row_number(c):
+            reason = (
+                f"it looks like a row number (every value a different whole number, under the "
+                f"heading '{c.name}'); name it as a candidate to use it"
+            )
         if reason:
             dropped_columns[c.name] = reason
             warnings.append(f"column '{c.name}' left out: {reason}")
@@ -773,6 +778,24 @@ def _zero_one_response_note(name: str, y: np.ndarray) -> str:
 # a column nobody asked for by name that is blank in more than this share of the rows would
 # cost those rows when rows with a blank are dropped: it is left out instead
 MOSTLY_MISSING_SHARE = 0.5
+# headings of a column that counts or labels the rows rather than measuring anything
+_ROW_NUMBER_HEADINGS = frozenset("id no no. nr # n row rows index idx obs record line item".split())
+
+
+def looks_like_row_number(c: Column) -> bool:
+    """A number column headed like a row label ("id", "No.", "row") whose values are all
+    different whole numbers: a default candidate it is not (the window's starting roles use
+    the same rule); named as a candidate it is used."""
+    from engine.intake.table import ColumnKind
+
+    words = c.name.casefold().replace("_", " ").replace("-", " ").split()
+    if c.kind != ColumnKind.NUMBER or not words:
+        return False
+    if " ".join(words) not in _ROW_NUMBER_HEADINGS and words[-1] not in ("id", "no", "nr", "#"):
+        return False
+    v = np.asarray(c.values, dtype=float)
+    v = v[np.isfinite(v)]
+    return v.size > 2 and bool(np.all(v == np.round(v))) and np.unique(v).size == v.size
 
 
 def mostly_missing(missing: int, rows: int) -> bool:

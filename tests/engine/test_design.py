@@ -501,3 +501,17 @@ def test_a_scaled_copy_of_the_focal_column_is_left_out_of_the_controls():
     assert d.names == ["price", "other"] and d.focal_index == 0
     assert "focal column 'price'" in d.dropped_columns["price_usd"]
     assert not any("exact copy" in w for w in d.warnings)
+
+
+def test_a_row_number_column_is_not_a_default_candidate_but_may_be_named():
+    # "id" 1..n beside the data: every fit could use it as a trend by accident
+    n = 30
+    y = _col("y", ColumnKind.NUMBER, [float(i % 7) for i in range(n)])
+    rid = _col("id", ColumnKind.NUMBER, [float(i + 1) for i in range(n)], "B")
+    x = _col("x", ColumnKind.NUMBER, [float(i % 5) for i in range(n)], "C")
+    week = _col("week", ColumnKind.NUMBER, [float(i + 1) for i in range(n)], "D")
+    d = build_design(_table(y, rid, x, week), _spec())
+    assert "id" not in d.names and "looks like a row number" in d.dropped_columns["id"]
+    assert "week" in d.names  # a count of weeks is a trend, not a row label
+    named = build_design(_table(y, rid, x, week), _spec(candidates=("id", "x")))
+    assert named.names == ["id", "x"]

@@ -46,7 +46,7 @@ from PySide6.QtWidgets import (
 
 from desktop.about import about_html
 from desktop.column_ledger import ColumnLedger
-from desktop.elided_label import ElidedLabel
+from desktop.elided_label import ElidedLabel, keep_tab_names_whole
 from desktop.engine_calls import EngineCalls, LoadedBook, load_book
 from desktop.messages import UserMessage, describe_failure, window_words
 from desktop.result_view import ResultView
@@ -298,7 +298,7 @@ class MainWindow(QMainWindow):
             "table are skipped); change it if the guess is wrong."
         )
         self.header_spin.valueChanged.connect(self._on_header_changed)
-        self.shape_label = ElidedLabel("")
+        self.shape_label = ElidedLabel("", mode=Qt.TextElideMode.ElideRight)
         self.shape_label.setObjectName("caption")
         src = QHBoxLayout()
         src.addWidget(self.file_label, 1)
@@ -347,6 +347,7 @@ class MainWindow(QMainWindow):
         self.settings_panel.changed.connect(self._on_settings_changed)
         self.results = ResultView()
         self.pages = QTabWidget()
+        keep_tab_names_whole(self.pages)
         self.pages.addTab(self.preview, "Sheet")
         self.pages.addTab(self.settings_panel, "Run settings")
         self.pages.addTab(self.results, "Findings")

@@ -38,6 +38,7 @@ from desktop.charts.fit_chart import FitChart
 from desktop.charts.focal_chart import FocalChart
 from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
+from desktop.elided_label import keep_tab_names_whole
 from desktop.messages import as_sentence, window_words
 from desktop.rows_model import RowsModel, fmt
 from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
@@ -116,6 +117,7 @@ class ResultView(QWidget):
 
         self.tabs = QTabWidget()
         self.tabs.setDocumentMode(True)
+        keep_tab_names_whole(self.tabs)
         self.tabs.addTab(self._build_path_tab(), "Path")
         self.tabs.addTab(self._build_curve_tab(), "Validation")
         self.tabs.addTab(self._build_compare_tab(), "Compare")

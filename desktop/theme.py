@@ -71,6 +71,8 @@ QToolButton {{ padding: 4px 8px; border-radius: 4px; }}
 QToolButton:hover {{ background: {ACCENT_SOFT}; }}
 QTabBar::tab {{ padding: 6px 14px; }}
 QTabBar::tab:selected {{ color: {ACCENT}; font-weight: 600; }}
+QTabBar QToolButton {{ padding: 0px; min-width: 18px; border: 1px solid #b8b2a4;
+    border-radius: 2px; background: {PAPER}; }}
 QGroupBox {{ font-weight: 600; margin-top: 10px; }}
 QGroupBox::title {{ subcontrol-origin: margin; left: 6px; padding: 0 4px; }}
 QPushButton#primary {{ background: {ACCENT}; color: white; border-radius: 4px; padding: 5px 14px;

@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from conftest import simulated_result, write_book
 from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QToolButton
 
 from desktop.charts.common import export_plot
 from desktop.result_view import ResultView, cursor_rows
@@ -268,3 +269,17 @@ def test_sizes_show_the_held_out_error_that_chose_the_size(qtbot, tmp_path):
     assert f"The chosen size is {chosen}." in v.sizes_note.text()
     best = min(errors, key=errors.get)
     assert chosen == best  # rule "min": the smallest held-out error
+
+
+def test_a_narrow_view_scrolls_its_tabs_instead_of_cutting_their_names(view, qtbot):
+    # at 1024 x 700 the findings' tab bar cut "Rows to check" and hid "Read before use"
+    view.resize(520, 400)
+    view.show()
+    qtbot.waitExposed(view)
+    bar = view.tabs.tabBar()
+    assert view.tabs.elideMode() == Qt.TextElideMode.ElideNone
+    assert view.tabs.usesScrollButtons()
+    widths = sum(bar.tabRect(i).width() for i in range(bar.count()))
+    assert widths > bar.width()  # too many for the width: the arrows must be there
+    arrows = [b for b in bar.findChildren(QToolButton) if b.isVisible()]
+    assert len(arrows) == 2 and all(b.width() >= 12 for b in arrows)

@@ -645,8 +645,24 @@ class MainWindow(QMainWindow):
         check then names the conflict."""
         wanted = {Role.TIME_ORDER: "time", Role.GROUP: "grouped"}
         given = [wanted[r] for r in roles.values() if r in wanted]
-        if len(given) != 1 or self.settings_panel.values()["scheme"] != "kfold":
+        scheme = self.settings_panel.values()["scheme"]
+        switched = getattr(self, "_scheme_switched_to", None)
+        if switched and scheme == switched and switched not in given:
+            # the role that asked for this validation is gone: back to the default
+            self._scheme_switched_to = None
+            self.settings_panel.set_values({"scheme": "kfold"})
+            self._say(
+                UserMessage(
+                    "info",
+                    f"Validation set back to '{SCHEME_WORDS['kfold']}': no column has the role "
+                    "that the other validation used.",
+                    "Change it under Run settings if you meant another validation.",
+                )
+            )
             return
+        if len(given) != 1 or scheme != "kfold":
+            return
+        self._scheme_switched_to = given[0]
         self.settings_panel.set_values({"scheme": given[0]})
         self._say(
             UserMessage(
@@ -991,11 +1007,13 @@ class MainWindow(QMainWindow):
         self.run_action.setEnabled(ready and not busy)
         self.run_button.setEnabled(ready and not busy)
         self.stop_action.setEnabled(busy)
-        self.save_action.setEnabled(
-            self.result is not None
-            and not busy
-            and self.book is not None
-            and self.book.path.suffix.lower() in (".xlsx", ".xlsm")
+        package = self.book is not None and self.book.path.suffix.lower() in (".xlsx", ".xlsm")
+        self.save_action.setEnabled(self.result is not None and not busy and package)
+        self.save_action.setToolTip(
+            "Add the result sheets to the open workbook (its own sheets stay as they are)"
+            if package or self.book is None
+            else f"Sheets can be added to .xlsx and .xlsm workbooks only; this is a "
+            f"{self.book.path.suffix.lower() or 'plain'} file: use 'Save as new workbook'"
         )
         self.save_as_action.setEnabled(self.result is not None and not busy)
         self.predict_action.setEnabled(self.result is not None and not busy)

@@ -499,7 +499,7 @@ class ResultView(QWidget):
             dropped += f", {len(result.test_rows)} held back as a final test"
         took = f" in {result.seconds:.1f} s" if result.seconds else ""
         self.summary.setText(
-            f"{d.response_label} explained by {d.n_cols} candidate columns · {d.n_rows} rows used{dropped}{took}"
+            f"{d.response_label} explained by {d.n_cols} model columns · {d.n_rows} rows used{dropped}{took}"
         )
         self.outdated_note.hide()
         self.method_box.blockSignals(True)

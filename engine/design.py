@@ -187,7 +187,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         )
     if response.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG):
         raise InputProblem(
-            f"the response column '{response.name}' in {where} holds {response.kind.value} values, "
+            f"the response column '{response.name}' in {where} holds {response.kind.words}, "
             "not numbers; choose a numeric column as the response",
             place(response.name),
         )
@@ -203,7 +203,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         ColumnKind.FLAG,
     ):
         raise InputProblem(
-            f"the time-order column '{order_col.name}' in {where} holds {order_col.kind.value} values; "
+            f"the time-order column '{order_col.name}' in {where} holds {order_col.kind.words}; "
             "choose a date or numeric column",
             place(order_col.name),
         )
@@ -214,7 +214,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     named: list[tuple[str, str | None]] = [
         ("response", spec.response),
         ("focal column", spec.focal),
-        *(("candidate", name) for name in spec.candidates or ()),
+        *(("candidate", name) for name in spec.candidates or () if name != spec.focal),
     ]
     for role, given in named:
         twins = [c for c in table.columns if given and c.duplicate_of == given]
@@ -261,7 +261,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         two_labels = focal_col.kind == ColumnKind.CATEGORY and len(focal_col.levels) == 2
         if focal_col.kind not in (ColumnKind.NUMBER, ColumnKind.FLAG) and not two_labels:
             raise InputProblem(
-                f"the focal column '{focal_col.name}' in {where} holds {focal_col.kind.value} values; "
+                f"the focal column '{focal_col.name}' in {where} holds {focal_col.kind.words}; "
                 "double selection needs a numeric focal column, or a category of two labels "
                 "(a treatment against its comparison)",
                 place(focal_col.name),
@@ -280,7 +280,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
             )
         if c.kind is not ColumnKind.NUMBER:
             raise InputProblem(
-                f"column '{c.name}' in {where} holds {c.kind.value} values; only a number "
+                f"column '{c.name}' in {where} holds {c.kind.words}; only a number "
                 "column can be taken as its natural log: take it off the logged columns",
                 place(c.name),
             )

@@ -631,7 +631,7 @@ class _MethodRunner:
         return getattr(self, "_fit_" + name.replace("-", "_"))(progress)
 
     def _fit_ols(self, progress: Progress) -> ModelResult | None:
-        from engine.fitting.ols import fit_ols
+        from engine.fitting.ols import ALIASED_WORDS, fit_ols
 
         d = self.d
         if d.n_rows <= d.n_cols + 1:
@@ -641,8 +641,17 @@ class _MethodRunner:
             )
             return None
         fit = fit_ols(d.X, d.y)
+        if fit.aliased:  # named here, where the columns have names
+            shown = ", ".join(f"'{d.names[j]}'" for j in fit.aliased[:8])
+            more = f" and {len(fit.aliased) - 8} more" if len(fit.aliased) > 8 else ""
+            self.notes.append(
+                f"least squares: {shown}{more} "
+                f"{'is an exact combination' if len(fit.aliased) == 1 else 'are exact combinations'}"
+                " of the other columns on the rows used, so left out of its fit (coefficient 0)"
+            )
         for w in getattr(fit, "warnings", []):
-            self.notes.append(f"least squares: {w}")
+            if not w.startswith(ALIASED_WORDS):
+                self.notes.append(f"least squares: {w}")
         err, se = self._cv_refit(lambda Xt, yt: fit_ols(Xt, yt), progress)
         return self._model("ols", fit.coef, fit.intercept, cv_error=err, cv_error_se=se)
 

@@ -15,7 +15,7 @@ at risk and a warning says so).
 
 from __future__ import annotations
 
-__all__ = ["OlsFit", "fit_ols"]
+__all__ = ["OlsFit", "fit_ols", "ALIASED_WORDS"]
 
 from dataclasses import dataclass, field
 
@@ -23,6 +23,9 @@ import numpy as np
 from scipy.linalg import qr, solve_triangular
 
 _ILL_CONDITIONED = 1e8
+# how a fit's warning starts when columns were left out as exact combinations of others (the
+# study names them instead, from the design's names)
+ALIASED_WORDS = "columns that are exact linear combinations of the others (or constant)"
 
 
 @dataclass
@@ -88,8 +91,7 @@ def fit_ols(X: np.ndarray, y: np.ndarray) -> OlsFit:
             cond = float(sv[0] / sv[-1]) if sv[-1] > 0 else float("inf")
         if aliased:
             warnings.append(
-                f"{len(aliased)} column(s) are exact linear combinations of the others (or "
-                f"constant) and were left out: positions {aliased}"
+                f"{ALIASED_WORDS} ({len(aliased)}, at positions {aliased}) were left out"
             )
         if cond > _ILL_CONDITIONED:
             warnings.append(

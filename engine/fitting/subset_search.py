@@ -120,7 +120,7 @@ def best_subset(
     inc_sets, nodes = _swap_improve(G, c, yy, inc_sets, progress.part(0.05, 0.15))
     if reason is not None:
         warning = (
-            f"Best subset is APPROXIMATE: {reason}. The sets shown come from forward "
+            f"Best subset is approximate: {reason}. The sets shown come from forward "
             "selection improved by one-for-one swaps; they are good sets, not proven best."
         )
         subsets = inc_sets

@@ -710,7 +710,8 @@ def _several_units_note(units: list[str]) -> str:
 
 def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:
     """Labels that differ only in letter case ("East", "east", "EAST"): each variant mapped to
-    the most frequent spelling of its group (the first in sort order on a tie), and a note
+    the most frequent spelling of its group (on a tie, one in mixed case, "North" rather than
+    "NORTH" or "north", then the first in sort order), and a note
     saying which were joined; ({}, "") when there are none."""
     groups: dict[str, list[str]] = {}
     for label in tally:
@@ -720,7 +721,7 @@ def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:
     for variants in groups.values():
         if len(variants) < 2:
             continue
-        variants.sort(key=lambda v: (-tally[v], v))
+        variants.sort(key=lambda v: (-tally[v], v in (v.upper(), v.lower()), v))
         usual = variants[0]
         for v in variants[1:]:
             spelling[v] = usual

@@ -24,6 +24,21 @@ class ColumnKind(str, Enum):  # noqa: UP042 (str() of a member stays "ColumnKind
     IDENTIFIER = "identifier"  # text that is (almost) unique per row: codes, names, ids
     EMPTY = "empty"  # no value at all
 
+    @property
+    def words(self) -> str:
+        """What the column holds, in a message's words ("holds {kind.words}")."""
+        return _KIND_WORDS[self.value]
+
+
+_KIND_WORDS = {
+    "number": "numbers",
+    "category": "category labels",
+    "date": "dates",
+    "flag": "yes/no values",
+    "identifier": "text, nearly every cell different (labels or codes, not numbers)",
+    "empty": "no values",
+}
+
 
 @dataclass(frozen=True)
 class SheetInfo:

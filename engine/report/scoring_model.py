@@ -524,7 +524,7 @@ class ScoringModel:
 
     def _wrong_kind(self, enc: Encoding, col, table, expected: str) -> InputProblem:
         return InputProblem(
-            f"column '{enc.source}' in sheet '{table.sheet}' holds {col.kind.value} values; "
+            f"column '{enc.source}' in sheet '{table.sheet}' holds {col.kind.words}; "
             f"the model expects {expected} there",
             Place(file=str(table.source), sheet=table.sheet, column=enc.source),
         )

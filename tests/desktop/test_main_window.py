@@ -497,6 +497,19 @@ def test_a_time_order_or_group_role_sets_the_validation_that_uses_it(qtbot, stor
     assert "'Folds that keep groups together' only" in w.ledger.model.data(check)
 
 
+def test_a_validation_switched_for_a_role_goes_back_when_the_role_goes(qtbot, store, book):
+    # the group role switched the validation to group folds; taking the role away again
+    # returns to shuffled folds, so the run is not blocked by a setting the user never made
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE, "region": Role.GROUP})
+    assert w.settings_panel.values()["scheme"] == "grouped"
+    w.ledger.model.set_roles({"region": Role.CANDIDATE})
+    assert w.settings_panel.values()["scheme"] == "kfold"
+    assert "set back to 'Shuffled folds'" in w.last_message.headline
+    assert w.run_action.isEnabled()
+
+
 def test_a_change_made_while_a_study_runs_marks_its_findings_outdated(qtbot, store, book):
     calls = StandIn(slow_steps=60)  # about a second of work
     w = make_window(qtbot, store, calls)

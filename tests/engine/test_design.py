@@ -219,7 +219,7 @@ def test_population_standard_deviation_is_used():
                 _col("x", ColumnKind.NUMBER, [1, 2, 3]),
             ],
             {},
-            "response column 'y' in sheet 'Data' holds category values",
+            "response column 'y' in sheet 'Data' holds category labels",
         ),
         (
             [

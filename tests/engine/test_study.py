@@ -618,3 +618,27 @@ def test_a_category_of_two_labels_can_be_the_focal_column(tmp_path):
     assert words.estimate == pytest.approx(flags.estimate, rel=1e-9)
     assert words.std_error == pytest.approx(flags.std_error, rel=1e-9)
     assert any("is 1 for 'sme' and 0 for 'retail'" in n for n in words.notes)
+
+
+def test_least_squares_names_a_column_that_is_a_combination_of_others(tmp_path):
+    # total = a + b on every row: least squares cannot tell the three apart; the note names
+    # the column it left out, not a position
+    import openpyxl
+
+    rng = np.random.default_rng(4)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y", "a", "b", "total"])
+    for _ in range(30):
+        a, b = rng.normal(size=2)
+        ws.append([float(a - b + rng.normal(0, 0.1)), float(a), float(b), float(a + b)])
+    book = tmp_path / "sums.xlsx"
+    wb.save(book)
+    res = run_study(StudySpec(source=str(book), response="y", methods=("ols",), folds=5))
+    notes = [w for w in res.warnings if w.startswith("least squares:")]
+    # (which of the three the pivoting leaves out is its choice; any one of them is right)
+    assert notes and any(
+        f"'{c}' is an exact combination of the other columns" in notes[0]
+        for c in ("a", "b", "total")
+    )
+    assert "positions" not in " ".join(res.warnings)

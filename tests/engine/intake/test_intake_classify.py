@@ -204,6 +204,9 @@ def test_levels_differing_only_in_letter_case_are_read_as_one():
         "letter case are read as one: 'east' (2 cells) and 'EAST' (1 cell) as 'East' (5 cells)" in n
         for n in col.notes
     )
+    # three spellings as common as each other: the one in mixed case names the level
+    tie = _col(["NORTH"] * 3 + ["north"] * 3 + ["North"] * 3 + ["South"] * 2)
+    assert tie.levels == ["North", "South"]
 
 
 def test_identifiers_keep_every_spelling():

@@ -200,6 +200,9 @@ class ResultView(QWidget):
         hint.setObjectName("caption")
         hint.setWordWrap(True)
         side = QWidget()
+        # room for about 18 characters of a name beside the two numbers, in the font's own
+        # size (at 1.5x "Price (EUR)" and "Promo (yes/no)" both showed as "Pr…")
+        side.setMinimumWidth(max(200, self.fontMetrics().horizontalAdvance("0" * 40)))
         sl = QVBoxLayout(side)
         sl.setContentsMargins(0, 0, 0, 0)
         sl.addWidget(self.readout)
@@ -214,7 +217,6 @@ class ResultView(QWidget):
         ll.addWidget(self.path_chart, 1)
         split.addWidget(left)
         split.addWidget(side)
-        side.setMinimumWidth(200)
         split.setStretchFactor(0, 3)
         split.setStretchFactor(1, 2)
         split.setSizes([620, 340])

@@ -200,9 +200,9 @@ class ResultView(QWidget):
         hint.setObjectName("caption")
         hint.setWordWrap(True)
         side = QWidget()
-        # room for about 18 characters of a name beside the two numbers, in the font's own
-        # size (at 1.5x "Price (EUR)" and "Promo (yes/no)" both showed as "Pr…")
-        side.setMinimumWidth(max(200, self.fontMetrics().horizontalAdvance("0" * 40)))
+        # room for about a dozen characters of a name beside the two numbers, in the font's
+        # own size (at 1.5x "Price (EUR)" and "Promo (yes/no)" both showed as "Pr…")
+        side.setMinimumWidth(max(200, self.fontMetrics().horizontalAdvance("0" * 30)))
         sl = QVBoxLayout(side)
         sl.setContentsMargins(0, 0, 0, 0)
         sl.addWidget(self.readout)

@@ -317,9 +317,9 @@ class ScoringModel:
                     int(i), []
                 ):
                     missing_in[i].append(enc.source)
-                    said = _text_cell(col, int(i), table)
-                    if said:
-                        unread_cells[(int(i), enc.source)] = said
+                    cell = _text_cell(col, int(i), table)
+                    if cell:
+                        unread_cells[(int(i), enc.source)] = cell
         linear = (
             self.intercept + X @ self.coefficients
             if len(self.encodings)
@@ -342,11 +342,11 @@ class ScoringModel:
             parts = said + [
                 f"'{s}' is not above 0, so it has no ln" for s in not_positive.get(row, [])
             ]
-            shown = [
+            cells_named = [
                 f"'{s}'" + (f" ({unread_cells[(row, s)]})" if (row, s) in unread_cells else "")
                 for s in rest
             ]
-            parts += ["no usable value in " + ", ".join(shown)] if rest else []
+            parts += ["no usable value in " + ", ".join(cells_named)] if rest else []
             notes.append("; ".join(parts))
         return np.asarray(linear, dtype=float), notes
 

@@ -131,12 +131,13 @@ class MessageStrip(QFrame):
 _NOTES_SHOWN = 3
 
 
-def _listed_notes(notes: list[str]) -> str:
-    """The first few notes, one per line, then how many more there are."""
+def _listed_notes(notes: list[str], rest_in: str = "") -> str:
+    """The first few notes, one per line, then how many more there are and (``rest_in``)
+    where all of them can be read."""
     lines = [f"• {n[:1].upper()}{n[1:]}" for n in map(window_words, notes[:_NOTES_SHOWN])]
     if len(notes) > _NOTES_SHOWN:
         more = len(notes) - _NOTES_SHOWN
-        lines.append(f"… and {more} more note{'s' if more > 1 else ''}")
+        lines.append(f"… and {more} more note{'s' if more > 1 else ''}{rest_in}")
     return "\n".join(lines)
 
 
@@ -594,7 +595,17 @@ class MainWindow(QMainWindow):
                 ("Show it again", lambda: self.show_saved_analysis()),
             )
         elif notes:
-            self._say(UserMessage("info", f"Read '{t.sheet}'.", _listed_notes(notes)))
+            self._say(
+                UserMessage(
+                    "info",
+                    f"Read '{t.sheet}'.",
+                    _listed_notes(
+                        notes,
+                        ": each column's notes are in its Check cell in the column list, and "
+                        "all of them under 'Read before use' once a study has run",
+                    ),
+                )
+            )
         else:
             self.message.hide()
         self.pages.setCurrentIndex(PAGE_SHEET)

@@ -35,7 +35,8 @@ def _cell(value: object) -> object:
         if np.isnat(value):
             return ""
         value = value.astype("datetime64[us]").item()
-    if hasattr(value, "to_pydatetime"):  # a pandas Timestamp (NaT was caught above)
+    if hasattr(value, "to_pydatetime"):  # a pandas Timestamp (NaT never gets here: the caller
+        # took pandas' missing markers out)
         value = value.to_pydatetime()
     if isinstance(value, _dt.datetime | _dt.date):
         return value

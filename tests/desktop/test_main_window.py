@@ -526,3 +526,12 @@ def test_a_change_made_while_a_study_runs_marks_its_findings_outdated(qtbot, sto
         assert w.run_study()
     wait_idle(qtbot, w)
     assert not w.results.outdated_note.isVisibleTo(w)
+
+
+def test_a_long_list_of_sheet_notes_says_where_the_rest_are():
+    from desktop.main_window import _listed_notes
+
+    notes = [f"note {i}" for i in range(5)]
+    text = _listed_notes(notes, ": in the Check cells")
+    assert text.count("• ") == 3 and text.endswith("… and 2 more notes: in the Check cells")
+    assert _listed_notes(notes[:2], ": never said") == "• Note 0\n• Note 1"

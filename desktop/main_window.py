@@ -160,6 +160,9 @@ class MainWindow(QMainWindow):
         self.problems: list = []
         self._readiness_before = ""
         self._changed_while_running = False  # roles or settings changed during a task
+        # the validation the window chose because a column took the role it uses (undone
+        # when that role goes again); None when the user's own choice stands
+        self._scheme_switched_to: str | None = None
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
@@ -657,7 +660,7 @@ class MainWindow(QMainWindow):
         wanted = {Role.TIME_ORDER: "time", Role.GROUP: "grouped"}
         given = [wanted[r] for r in roles.values() if r in wanted]
         scheme = self.settings_panel.values()["scheme"]
-        switched = getattr(self, "_scheme_switched_to", None)
+        switched = self._scheme_switched_to
         if switched and scheme == switched and switched not in given:
             # the role that asked for this validation is gone: back to the default
             self._scheme_switched_to = None

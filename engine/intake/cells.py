@@ -22,6 +22,7 @@ __all__ = [
     "column_index",
     "is_error_text",
     "cell_name",
+    "numbered_name",
     "is_blank_text",
     "parse_number_text",
     "text_number_convention",
@@ -102,6 +103,16 @@ def column_index(letters: str) -> int:
     for ch in letters.upper():
         n = n * 26 + (ord(ch) - 64)
     return n - 1
+
+
+def numbered_name(base: str, taken: set[str]) -> str:
+    """``base``, or "base (2)", "base (3)" ... when a column already has that name (compared
+    ignoring letter case; ``taken`` holds the casefolded names given so far)."""
+    name, n = base, 2
+    while name.casefold() in taken:
+        name = f"{base} ({n})"
+        n += 1
+    return name
 
 
 def cell_name(letter: str, row: int) -> str:

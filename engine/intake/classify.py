@@ -637,9 +637,9 @@ def _classify_mixed(
         if serial.size:
             k0 = int(serial[0])
             notes.append(
-                f"{serial.size} number{'s' if serial.size > 1 else ''} among the dates read as "
-                f"date serial number{'s' if serial.size > 1 else ''} (e.g. {cell_at(k0)} "
-                f"{numbers[k0]:g} as {dates[k0]:%Y-%m-%d})"
+                f"{counted(serial.size, 'number')} among the dates read as date serial "
+                f"number{'s' if serial.size > 1 else ''} (e.g. {cell_at(k0)} {numbers[k0]:g} as "
+                f"{dates[k0]:%Y-%m-%d})"
             )
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
         bad = unusable_note(keep, "dates")

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from engine.errors import InputProblem
-from engine.intake.cells import column_letter
+from engine.intake.cells import column_letter, numbered_name
 from engine.intake.classify import classify_column
 from engine.intake.table import SheetInfo, Table
 
@@ -66,11 +66,7 @@ def read_frame(frame, name: str = "DataFrame") -> Table:
         missing = values.isna().to_numpy() if hasattr(values, "isna") else np.zeros(n, bool)
         cells = np.empty(n, dtype=object)
         cells[:] = ["" if gone else _cell(v) for v, gone in zip(listed, missing)]
-        col_name = heading
-        k = 2
-        while col_name.casefold() in taken:
-            col_name = f"{heading} ({k})"
-            k += 1
+        col_name = numbered_name(heading, taken)
         taken.add(col_name.casefold())
         out.append(
             classify_column(

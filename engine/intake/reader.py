@@ -20,6 +20,7 @@ from engine.intake.cells import (
     counted,
     format_heading,
     is_error_text,
+    numbered_name,
     parse_number_text,
     text_number_convention,
 )
@@ -348,14 +349,9 @@ def _build_table(
         base = heading or (f"column {letter}")
         if not heading:
             unnamed.append(letter)
-        name = base
         dup_of = seen.get(base.casefold())
-        if dup_of is not None:
-            n = 2
-            while f"{base} ({n})".casefold() in taken:
-                n += 1
-            name = f"{base} ({n})"
-        else:
+        name = numbered_name(base, taken)
+        if dup_of is None:
             seen[base.casefold()] = base
         taken.add(name.casefold())
         if numeric_cols is not None:

@@ -38,7 +38,7 @@ from libreoffice import (  # noqa: E402
     soffice,
 )
 from rich_workbook import write_rich  # noqa: E402
-from study_fixture import make_result, simulate_rows, write_rows  # noqa: E402
+from study_fixture import make_result, simulate_rows, write_rows, write_wide_book  # noqa: E402
 
 from engine.intake import read_table  # noqa: E402
 from engine.report import ScoringModel, load_scoring_model, write_results  # noqa: E402
@@ -548,19 +548,8 @@ def test_a_check_split_into_helper_cells_recalculates_to_the_same_words(tmp_path
     from engine.study import run_study
     from engine.study_spec import StudySpec
 
-    rng = np.random.default_rng(6)
-    n, p = 120, 40
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.append(["y"] + [f"x{j}" for j in range(p)])
-    X = rng.normal(size=(n, p))
-    for i in range(n):
-        ws.append(
-            [float(X[i, :3].sum() + rng.normal())]
-            + [None if (i + j) % 29 == 0 else float(X[i, j]) for j in range(p)]
-        )
-    book = tmp_path / "wide.xlsx"
-    wb.save(book)
+    p = 40
+    book = write_wide_book(tmp_path / "wide.xlsx", 120, p, blank_every=29, seed=6)
     res = run_study(
         StudySpec(source=str(book), response="y", methods=("ols",), folds=4, missing="fill")
     )

@@ -374,3 +374,24 @@ def _fit_all(rows: list[dict], n: int, seed: int) -> StudyResult:
         started="2026-01-05T10:00:00+00:00",
         seconds=1.5,
     )
+
+
+def write_wide_book(path: Path, n: int, p: int, *, blank_every: int, seed: int) -> Path:
+    """A sheet of ``n`` rows: y, then x0 .. x{p-1} (standard normal; y is the sum of the first
+    three plus noise), a blank wherever (row + column) is a multiple of ``blank_every``: a
+    model wide enough to make long scoring formulas, with fills stored under "fill"."""
+    import openpyxl
+
+    rng = np.random.default_rng(seed)
+    X = rng.normal(size=(n, p))
+    y = X[:, :3].sum(axis=1) + rng.normal(size=n)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["y"] + [f"x{j}" for j in range(p)])
+    for i in range(n):
+        ws.append(
+            [float(y[i])]
+            + [None if (i + j) % blank_every == 0 else float(X[i, j]) for j in range(p)]
+        )
+    wb.save(path)
+    return path

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from study_fixture import HEADINGS, make_result, simulate_rows, write_rows
+from study_fixture import HEADINGS, make_result, simulate_rows, write_rows, write_wide_book
 
 from engine.errors import InputProblem
 from engine.intake import read_table
@@ -156,17 +156,8 @@ def test_every_scoring_formula_fits_the_spreadsheet_limit_on_a_wide_model(tmp_pa
     from engine.study import run_study
     from engine.study_spec import StudySpec
 
-    rng = np.random.default_rng(5)
-    n, p = 150, 60
-    wb = openpyxl.Workbook()
-    ws = wb.active
-    ws.append(["y"] + [f"x{j}" for j in range(p)])
-    X = rng.normal(size=(n, p))
-    y = X[:, :5].sum(axis=1) + rng.normal(size=n)
-    for i in range(n):
-        ws.append([float(y[i])] + [None if (i + j) % 37 == 0 else float(X[i, j]) for j in range(p)])
-    book = tmp_path / "wide.xlsx"
-    wb.save(book)
+    p = 60
+    book = write_wide_book(tmp_path / "wide.xlsx", 150, p, blank_every=37, seed=5)
     res = run_study(
         StudySpec(source=str(book), response="y", methods=("ols",), folds=4, missing="fill")
     )

@@ -81,9 +81,12 @@ def _sheet(
             columns.append(
                 _values_column(model.column_in(table, s), table.n_rows, date_style, date1904)
             )
-        columns.append(NumberColumn(np.asarray(preds, dtype=float), style_index(fm.prediction)))
+        size = model.typical_size  # every prediction and range end to the same decimals
+        shown = style_index(fm.shown_to(size, "prediction"))
+        columns.append(NumberColumn(np.asarray(preds, dtype=float), shown))
         if ranges is not None:
-            columns += [NumberColumn(np.asarray(end, dtype=float)) for end in ranges]
+            end_style = style_index(fm.shown_to(size))
+            columns += [NumberColumn(np.asarray(end, dtype=float), end_style) for end in ranges]
         columns.append(TextColumn([n or None for n in notes], style_index(fm.note)))
         bulk.add_columns(4, 0, columns)
     finally:

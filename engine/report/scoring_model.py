@@ -218,6 +218,17 @@ class ScoringModel:
         return float(self.intercept + np.dot(self.coefficients, self.means))
 
     @property
+    def typical_size(self) -> float:
+        """How large a prediction typically is, in the response's units: the prediction at the
+        columns' means, or the cross-validated error where that is larger (a response centred
+        near 0). It sets how many decimals predictions are shown with."""
+        centre = math.exp(self.centre) * self.smearing if self.response_log else self.centre
+        size = abs(centre) if math.isfinite(centre) else 0.0
+        if not self.response_log and self.cv_error is not None and math.isfinite(self.cv_error):
+            size = max(size, math.sqrt(max(self.cv_error, 0.0)))
+        return size
+
+    @property
     def sources(self) -> list[str]:
         """Source columns the prediction needs, in order of first use."""
         out: list[str] = []

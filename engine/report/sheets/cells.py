@@ -42,11 +42,13 @@ class Formats:
             }
         )
         self.prediction = add({"bold": True, "num_format": "General", "left": 2})
+        # the look of each kind of number shown to a chosen precision (shown_to)
+        self._looks: dict[str, dict] = {"number": {}, "prediction": {"bold": True, "left": 2}}
+        self._shown: dict[tuple[str, int], object] = {}
         self.param = add({"num_format": "General", "font_color": "#404040"})
         self.days = add({"num_format": "0"})  # a whole count of days, never shown as a date
         self.param_label = add({"italic": True, "font_color": "#404040"})
         self._add = add
-        self._digits: dict[int, object] = {}
 
     def digits(self, x: float):
         """A format showing ``x`` to about six significant digits (the cell keeps every digit):
@@ -55,11 +57,23 @@ class Formats:
         a = abs(x)
         if x == round(x) or a < 1e-4 or a >= 1e10:
             return self.number
+        return self.shown_to(a)
+
+    def shown_to(self, size: float, look: str = "number"):
+        """A format for numbers of about ``size``, with the decimals that show six significant
+        digits of it (a column of predictions then reads alike, 1506.66 beside 98.20, where the
+        General format would show as many digits as the column is wide). ``look``: "number"
+        or "prediction" (bold, with a rule on its left). Sizes needing an exponent keep
+        General."""
+        a = abs(size)
+        if not math.isfinite(a) or a < 1e-4 or a >= 1e10:
+            return self.prediction if look == "prediction" else self.number
         decimals = min(9, max(0, 5 - math.floor(math.log10(a))))
-        if decimals not in self._digits:
+        key = (look, decimals)
+        if key not in self._shown:
             fmt = "0." + "0" * decimals if decimals else "0"
-            self._digits[decimals] = self._add({"num_format": fmt})
-        return self._digits[decimals]
+            self._shown[key] = self._add({**self._looks[look], "num_format": fmt})
+        return self._shown[key]
 
 
 def text(ws, row: int, col: int, value: object, fmt=None) -> None:

@@ -554,6 +554,9 @@ def write(
     if check_helpers:
         for s_i in sorted(first_parts):
             text(ws, header, check0 + s_i, f"check: {sources[s_i]}", fm.param_label)
+    # predictions and their range's ends read alike, to six significant digits of a typical one
+    shown_prediction = fm.shown_to(model.typical_size, "prediction")
+    shown_end = fm.shown_to(model.typical_size)
     for t in range(n_rows):
         r = first + t
         ex = examples[t] if t < len(examples) else None
@@ -612,7 +615,7 @@ def write(
         check_cell = cell_ref(r, check_col)
         if cat_sources:  # a level the model never saw has no coefficient: no prediction
             body = f'IF({check_cell}<>"",IF(ISERROR(SEARCH("unseen",{check_cell})),{body},NA()),{body})'
-        ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', fm.prediction, pcached)
+        ws.write_formula(r, pred_col, f'=IF({empty},"",{body})', shown_prediction, pcached)
         if low_col is not None and high_col is not None and halfwidth is not None:
             p_cell = cell_ref(r, pred_col)
             # back to the linear prediction, then its ends (the ln scale's through EXP)
@@ -630,7 +633,7 @@ def write(
                 if isinstance(pv_linear, float):
                     ev = pv_linear + sign * halfwidth
                     ecached = math.exp(ev) if model.response_log else ev
-                ws.write_formula(r, c, f'=IF(ISNUMBER({p_cell}),{end},"")', fm.number, ecached)
+                ws.write_formula(r, c, f'=IF(ISNUMBER({p_cell}),{end},"")', shown_end, ecached)
         by_source = check_parts(r)
         whole = "&".join(f for s_i in sorted(by_source) for f in by_source[s_i])
         if whole and not check_helpers:

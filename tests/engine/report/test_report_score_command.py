@@ -62,6 +62,12 @@ def test_score_writes_predictions_beside_the_book(setup):
     assert head[k + 1 : k + 3] == ("Low end (95% range)", "High end (95% range)")
     np.testing.assert_allclose(got - low, h, rtol=1e-12)
     np.testing.assert_allclose(high - got, h, rtol=1e-12)
+    # shown alike: one format, six significant digits of a typical prediction
+    shown = openpyxl.load_workbook(out)["TM Predictions"]
+    formats = {shown.cell(r, k + 1 + j).number_format for r in range(5, 10) for j in range(3)}
+    assert len(formats) == 1
+    decimals = len(formats.pop().partition(".")[2])
+    assert len(f"{model.typical_size:.{decimals}f}".replace(".", "").lstrip("0")) == 6
 
 
 def test_score_refuses_to_overwrite_the_book(setup):

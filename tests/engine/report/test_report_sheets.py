@@ -218,3 +218,40 @@ def test_numbers_show_six_significant_digits_and_keep_them_all(written):
     assert fm.digits(1506.6626601456)["num_format"] == "0.00"
     assert fm.digits(0.000380649)["num_format"] == "0.000000000"
     assert fm.digits(12.0) is fm.number and fm.digits(3.2e-7) is fm.number
+
+
+def test_predictions_on_the_scoring_sheet_read_alike(written):
+    # one format per column, six significant digits of a typical prediction (the convention of
+    # the result tables above, common practice); the cells keep every digit
+    from engine.report import ScoringModel
+
+    result, out = written
+    model = ScoringModel.from_result(result)
+    ws = openpyxl.load_workbook(out)["TM Scoring"]
+    head, col = next(
+        (r, c)
+        for r in range(1, 60)
+        for c in range(1, 40)
+        if str(ws.cell(r, c).value).startswith("Prediction of")
+    )
+    formats = {ws.cell(head + i, col + j).number_format for i in range(1, 6) for j in range(3)}
+    assert len(formats) == 1
+    decimals = len(formats.pop().partition(".")[2])
+    size = model.typical_size
+    assert len(f"{size:.{decimals}f}".replace(".", "").lstrip("0")) == 6
+    assert ws.cell(head + 1, col).font.b  # the prediction itself stays bold
+
+
+def test_typical_size_of_a_prediction():
+    from engine.report import ScoringModel
+
+    def model(intercept, cv_error, smearing=None):
+        return ScoringModel.from_parts(
+            "lasso", "y", intercept, [], {}, {}, {}, {}, cv_error, None, smearing
+        )
+
+    assert model(1506.66, 25.0).typical_size == pytest.approx(1506.66)
+    # a response centred near 0: the error's size sets the decimals, not the tiny centre
+    assert model(0.0001, 2500.0).typical_size == pytest.approx(50.0)
+    # ln scale: the centre back in the response's units
+    assert model(2.0, 0.04, smearing=1.02).typical_size == pytest.approx(np.exp(2.0) * 1.02)

@@ -29,6 +29,7 @@ import numpy as np
 from engine.errors import InputProblem, Place
 from engine.intake.cells import cell_name
 from engine.intake.classify import worth_a_warning
+from engine.intake.notes import Finding, finding_of
 
 if TYPE_CHECKING:
     from engine.intake.table import Column, Table
@@ -729,14 +730,7 @@ def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:
 
 def _unread_cells(note: str) -> bool:
     """Whether a column's note names cells whose words intake could not read as values."""
-    return any(
-        words in note
-        for words in (
-            " not a number treated as missing",
-            " not numbers treated as missing",
-            " not detected without a limit",
-        )
-    )
+    return finding_of(note) in (Finding.UNREAD_CELLS, Finding.NOT_DETECTED)
 
 
 def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool) -> None:
@@ -830,9 +824,9 @@ def _without_mostly_missing(
 def _numbers_read_as_text(c: Column) -> str | None:
     """Intake's note on a column of mostly numbers that it had to read as text, with the fix."""
     for note in c.notes:
-        if "too few for a number column" in note:
+        if finding_of(note) is Finding.TOO_FEW_NUMBERS:
             return note + "; write every cell as a plain number to use it"
-        if "numbers written with different units" in note:
+        if finding_of(note) is Finding.SEVERAL_UNITS:
             return note
     return None
 

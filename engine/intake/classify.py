@@ -49,6 +49,7 @@ from engine.intake.cells import (
     format_plain,
     parse_number_text,
 )
+from engine.intake.notes import WORTH_A_WARNING, ColumnNote, Finding, finding_of
 from engine.intake.table import Column, ColumnKind
 from engine.intake.text_dates import MONTH_NAMES, looks_like_date, parse_date_texts
 
@@ -264,12 +265,16 @@ def _text_records(
                 "stored as numbers"
             )
         elif point == comma:
-            mark_note = (
+            mark_note = ColumnNote(
                 f"read with a decimal {mark} (the sheet's usual one); each of them could "
-                f"also be read with a decimal {other}"
+                f"also be read with a decimal {other}",
+                Finding.DECIMAL_MARK_CHOSEN,
             )
         else:
-            mark_note = f"read with a decimal {mark}, as most of them are written"
+            mark_note = ColumnNote(
+                f"read with a decimal {mark}, as most of them are written",
+                Finding.DECIMAL_MARK_CHOSEN,
+            )
     date_like = [u for u in unique if looks_like_date(u)]
     parsed_dates: dict[str, dt.datetime | None] = {}
     date_note = None
@@ -303,25 +308,10 @@ def _text_records(
     return info, date_note, mark_note
 
 
-# notes about a column that change what its values mean: repeated among the sheet's warnings
-_WARNING_MARKS = (
-    "could also be read",  # a decimal mark chosen for texts that read either way
-    "as most of them are written",
-    "levels that differ only in letter case",
-    "below a detection limit",
-    "above a limit (e.g.",
-    "not detected without a limit",
-    "percentages written two ways",
-    "written with the unit",
-    "numbers written with different units",
-    "read as date serial",
-)
-
-
 def worth_a_warning(note: str) -> bool:
     """Whether a column's note should also be one of the sheet's warnings (shown with a fit,
     not only when the sheet is inspected)."""
-    return any(mark in note for mark in _WARNING_MARKS)
+    return finding_of(note) in WORTH_A_WARNING
 
 
 def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
@@ -513,10 +503,13 @@ def _classify_mixed(
             named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[undetected][:3])
             count = int(undetected.sum())
             notes.append(
-                f"{count} result{'s' if count > 1 else ''} reported as not detected without a "
-                f"limit ({named}{' and more' if count > 3 else ''}) treated as missing: these "
-                "values are low, not unknown, so leaving their rows out biases the fit; "
-                "typing the limit instead (e.g. '<0.02') has them read as half of it"
+                ColumnNote(
+                    f"{count} result{'s' if count > 1 else ''} reported as not detected without "
+                    f"a limit ({named}{' and more' if count > 3 else ''}) treated as missing: "
+                    "these values are low, not unknown, so leaving their rows out biases the "
+                    "fit; typing the limit instead (e.g. '<0.02') has them read as half of it",
+                    Finding.NOT_DETECTED,
+                )
             )
             bad = bad[~undetected]
             if not bad.size:
@@ -525,9 +518,12 @@ def _classify_mixed(
             named = ", ".join(f"{cell_at(k)} '{_seen(shown[k])}'" for k in bad[:3])
             more = f" and {bad.size - 3} more" if bad.size > 3 else ""
             notes.append(
-                f"{bad.size} cells that are not {what} treated as missing: {named}{more}"
-                if bad.size > 1
-                else f"1 cell that is not {_SINGULAR[what]} treated as missing: {named}"
+                ColumnNote(
+                    f"{bad.size} cells that are not {what} treated as missing: {named}{more}"
+                    if bad.size > 1
+                    else f"1 cell that is not {_SINGULAR[what]} treated as missing: {named}",
+                    Finding.UNREAD_CELLS,
+                )
             )
         return int(bad.size) + int(undetected.sum())
 
@@ -574,16 +570,19 @@ def _classify_mixed(
         if with_unit.size:
             k0 = int(with_unit[0])
             notes.append(
-                f"{with_unit.size} number{'s' if with_unit.size > 1 else ''} written with the "
-                f"unit '{units[0]}' (e.g. {cell_at(k0)} '{shown[k0]}') read as "
-                f"number{'s' if with_unit.size > 1 else ''} in {units[0]}"
+                ColumnNote(
+                    f"{with_unit.size} number{'s' if with_unit.size > 1 else ''} written with "
+                    f"the unit '{units[0]}' (e.g. {cell_at(k0)} '{shown[k0]}') read as "
+                    f"number{'s' if with_unit.size > 1 else ''} in {units[0]}",
+                    Finding.ONE_UNIT,
+                )
             )
         elif len(units) > 1 and counts[_TEXT_UNIT]:
             notes.append(_several_units_note(units))
         if any(u.rstrip().endswith("%") for u in unique):
             scale_note = _one_percent_scale(numbers, codes, shown, keep, cell_at)
             if scale_note:
-                notes.append(scale_note)
+                notes.append(ColumnNote(scale_note, Finding.PERCENT_SCALES))
         limits = np.flatnonzero(codes == _TEXT_LIMIT)
         if limits.size:
             below = [k for k in limits.tolist() if str(shown[k])[:1] in "<\u2264"]
@@ -600,8 +599,11 @@ def _classify_mixed(
                     f"(e.g. {cell_at(above[0])} '{shown[above[0]]}') read as the limit"
                 )
             notes.append(
-                "; ".join(said) + " (common practice for a few such results; if they are many, "
-                "or your lab has its own rule, replace them in the sheet)"
+                ColumnNote(
+                    "; ".join(said) + " (common practice for a few such results; if they are "
+                    "many, or your lab has its own rule, replace them in the sheet)",
+                    Finding.LIMIT_SUBSTITUTES,
+                )
             )
         values = np.full(n, np.nan)
         values[present_idx[keep]] = numbers[keep]
@@ -616,9 +618,12 @@ def _classify_mixed(
             col.text_numbers = int(counts[_TEXT_NUMBER])
             first = int(np.flatnonzero(codes == _TEXT_NUMBER)[0])
             notes.append(
-                f"{col.text_numbers} number{'s' if col.text_numbers > 1 else ''} stored as text read as "
-                f"number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} '{shown[first]}')"
-                + (f", {mark_note}" if mark_note else "")
+                ColumnNote(
+                    f"{col.text_numbers} number{'s' if col.text_numbers > 1 else ''} stored as text "
+                    f"read as number{'s' if col.text_numbers > 1 else ''} (e.g. {cell_at(first)} "
+                    f"'{shown[first]}')" + (f", {mark_note}" if mark_note else ""),
+                    finding_of(mark_note) if mark_note else None,
+                )
             )
     elif n_dates and n_dates >= _share(decisive):
         # a plain number among dates is a date typed without its format when it lies where
@@ -637,9 +642,12 @@ def _classify_mixed(
         if serial.size:
             k0 = int(serial[0])
             notes.append(
-                f"{counted(serial.size, 'number')} among the dates read as date serial "
-                f"number{'s' if serial.size > 1 else ''} (e.g. {cell_at(k0)} {numbers[k0]:g} as "
-                f"{dates[k0]:%Y-%m-%d})"
+                ColumnNote(
+                    f"{counted(serial.size, 'number')} among the dates read as date serial "
+                    f"number{'s' if serial.size > 1 else ''} (e.g. {cell_at(k0)} "
+                    f"{numbers[k0]:g} as {dates[k0]:%Y-%m-%d})",
+                    Finding.SERIAL_DATES,
+                )
             )
         keep = np.isin(codes, (_DATE, _TEXT_DATE)) & np.array([d is not None for d in dates])
         bad = unusable_note(keep, "dates")
@@ -689,8 +697,11 @@ def _classify_mixed(
             notes.append(_several_units_note(units))
         elif n_numeric and n_numeric > decisive / 2:
             notes.append(
-                f"{n_numeric} of {decisive} values are numbers, too few for a number column "
-                f"(needs {int(DOMINANT_SHARE * 100)}%); read as text"
+                ColumnNote(
+                    f"{n_numeric} of {decisive} values are numbers, too few for a number column "
+                    f"(needs {int(DOMINANT_SHARE * 100)}%); read as text",
+                    Finding.TOO_FEW_NUMBERS,
+                )
             )
     col.errors = n_errors
     col.notes = notes
@@ -700,11 +711,12 @@ def _classify_mixed(
 _SINGULAR = {"numbers": "a number", "dates": "a date", "yes/no values": "a yes/no value"}
 
 
-def _several_units_note(units: list[str]) -> str:
+def _several_units_note(units: list[str]) -> ColumnNote:
     shown = ", ".join(f"'{u}'" for u in units[:5]) + (" ..." if len(units) > 5 else "")
-    return (
+    return ColumnNote(
         f"numbers written with different units ({shown}) are not read as numbers: write the "
-        "column in one unit (or the unit in its heading and numbers in the cells)"
+        "column in one unit (or the unit in its heading and numbers in the cells)",
+        Finding.SEVERAL_UNITS,
     )
 
 
@@ -732,7 +744,9 @@ def _case_variants(tally: Counter) -> tuple[dict[str, str], str]:
     if not spelling:
         return {}, ""
     shown = "; ".join(joined[:5]) + (f"; and {len(joined) - 5} more" if len(joined) > 5 else "")
-    return spelling, f"levels that differ only in letter case are read as one: {shown}"
+    return spelling, ColumnNote(
+        f"levels that differ only in letter case are read as one: {shown}", Finding.CASE_VARIANTS
+    )
 
 
 def _seen(value: object) -> str:

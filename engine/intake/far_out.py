@@ -13,16 +13,16 @@ __all__ = ["FENCE", "far_values", "beyond_fences", "screened"]
 
 import numpy as np
 
-FENCE = 3.0  # interquartile ranges beyond the quartiles: Tukey's outer fences
+from engine.intake.notes import Finding, finding_of
 
-# notes of intake that say some values were put in for results beyond a limit ("<0.5" read as
-# 0.25): such a column's far values are intake's own substitutes, already named, not slips
-_SUBSTITUTED = ("below a detection limit", "above a limit (e.g.")
+FENCE = 3.0  # interquartile ranges beyond the quartiles: Tukey's outer fences
 
 
 def screened(notes: list[str]) -> bool:
-    """Whether a column with these intake notes is looked at for far-out values."""
-    return not any(mark in note for note in notes for mark in _SUBSTITUTED)
+    """Whether a column with these intake notes is looked at for far-out values: not when intake
+    put in values for results beyond a limit ("<0.5" read as 0.25), whose far values are its
+    own substitutes, already named, not slips."""
+    return not any(finding_of(note) is Finding.LIMIT_SUBSTITUTES for note in notes)
 
 
 def far_values(values: np.ndarray, fence: float = FENCE) -> np.ndarray:

@@ -392,9 +392,14 @@ def test_a_value_that_only_marks_blanks_is_kept_as_its_indicator_under_fill():
 
 
 def test_a_column_of_mostly_numbers_read_as_text_gives_intakes_reason():
+    from engine.intake.notes import ColumnNote, Finding
+
     cost = _col("cost", ColumnKind.IDENTIFIER, [f"c{i}" for i in range(6)], "C")
     cost.notes = [
-        "4 of 6 values are numbers, too few for a number column (needs 80%); read as text"
+        ColumnNote(
+            "4 of 6 values are numbers, too few for a number column (needs 80%); read as text",
+            Finding.TOO_FEW_NUMBERS,
+        )
     ]
     t = _table(
         _col("y", ColumnKind.NUMBER, [1, 2, 3, 4, 5, 7]),
@@ -515,3 +520,40 @@ def test_a_row_number_column_is_not_a_default_candidate_but_may_be_named():
     assert "week" in d.names  # a count of weeks is a trend, not a row label
     named = build_design(_table(y, rid, x, week), _spec(candidates=("id", "x")))
     assert named.names == ["id", "x"]
+
+
+def test_words_in_a_date_or_yes_no_candidate_are_named_too(tmp_path):
+    # every kind of column costs rows for the words it cannot read, so each says which
+    from engine.intake import read_table
+
+    lines = ["y,when,member,x"] + [
+        f"{i},2024-{1 + i % 12:02d}-{1 + i % 27:02d},{'yes' if i % 3 else 'no'},{i % 7}"
+        for i in range(30)
+    ]
+    lines[4] = "3,soon,yes,3"
+    lines[9] = "8,2024-09-09,perhaps,1"
+    path = tmp_path / "words.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    design = build_design(read_table(path), _spec(source=str(path), response="y"))
+    said = " | ".join(design.warnings)
+    assert "candidate 'when': 1 cell that is not a date treated as missing: row 5" in said, said
+    assert "candidate 'member': 1 cell that is not a yes/no value treated as missing" in said
+
+
+def test_a_notes_finding_survives_the_trip_to_a_worker_process(tmp_path):
+    # tables go to worker processes by pickling: what a note reports must arrive with it
+    import pickle
+
+    from engine.intake import read_table
+    from engine.intake.far_out import screened
+    from engine.intake.notes import Finding, finding_of
+
+    lines = ["y,lead"] + [f"{i},{0.1 * (1 + i % 9):.1f}" for i in range(20)]
+    lines[3] = "2,<0.05"
+    path = tmp_path / "limits.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    lead = read_table(path).column("lead")
+    back = pickle.loads(pickle.dumps(lead))
+    assert [finding_of(n) for n in back.notes] == [finding_of(n) for n in lead.notes]
+    assert Finding.LIMIT_SUBSTITUTES in {finding_of(n) for n in back.notes}
+    assert not screened(back.notes) and back.notes == lead.notes

@@ -331,8 +331,8 @@ def write(
             )
             if isinstance(value, str):
                 text(ws, row, 1, value, fm.kept)
-            elif value is not None:
-                number(ws, row, 1, value, fm.number)
+            elif value is not None:  # shown to six significant digits; formulas read them all
+                number(ws, row, 1, value, fm)
             if why:
                 text(ws, row, 2, why[:1].upper() + why[1:], fm.note)
         if param_top <= row <= last_param_row:

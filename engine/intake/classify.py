@@ -243,7 +243,10 @@ def _text_records(
     range of the cells stored as numbers decides ("9,548" among 7,979 to 23,724 is 9548)."""
     if not unique:
         return {}, None, None
-    sample = unique[:_CONVENTION_SAMPLE]
+    # the number in each text votes, also when written with a unit or against a limit
+    # ("50.0 kg", "<0.05" say point): otherwise such a column would take the sheet's usual
+    # mark, which one column of "5,40" can make a comma, reading "1.005 kg" as 1005
+    sample = [_number_part(u) for u in unique[:_CONVENTION_SAMPLE]]
     point, comma = decimal_mark_votes(sample)
     conv = decimal if point == comma else ("." if point > comma else ",")
     by_range = False
@@ -381,6 +384,16 @@ def _number_and_unit(text: str, mark: str) -> tuple[float, str] | None:
     if value is None:
         return None
     return value, m.group("unit")
+
+
+def _number_part(text: str) -> str:
+    """The number written in a text with a unit after it or against a limit ("50.0 kg" and
+    "<0.05" give "50.0" and "0.05"); any other text as it is."""
+    s = text.strip()
+    if s[:1] in "<>\u2264\u2265" and len(s) > 1:
+        return s[1:].lstrip("=").strip()
+    m = _NUMBER_AND_UNIT.fullmatch(s)
+    return m.group("num") if m is not None else s
 
 
 def _unit_of(text: str) -> str:

@@ -427,6 +427,30 @@ def test_the_decimal_mark_of_numbers_written_as_text_is_decided_for_the_sheet(tm
     assert any(w.startswith("column 'Leitwert' (C): ") for w in table.warnings)
 
 
+def test_one_decimal_comma_column_does_not_change_how_units_and_limits_elsewhere_read(tmp_path):
+    # common practice: the decimal mark is a column's own matter. One column of "5,40" texts
+    # beside columns written with points: "50.0 kg", "<0.05" and "1.005 kg" read as typed there
+    # (a sheet-wide comma would drop the first two and read the last as 1005)
+    rows = [
+        [
+            i,
+            f"{5 + i / 20:.2f}".replace(".", ",") if i % 4 == 0 else 5 + i / 20,
+            f"{50 + i / 10:.1f} kg" if i % 5 == 0 else 50 + i / 10,
+            "<0.05" if i % 10 == 0 else 0.1 + i / 100,
+            f"{1 + i / 1000:.3f} kg" if i % 5 == 0 else 1 + i / 1000,
+        ]
+        for i in range(40)
+    ]
+    path = _saved_sheet(tmp_path, "S", [["y", "ph", "mass", "lead", "small_mass"], *rows])
+    table = read_table(path)
+    assert table.column("ph").values[4] == pytest.approx(5.2)
+    mass, lead, small = (table.column(c) for c in ("mass", "lead", "small_mass"))
+    assert mass.missing == lead.missing == small.missing == 0
+    assert mass.values[5] == pytest.approx(50.5)
+    assert lead.values[10] == pytest.approx(0.025)  # half the limit
+    assert small.values[5] == pytest.approx(1.005) and small.maximum == pytest.approx(1.039)
+
+
 def test_a_label_merged_down_a_column_counts_for_every_row_of_its_range(tmp_path):
     # common spreadsheet practice: a site typed once and merged over its rows (ECMA-376 Part 1,
     # 18.3.1.55 mergeCell: only the top-left cell of a merged range holds a value)

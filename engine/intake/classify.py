@@ -296,7 +296,7 @@ def _text_records(
         else:
             num = None if _is_code(s) else parse_number_text(s, conv)
             low = s.lower()
-            limit = _limit_value(s, conv) if num is None else None
+            limit = limit_value(s, conv) if num is None else None
             with_unit = _number_and_unit(s, conv) if num is None and limit is None else None
             if limit is not None:
                 info[u] = (_TEXT_LIMIT, limit, _NAN, s, None)
@@ -401,7 +401,7 @@ def _unit_of(text: str) -> str:
     return m.group("unit") if m else ""
 
 
-def _limit_value(text: str, mark: str) -> float | None:
+def limit_value(text: str, mark: str) -> float | None:
     """The value read for a result reported against a limit: "<0.3" (or "< 0,3", "≤0.3")
     as the share _BELOW_LIMIT_SHARE of it, ">1000" as the limit; None for anything else."""
     head = text[:1]

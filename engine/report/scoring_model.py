@@ -629,14 +629,23 @@ def as_table(rows):
 
 
 def _numbers_in_text(values) -> np.ndarray:
-    """The number each text cell spells (intake's reading of one cell), NaN for the others."""
+    """The number each text cell spells, read as intake reads one cell of a number column (NaN
+    for the others): with a decimal point, or a comma where only a comma makes a number of it
+    ("0,2"); a result against a limit as the fit reads one ("<0.05" as half the limit). A few
+    new rows are too few to tell a column's habits, so each cell is read on its own."""
     from engine.intake.cells import parse_number_text
+    from engine.intake.classify import limit_value
 
     out = np.full(len(values), np.nan)
     for i, v in enumerate(values):
         if isinstance(v, str) and v.strip():
-            x = parse_number_text(v.strip(), ".")
-            out[i] = np.nan if x is None else x
+            s = v.strip()
+            for read in (parse_number_text, limit_value):
+                x = read(s, ".")
+                x = read(s, ",") if x is None else x
+                if x is not None:
+                    out[i] = x
+                    break
     return out
 
 

@@ -204,6 +204,18 @@ def test_a_stray_word_among_new_numbers_costs_its_row_only(tmp_path):
         pred[[0, 2]], m.intercept + m.coefficients["temp"] * np.array([20.0, 21.5])
     )
     assert np.isnan(pred[1]) and notes[1] == "no usable value in 'temp' (A3 'warm')"
+    # each cell read as the fit reads one: a lab result against a limit as half the limit,
+    # a decimal comma where only a comma makes a number ("21,5"), common practice as in intake
+    lab = openpyxl.Workbook()
+    lab.active.append(["temp"])
+    for v in (20.0, "<22", "21,5", "warm"):
+        lab.active.append([v])
+    lab.save(tmp_path / "lab.xlsx")
+    pred, notes = model.predict_with_notes(read_table(tmp_path / "lab.xlsx"))
+    np.testing.assert_allclose(
+        pred[:3], m.intercept + m.coefficients["temp"] * np.array([20.0, 11.0, 21.5])
+    )
+    assert np.isnan(pred[3]) and notes[3] == "no usable value in 'temp' (A5 'warm')"
     # a column with no number at all is the wrong column: refused, naming it
     wrong = openpyxl.Workbook()
     wrong.active.append(["temp"])

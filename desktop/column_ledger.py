@@ -123,6 +123,9 @@ class ColumnLedger(QWidget):
         self.view.setAlternatingRowColors(True)
         self.view.setSortingEnabled(False)
         self.view.verticalHeader().setVisible(False)
+        # Tab moves on to the next control (arrow keys move between cells): a list of hundreds
+        # of columns would otherwise hold the keyboard for thousands of presses
+        self.view.setTabKeyNavigation(False)
         self.view.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Fixed)
         h = self.view.horizontalHeader()
         h.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)

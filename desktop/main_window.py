@@ -166,6 +166,10 @@ class MainWindow(QMainWindow):
         # a saved analysis to apply once its sheet is read, and a run to start once idle
         self._pending_spec: StudySpec | None = None
         self._run_when_idle = False
+        # roles, logs and interactions as last set for each (sheet, heading row) of the open
+        # book: another heading row names the columns differently, and going back to one
+        # tried before brings its roles back rather than the defaults
+        self._layouts: dict[tuple[str, int], tuple[dict, list, list]] = {}
         # the saved study being shown again, to say whether the re-run reproduces it
         self._rerun_record: Any = None
         # set by `tamis demo`: re-run a saved analysis as soon as its workbook is open
@@ -347,6 +351,7 @@ class MainWindow(QMainWindow):
         self.preview.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         self.preview.horizontalHeader().setDefaultSectionSize(110)
         self.preview.setWordWrap(False)
+        self.preview.setTabKeyNavigation(False)  # Tab leaves the sheet; arrows move in it
         self.settings_panel = SettingsPanel()
         self.settings_panel.changed.connect(self._on_settings_changed)
         self.results = ResultView()
@@ -531,13 +536,24 @@ class MainWindow(QMainWindow):
         roles = default_roles(t)
         kept_logged = self.ledger.model.logged()
         kept_pairs = self.ledger.model.interactions()
+        same_book = previous is not None and previous.path == loaded.path
+        if same_book and previous is not None:
+            self._layouts[(previous.table.sheet, previous.table.header_row)] = (
+                self.ledger.model.roles(),
+                kept_logged,
+                kept_pairs,
+            )
+        else:
+            self._layouts = {}
+        seen_layout = self._layouts.get((t.sheet, t.header_row))
+        if seen_layout is not None and self._pending_spec is None:
+            kept_roles, kept_logged, kept_pairs = seen_layout
+        else:
+            kept_roles = self.ledger.model.roles()
         if self._pending_spec is not None:
             roles = roles_from_spec(t, self._pending_spec)
-        elif previous is not None and previous.path == loaded.path:
-            kept = (
-                self.ledger.model.roles()
-            )  # same book, other sheet or header row: keep what matches
-            roles.update({n: r for n, r in kept.items() if n in roles})
+        elif same_book:  # another sheet or heading row: keep what matches
+            roles.update({n: r for n, r in kept_roles.items() if n in roles})
         elif memory.get("sheet") == t.sheet and isinstance(memory.get("roles"), dict):
             for n, r in memory["roles"].items():
                 if n in roles and r in {x.value for x in Role}:
@@ -568,6 +584,8 @@ class MainWindow(QMainWindow):
         elif previous is None or previous.path != loaded.path:
             if isinstance(memory.get("settings"), dict):
                 self.settings_panel.set_values(memory["settings"])
+        else:  # the roles may have changed with the columns: the validation follows them
+            self._follow_validation_roles(self.ledger.model.roles())
         self.store.add_recent(loaded.path)
         self._refresh_recent()
         self.source_strip.setVisible(True)

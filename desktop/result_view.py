@@ -72,6 +72,7 @@ def _table(model: RowsModel) -> QTableView:
     v.horizontalHeader().setStretchLastSection(True)
     v.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
     v.setWordWrap(False)
+    v.setTabKeyNavigation(False)  # Tab leaves the table; arrows move in it
     return v
 
 

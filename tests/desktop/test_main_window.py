@@ -485,7 +485,7 @@ def test_a_time_order_or_group_role_sets_the_validation_that_uses_it(qtbot, stor
     w.ledger.model.set_roles({"response_y": Role.RESPONSE, "x1": Role.TIME_ORDER})
     assert w.settings_panel.values()["scheme"] == "time"
     assert "Time-ordered blocks" in w.last_message.headline
-    assert w.run_action.isEnabled()
+    assert w.run_action.isEnabled(), [p.message for p in w.problems]
     w.settings_panel.set_values({"scheme": "repeated"})
     w.settings_panel.changed.emit()
     assert not w.run_action.isEnabled()
@@ -507,7 +507,7 @@ def test_a_validation_switched_for_a_role_goes_back_when_the_role_goes(qtbot, st
     w.ledger.model.set_roles({"region": Role.CANDIDATE})
     assert w.settings_panel.values()["scheme"] == "kfold"
     assert "set back to 'Shuffled folds'" in w.last_message.headline
-    assert w.run_action.isEnabled()
+    assert w.run_action.isEnabled(), [p.message for p in w.problems]
 
 
 def test_a_change_made_while_a_study_runs_marks_its_findings_outdated(qtbot, store, book):
@@ -535,3 +535,40 @@ def test_a_long_list_of_sheet_notes_says_where_the_rest_are():
     text = _listed_notes(notes, ": in the Check cells")
     assert text.count("• ") == 3 and text.endswith("… and 2 more notes: in the Check cells")
     assert _listed_notes(notes[:2], ": never said") == "• Note 0\n• Note 1"
+
+
+def test_trying_another_heading_row_and_back_keeps_the_roles(qtbot, store, book):
+    # one arrow key over the heading-row box reads the sheet with other headings (other
+    # column names, so default roles); going back brings the roles set for that row again,
+    # and the validation follows the roles each time
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    first = w.book.table.header_row
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE, "region": Role.GROUP})
+    w.ledger.model.set_logged(["x1"])
+    assert w.settings_panel.values()["scheme"] == "grouped"
+    for row in (first + 1, first):
+        w.header_spin.setValue(row)
+        w._reload_with_header()  # what the short typing pause triggers
+        wait_idle(qtbot, w)
+        assert w.book.table.header_row == row
+        if row != first:
+            assert Role.GROUP not in w.ledger.model.roles().values()
+            assert w.settings_panel.values()["scheme"] == "kfold"
+    roles = w.ledger.model.roles()
+    assert roles["response_y"] == Role.RESPONSE and roles["region"] == Role.GROUP
+    assert list(w.ledger.model.logged()) == ["x1"]
+    assert w.settings_panel.values()["scheme"] == "grouped"
+    w.ledger.model.set_logged([])  # x1 has negatives: its Log tick alone would block the run
+    assert w.run_action.isEnabled(), [p.message for p in w.problems]
+
+
+def test_tab_leaves_the_column_list(qtbot, store, book):
+    # keyboard use: Tab moves on from the list of columns (arrow keys move within it)
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    view = w.ledger.view
+    view.setFocus()
+    qtbot.waitUntil(view.hasFocus, timeout=2_000)
+    qtbot.keyClick(view, Qt.Key.Key_Tab)
+    assert not view.hasFocus()

@@ -32,6 +32,7 @@ from PySide6.QtWidgets import (
     QListWidget,
     QListWidgetItem,
     QMainWindow,
+    QMessageBox,
     QProgressBar,
     QPushButton,
     QSpinBox,
@@ -230,7 +231,7 @@ class MainWindow(QMainWindow):
         self.save_action = self._action(
             "Save into workbook",
             "Add the result sheets to the open workbook (its own sheets stay as they are)",
-            self.save_in_place,
+            self.choose_save_in_place,
             QKeySequence(std.Save),
         )
         self.save_as_action = self._action(
@@ -814,6 +815,29 @@ class MainWindow(QMainWindow):
             self.runner.cancel()
 
     # saving -----------------------------------------------------------------------------
+    def _findings_outdated(self) -> bool:
+        return self.result is not None and self.results.outdated_note.isVisibleTo(self)
+
+    def _confirm_outdated_save(self) -> bool:
+        """Saving findings made before later changes to roles or settings is allowed, after
+        saying so: the workbook would not hold what the window now shows as set."""
+        if not self._findings_outdated():
+            return True
+        answer = QMessageBox.question(
+            self,
+            "Save the last run's findings?",
+            "These findings come from the last run, made before your later changes to roles or "
+            "settings. The workbook would hold those findings and the settings they were made "
+            "with.\n\nRun the study again first to save findings for the current settings.",
+            QMessageBox.StandardButton.Save | QMessageBox.StandardButton.Cancel,
+            QMessageBox.StandardButton.Cancel,
+        )
+        return answer == QMessageBox.StandardButton.Save
+
+    def choose_save_in_place(self) -> None:
+        if self._confirm_outdated_save():
+            self.save_in_place()
+
     def save_in_place(self) -> bool:
         if self.result is None or self.runner.busy:
             return False
@@ -824,7 +848,7 @@ class MainWindow(QMainWindow):
         )
 
     def choose_save_as(self) -> None:
-        if self.result is None or self.book is None:
+        if self.result is None or self.book is None or not self._confirm_outdated_save():
             return
         suggestion = self.book.path.with_name(self.book.path.stem + " – Tamis results.xlsx")
         path, _ = QFileDialog.getSaveFileName(
@@ -960,11 +984,17 @@ class MainWindow(QMainWindow):
             )
             self.study_finished.emit()
         elif label == "save":
+            older = (
+                "They are the findings of the last run, made before the later changes to roles "
+                "or settings. "
+                if self._findings_outdated()
+                else ""
+            )
             self._say(
                 UserMessage(
                     "info",
                     f"Results written to {Path(str(value)).name}.",
-                    f"Folder: {Path(str(value)).parent}",
+                    f"{older}Folder: {Path(str(value)).parent}",
                 )
             )
             self.saved.emit(str(value))
@@ -1075,15 +1105,11 @@ class MainWindow(QMainWindow):
             self.pages.setCurrentIndex(PAGE_FINDINGS)
             self.results.show_cautions()
         else:
-            from PySide6.QtWidgets import QMessageBox
-
             from desktop.cautions import cautions_html
 
             QMessageBox.information(self, "Read before use", cautions_html())
 
     def show_about(self) -> None:
-        from PySide6.QtWidgets import QMessageBox
-
         QMessageBox.about(self, "About Tamis", about_html())
 
     def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802

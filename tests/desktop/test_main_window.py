@@ -572,3 +572,35 @@ def test_tab_leaves_the_column_list(qtbot, store, book):
     qtbot.waitUntil(view.hasFocus, timeout=2_000)
     qtbot.keyClick(view, Qt.Key.Key_Tab)
     assert not view.hasFocus()
+
+
+def test_saving_findings_older_than_the_settings_asks_first(qtbot, store, book, monkeypatch):
+    # the workbook would hold the last run's findings, not what the window now shows as set:
+    # the save asks, and the message after it says which findings were written
+    from PySide6.QtWidgets import QMessageBox
+
+    w = window_with_a_study(qtbot, store, book)
+    asked: list[str] = []
+
+    def answer(button):
+        def question(parent, title, text, *args):
+            asked.append(text)
+            return button
+
+        return question
+
+    monkeypatch.setattr(QMessageBox, "question", answer(QMessageBox.StandardButton.Cancel))
+    w.choose_save_in_place()  # current findings: no question
+    wait_idle(qtbot, w)
+    assert not asked
+    w.ledger.model.set_roles({"x1": Role.IGNORE})
+    assert w.results.outdated_note.isVisibleTo(w)
+    before = book.read_bytes()
+    w.choose_save_in_place()
+    assert asked and "before your later changes" in asked[-1]
+    assert not w.runner.busy and book.read_bytes() == before  # cancelled: nothing written
+    monkeypatch.setattr(QMessageBox, "question", answer(QMessageBox.StandardButton.Save))
+    with qtbot.waitSignal(w.saved, timeout=60_000):
+        w.choose_save_in_place()
+    wait_idle(qtbot, w)
+    assert "findings of the last run" in w.last_message.detail

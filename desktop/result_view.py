@@ -38,7 +38,7 @@ from desktop.charts.fit_chart import FitChart
 from desktop.charts.focal_chart import FocalChart
 from desktop.charts.path_chart import AXIS_BUDGET, AXIS_PENALTY, PathChart
 from desktop.charts.share_chart import ShareChart
-from desktop.elided_label import keep_tab_names_whole
+from desktop.elided_label import DistinctNamesDelegate, keep_tab_names_whole
 from desktop.messages import as_sentence, window_words
 from desktop.rows_model import RowsModel, fmt
 from desktop.settings_panel import CHOICE_WORDS, SCHEME_WORDS
@@ -185,13 +185,17 @@ class ResultView(QWidget):
         )
         self.coef_view = _table(self.coef_model)
         # names get the room and lose their middle when short of it ("promotion=...none"
-        # keeps the level); the numbers are always shown whole
+        # keeps the level), or their end where the middle is what tells them apart; the
+        # numbers are always shown whole
         heads = self.coef_view.horizontalHeader()
         heads.setStretchLastSection(False)
         heads.setSectionResizeMode(0, QHeaderView.ResizeMode.Stretch)
         heads.setSectionResizeMode(1, QHeaderView.ResizeMode.ResizeToContents)
         heads.setSectionResizeMode(2, QHeaderView.ResizeMode.ResizeToContents)
         self.coef_view.setTextElideMode(Qt.TextElideMode.ElideMiddle)
+        self.coef_view.setItemDelegateForColumn(
+            0, DistinctNamesDelegate(self.coef_model, 0, self.coef_view)
+        )
         self.coef_view.clicked.connect(
             lambda idx: self.highlight(self.coef_model.rows[idx.row()][0])
         )

@@ -11,7 +11,8 @@ from pathlib import Path
 import numpy as np
 import pyqtgraph as pg
 import pyqtgraph.exporters as pg_exporters
-from PySide6.QtGui import QFont
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QFont, QFontMetrics, QResizeEvent
 from PySide6.QtWidgets import QVBoxLayout, QWidget
 
 from desktop.theme import INK, MUTED
@@ -69,17 +70,49 @@ class PlotPanel(QWidget):
         lay = QVBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
         lay.addWidget(self.plot)
+        self._title = ""
 
     def set_title(self, text: str | None) -> None:
-        """The chart's title, broken into lines of at most TITLE_CHARS characters: a title on
-        one long line widens the plot past its widget and cuts off its right side."""
-        if not text:
+        """The chart's title, broken into lines that fit the widget: a title on one long line
+        widens the plot past its widget and cuts off its right side. Broken again whenever
+        the widget's width changes (a chart is often filled before its tab is first shown)."""
+        self._title = text or ""
+        self._wrap_title()
+
+    def _wrap_title(self) -> None:
+        if not self._title:
             self.item.setTitle(None)
             return
-        # about 8 pixels a character at the title's size; never below TITLE_CHARS
-        chars = max(TITLE_CHARS, int(self.width() / 8) - 6)
-        lines = textwrap.wrap(text, chars) or [text]
-        self.item.setTitle("<br>".join(html.escape(line) for line in lines))
+        # about 8 pixels a character at the title's size, over the plot area only (the left
+        # axis takes its own width, wide with long names); shorter lines while the title still
+        # makes the chart wider than its widget
+        room = self.width() - self._left_axis_width()
+        chars = max(TITLE_CHARS, int(room / 8) - 4)
+        while True:
+            lines = textwrap.wrap(self._title, chars) or [self._title]
+            self.item.setTitle("<br>".join(html.escape(line) for line in lines))
+            needed = self.item.effectiveSizeHint(Qt.SizeHint.MinimumSize).width()
+            if needed <= self.width() or chars <= 20 or not self.isVisible():
+                break
+            chars = int(chars * 0.85)
+        # the plot keeps a width its longer title once forced on it until told again
+        self.item.setGeometry(self.plot.range)
+
+    def _left_axis_width(self) -> int:
+        """The left axis's width, or what its tick names will take once drawn (the axis
+        widens only when painted, after the title has been set)."""
+        axis = self.item.getAxis("left")
+        width = int(axis.width())
+        names = [t for level in getattr(axis, "_tickLevels", None) or [] for _, t in level]
+        if names:
+            fm = QFontMetrics(axis.style.get("tickFont") or axis.font())
+            width = max(width, max(fm.horizontalAdvance(str(t)) for t in names) + 25)
+        return width
+
+    def resizeEvent(self, event: QResizeEvent) -> None:  # noqa: N802 - Qt name
+        super().resizeEvent(event)
+        if self._title:
+            self._wrap_title()
 
 
 def export_plot(widget: pg.PlotWidget, path: Path | str) -> Path:

@@ -10,10 +10,12 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QWidget
 
 from desktop.charts.common import PlotPanel
+from desktop.elided_label import differs_from, shorten_keeping_difference
 from desktop.theme import ACCENT, MUTED, SERIES
 from engine.study_result import StabilityResult
 
 _SHOWN = 25
+_LABEL_CHARS = 24  # a bar's name on the axis, at most
 
 
 class ShareChart(PlotPanel):
@@ -45,7 +47,14 @@ class ShareChart(PlotPanel):
             x0=np.zeros(n), y=ys, height=0.7, width=shares, brushes=brushes, pen=None
         )
         self.item.addItem(bars)
-        self.item.getAxis("left").setTicks([[(float(y), name) for y, (name, _) in zip(ys, ranked)]])
+        # long names would widen the axis past the panel and push the bars out of sight:
+        # shortened where they still differ, whole in the table beside
+        starts = differs_from(self.shown)
+        labels = [
+            shorten_keeping_difference(name, starts[name], lambda s: len(s) <= _LABEL_CHARS)
+            for name in self.shown
+        ]
+        self.item.getAxis("left").setTicks([list(zip(ys.tolist(), labels))])
         self.item.addItem(
             pg.InfiniteLine(
                 pos=stab.threshold,

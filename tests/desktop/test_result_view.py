@@ -283,3 +283,54 @@ def test_a_narrow_view_scrolls_its_tabs_instead_of_cutting_their_names(view, qtb
     assert widths > bar.width()  # too many for the width: the arrows must be there
     arrows = [b for b in bar.findChildren(QToolButton) if b.isVisible()]
     assert len(arrows) == 2 and all(b.width() >= 12 for b in arrows)
+
+
+def test_long_names_that_differ_in_their_middle_stay_told_apart(qtbot):
+    # sensors named alike but for their number: middle elision showed every one as
+    # "sens…name"; the shortened names must differ where the names do
+    from PySide6.QtGui import QFontMetrics
+    from PySide6.QtWidgets import QWidget
+
+    from desktop.elided_label import differs_from, shorten_keeping_difference
+
+    names = [f"sensor_{k:02d}_reading_with_a_long_descriptive_name" for k in (0, 10, 12)]
+    names += ["promotion=none", "promotion=high", "s3"]
+    starts = differs_from(names)
+    assert starts["sensor_10_reading_with_a_long_descriptive_name"] == 8
+    assert starts["promotion=none"] == 10 and starts["s3"] == 1
+    w = QWidget()
+    qtbot.addWidget(w)
+    fm = QFontMetrics(w.font())
+    width = fm.horizontalAdvance("0" * 14)
+    shown = [
+        shorten_keeping_difference(n, starts[n], lambda s: fm.horizontalAdvance(s) <= width)
+        for n in names
+    ]
+    assert len(set(shown)) == len(names), shown
+    assert all(fm.horizontalAdvance(s) <= width for s in shown)
+    assert shown[-1] == "s3"  # what fits stays whole
+    assert shown[3].endswith("none") and shown[4].endswith("high")  # the level kept
+
+
+def test_a_stability_chart_of_long_names_fits_its_panel(qtbot):
+    # long names widened the axis and a one-line title widened the plot past its panel:
+    # the bars at 1.0 and the axis's right end were cut off
+    from desktop.charts.share_chart import ShareChart
+    from engine.study_result import StabilityResult
+
+    chart = ShareChart()
+    qtbot.addWidget(chart)
+    chart.resize(700, 400)
+    chart.show()
+    qtbot.waitExposed(chart)
+    shares = {
+        f"sensor_{k:02d}_reading_with_a_very_long_descriptive_name": k / 60 for k in range(60)
+    }
+    shares["s3"] = 1.0
+    chart.set_stability(StabilityResult(runs=30, shares=shares, threshold=0.6, stable=["s3"]))
+    qtbot.wait(50)
+    assert chart.item.sceneBoundingRect().width() <= chart.width() + 1
+    ticks = [t for level in chart.item.getAxis("left")._tickLevels for _, t in level]
+    assert ticks and max(len(t) for t in ticks) <= 24 and len(set(ticks)) == len(ticks)
+    x0, x1 = chart.item.vb.viewRange()[0]
+    assert x0 <= 0 and x1 >= 1.0

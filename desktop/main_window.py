@@ -170,7 +170,9 @@ class MainWindow(QMainWindow):
         # roles, logs and interactions as last set for each (sheet, heading row) of the open
         # book: another heading row names the columns differently, and going back to one
         # tried before brings its roles back rather than the defaults
-        self._layouts: dict[tuple[str, int], tuple[dict, list, list]] = {}
+        self._layouts: dict[
+            tuple[str, int], tuple[dict[str, Role], tuple[str, ...], tuple[tuple[str, str], ...]]
+        ] = {}
         # the saved study being shown again, to say whether the re-run reproduces it
         self._rerun_record: Any = None
         # set by `tamis demo`: re-run a saved analysis as soon as its workbook is open

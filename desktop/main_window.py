@@ -976,11 +976,22 @@ class MainWindow(QMainWindow):
                 if to_check
                 else ""
             )
+            fitted = {m.method for m in result.models}
+            missed = [method_info(m).title for m in result.spec.methods if m not in fitted]
+            skipped = (
+                f"Not fitted: {', '.join(missed)} (the reason is under 'Read before use'). "
+                if missed
+                else ""
+            )
             self._say(
                 UserMessage(
                     "info",
                     f"Study finished in {secs:.1f} s.",
-                    audit + check + drag + "Read the cautions before acting on the result.",
+                    audit
+                    + skipped
+                    + check
+                    + drag
+                    + "Read the cautions before acting on the result.",
                 ),
                 ("Read before use", self.show_cautions),
             )

@@ -504,7 +504,7 @@ class ResultView(QWidget):
         dropped = f", {d.rows_dropped} left out" if d.rows_dropped else ""
         if result.test_rows is not None:
             dropped += f", {len(result.test_rows)} held back as a final test"
-        took = f" in {result.seconds:.1f} s" if result.seconds else ""
+        took = f" · fitted in {result.seconds:.1f} s" if result.seconds else ""
         self.summary.setText(
             f"{d.response_label} explained by {d.n_cols} model columns · {d.n_rows} rows used{dropped}{took}"
         )
@@ -540,7 +540,8 @@ class ResultView(QWidget):
                 for n in m.notes
                 if not any(w.endswith(n) for w in notes)
             ]
-        self.cautions.setHtml(cautions_html(list(dict.fromkeys(notes))))
+        # in the window's words: options of the command line named as the window's settings
+        self.cautions.setHtml(cautions_html(list(dict.fromkeys(map(window_words, notes)))))
         self._on_method()
 
     def _draw_visible_tab(self, *_: object) -> None:

@@ -337,7 +337,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
     drop(~np.isfinite(y_all), f"response '{response.name}' missing")
     for note in response.notes:  # words in the response's cells cost their rows: say which
         if _unread_cells(note):
-            warning = f"response '{response.name}': {note}; their rows were left out"
+            warning = f"response '{response.name}': {note}; {_rows_left_out(note)}"
             if "'<" in note or "'>" in note:
                 warning += (
                     ". Values beyond a detection limit left out bias the fit towards the "
@@ -376,11 +376,7 @@ def build_design(table: Table, spec: StudySpec) -> Design:
         for note in c.notes:
             # (a note intake already repeats among the sheet's warnings is not said twice)
             if _unread_cells(note) and not worth_a_warning(note):
-                then = (
-                    "filled like blank cells"
-                    if spec.missing == "fill"
-                    else "their rows were left out"
-                )
+                then = "filled like blank cells" if spec.missing == "fill" else _rows_left_out(note)
                 warnings.append(f"candidate '{c.name}': {note}; {then}")
 
     for c in [response, *usable] if logged else []:
@@ -726,6 +722,11 @@ def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:
             "change by a factor of e (2.718...)"
         )
     return "; ".join(said)
+
+
+def _rows_left_out(note: str) -> str:
+    """What became of the rows of the cells a note names ("1 cell ...": one row)."""
+    return "its row was left out" if note.startswith("1 ") else "their rows were left out"
 
 
 def _unread_cells(note: str) -> bool:

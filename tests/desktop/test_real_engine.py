@@ -278,3 +278,18 @@ def test_saving_or_predicting_over_a_users_workbook_is_refused(qtbot, store, boo
         assert w.save_as(ours)  # an earlier output of Tamis may be replaced
     wait_idle(qtbot, w)
     assert w.last_message.tone == "info", w.last_message
+
+
+def test_a_method_that_could_not_be_fitted_is_named_when_the_study_finishes(qtbot, store):
+    # least squares has no unique fit with more model columns than rows (common practice):
+    # the engine leaves it out with a warning, and the finish message names it
+    table = simulated_table(n=30, p=40, seed=5)
+    w = make_window(qtbot, store, TableCalls(table))
+    open_and_wait(qtbot, w, "wide.xlsx")
+    w.ledger.model.set_roles({"response_y": Role.RESPONSE})
+    w.settings_panel.set_values({"methods": ["lasso", "ols"], "folds": 5})
+    with qtbot.waitSignal(w.study_finished, timeout=120_000):
+        assert w.run_study()
+    wait_idle(qtbot, w)
+    assert [m.method for m in w.result.models] == ["lasso"]
+    assert "Not fitted: Least squares" in w.last_message.detail, w.last_message

@@ -296,7 +296,7 @@ def test_words_in_the_response_name_their_cells_and_warn_about_detection_limits(
     assert 0.25 in design.y
     assert any("below a detection limit (e.g. row 5, column 3 '<0.5')" in w for w in table.warnings)
     said = [w for w in design.warnings if w.startswith("response 'lead'")]
-    assert any("'n/a'" in w and "their rows were left out" in w for w in said)
+    assert any("'n/a'" in w and "its row was left out" in w for w in said)
     assert any("'n.d.'" in w and "biases the fit" in w for w in said)
 
 
@@ -468,7 +468,7 @@ def test_a_python_user_may_pass_a_path_a_list_or_one_name():
 
 
 @pytest.mark.parametrize(
-    ("missing", "then"), [("drop", "their rows were left out"), ("fill", "filled like blank cells")]
+    ("missing", "then"), [("drop", "its row was left out"), ("fill", "filled like blank cells")]
 )
 def test_words_in_a_candidate_name_their_cells_like_the_response(tmp_path, missing, then):
     from engine.intake import read_table

@@ -856,6 +856,8 @@ def drop_reasons_text(reasons: dict[str, int], limit: int = 3) -> str:
     rest = ranked[limit:]
     if rest:
         shown.append(f"and {len(rest)} more reasons ({_rows(sum(c for _, c in rest))})")
+    if len(ranked) > 1:  # the counts add up to the rows left out, not to the missing cells
+        shown.append("each row counted once, under the first column it lacks")
     return "; ".join(shown) or "none"
 
 

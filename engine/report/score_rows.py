@@ -11,6 +11,7 @@ from __future__ import annotations
 
 __all__ = ["ScoreOutcome", "score_rows", "default_out"]
 
+import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -170,4 +171,13 @@ def _range_note(model) -> str:
             f"each prediction has a 95% range from EXP(its ln-scale value - {h:.4g}) to "
             f"EXP(its ln-scale value + {h:.4g}), from the cross-validated error"
         )
-    return f"each prediction has a 95% range of ± {h:.4g}, from the cross-validated error"
+    return f"each prediction has a 95% range of ± {_four_digits(h)}, from the cross-validated error"
+
+
+def _four_digits(x: float) -> str:
+    """Four significant digits without an exponent where a reader expects none (16602 rather
+    than 1.66e+04, as the scoring sheet shows it)."""
+    if not 1e-4 <= abs(x) < 1e9:
+        return f"{x:.4g}"
+    decimals = max(0, 3 - math.floor(math.log10(abs(x))))
+    return f"{x:.{decimals}f}"

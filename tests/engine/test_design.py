@@ -273,7 +273,10 @@ def test_why_rows_were_left_out_reads_largest_first_and_stays_short():
     reasons["response 'y' missing"] = 1
     text = drop_reasons_text(reasons)
     assert text.startswith("missing in candidate 'a2': 3 rows; missing in candidate 'a5': 3 rows")
-    assert text.endswith(f"and 28 more reasons ({sum(reasons.values()) - 9} rows)")
+    assert text.endswith(
+        f"and 28 more reasons ({sum(reasons.values()) - 9} rows); "
+        "each row counted once, under the first column it lacks"
+    )
     assert drop_reasons_text({"response 'y' missing": 1}) == "response 'y' missing: 1 row"
     assert drop_reasons_text({}) == "none"
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 import json
+import re
 from pathlib import Path
 from types import SimpleNamespace
 
@@ -56,7 +57,8 @@ def test_score_writes_predictions_beside_the_book(setup):
     # each prediction with its 95% range: -+ 1.96 x the root of the stored cross-validated error
     model = load_scoring_model(results)
     h = 1.959963984540054 * np.sqrt(model.cv_error)
-    assert f"95% range of ± {h:.4g}" in ctx.stdout.getvalue()
+    said = re.search(r"95% range of ± ([0-9.]+),", ctx.stdout.getvalue())
+    assert said and float(said.group(1)) == pytest.approx(h, rel=5e-4)
     low = np.array([r[k + 1] for r in rows], dtype=float)
     high = np.array([r[k + 2] for r in rows], dtype=float)
     assert head[k + 1 : k + 3] == ("Low end (95% range)", "High end (95% range)")
@@ -359,3 +361,11 @@ def test_new_rows_without_the_units_row_and_missing_columns_named_at_once(tmp_pa
     other.save(wrong)
     with pytest.raises(InputProblem, match=r"needs 2 columns .*'temp \(°C\)', 'press \(kPa\)'"):
         model.predict(read_table(wrong))
+
+
+def test_a_range_is_said_with_four_digits_and_no_exponent():
+    from engine.report.score_rows import _four_digits
+
+    assert _four_digits(16601.98994358) == "16602"
+    assert _four_digits(3.0234) == "3.023" and _four_digits(0.0123456) == "0.01235"
+    assert _four_digits(2.5e-6) == "2.5e-06"  # tiny: the exponent is the clearer way

@@ -221,10 +221,15 @@ class ScoringModel:
     def typical_size(self) -> float:
         """How large a prediction typically is, in the response's units: the prediction at the
         columns' means, or the cross-validated error where that is larger (a response centred
-        near 0). It sets how many decimals predictions are shown with."""
-        centre = math.exp(self.centre) * self.smearing if self.response_log else self.centre
+        near 0). For a logged response, whose predictions span factors, the low end of the
+        95% range at the centre, so small predictions keep their digits too. It sets how many
+        decimals predictions are shown with."""
+        if self.response_log:
+            h = self.range_halfwidth or 0.0
+            return math.exp(self.centre - h) if math.isfinite(self.centre) else 0.0
+        centre = self.centre
         size = abs(centre) if math.isfinite(centre) else 0.0
-        if not self.response_log and self.cv_error is not None and math.isfinite(self.cv_error):
+        if self.cv_error is not None and math.isfinite(self.cv_error):
             size = max(size, math.sqrt(max(self.cv_error, 0.0)))
         return size
 

@@ -253,5 +253,7 @@ def test_typical_size_of_a_prediction():
     assert model(1506.66, 25.0).typical_size == pytest.approx(1506.66)
     # a response centred near 0: the error's size sets the decimals, not the tiny centre
     assert model(0.0001, 2500.0).typical_size == pytest.approx(50.0)
-    # ln scale: the centre back in the response's units
-    assert model(2.0, 0.04, smearing=1.02).typical_size == pytest.approx(np.exp(2.0) * 1.02)
+    # ln scale: the low end of the 95% range at the centre, in the response's units, so a
+    # response spanning factors keeps the digits of its smaller predictions
+    h = 1.959963984540054 * 0.2
+    assert model(2.0, 0.04, smearing=1.02).typical_size == pytest.approx(np.exp(2.0 - h))

@@ -114,8 +114,12 @@ def classify_column(
     day_first: bool = False,
     from_text_file: bool = False,
     serial_dates: bool = True,
+    fitted_range: tuple[float, float] | None = None,
 ) -> Column:
-    """Classify `cells` (object array, one per data row; "" empty) into a typed Column."""
+    """Classify `cells` (object array, one per data row; "" empty) into a typed Column.
+
+    ``fitted_range``: new rows read for a fitted model: the column's range in the fitted rows,
+    which sets the scale of numbers written with a percent sign (see _one_percent_scale)."""
     n = len(cells)
     if cells.dtype != object:  # the caller's block path: plain floats, nothing missing
         return _number_column(
@@ -166,6 +170,7 @@ def classify_column(
         day_first,
         from_text_file,
         serial_dates,
+        fitted_range,
     )
 
 
@@ -317,13 +322,18 @@ def worth_a_warning(note: str) -> bool:
     return finding_of(note) in WORTH_A_WARNING
 
 
-def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
+def _one_percent_scale(numbers, codes, shown, keep, cell_at, fitted=None) -> str:
     """Numbers typed with a percent sign ("28.6%", read as 0.286) beside numbers typed without
     one on the percentage scale (12.5): put them all on one scale, that of the more numerous
     kind, in place in ``numbers``, and say so ("" when the column is on one scale already).
 
     Both kinds must look like one quantity: the plain numbers mostly above 1 and the numbers
     written before the signs within a factor of ten of them (medians).
+
+    ``fitted``: the (lowest, highest) value of this column in the rows a model was fitted on,
+    when new rows are read for it. The scale is then the one that puts more of the values in
+    that range, so a cell reads the same whatever the other new rows hold ("50%" and a plain
+    0.34 both on the fitted 0-1 scale), also when every number carries the sign.
     """
     marked = np.array(
         [
@@ -333,6 +343,8 @@ def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
         dtype=bool,
     )
     plain = keep & ~marked & (codes != _TEXT_LIMIT)
+    if fitted is not None and marked.any():
+        return _percent_scale_of_fit(numbers, marked, plain, shown, cell_at, fitted)
     if not marked.any() or not plain.any():
         return ""
     plain_values = np.abs(numbers[plain])
@@ -365,6 +377,36 @@ def _one_percent_scale(numbers, codes, shown, keep, cell_at) -> str:
         f"percentages written two ways: {n_marked} with a percent sign (e.g. {example}), "
         f"{n_plain} without (e.g. {other}); to put them on one scale {done}. Check the "
         "column and write it one way"
+    )
+
+
+def _percent_scale_of_fit(numbers, marked, plain, shown, cell_at, fitted) -> str:
+    """New rows for a fitted model: numbers with a percent sign and plain ones put on the
+    scale of the fitted column (see _one_percent_scale), in place in ``numbers``."""
+    lo, hi = fitted
+    inside = (numbers >= lo) & (numbers <= hi)
+    as_fractions = int(
+        np.sum(inside & marked) + np.sum(((numbers / 100 >= lo) & (numbers / 100 <= hi)) & plain)
+    )
+    as_percents = int(
+        np.sum(((numbers * 100 >= lo) & (numbers * 100 <= hi)) & marked) + np.sum(inside & plain)
+    )
+    first = int(np.flatnonzero(marked)[0])
+    example = f"{cell_at(first)} '{shown[first]}'"
+    if as_percents > as_fractions:
+        numbers[marked] = np.round(numbers[marked] * 100.0, 10)
+        done = "numbers written with a percent sign are read as the number before it"
+    elif (
+        plain.any() and np.mean(np.abs(numbers[plain]) > 1.0) >= 0.8 and as_fractions > as_percents
+    ):
+        numbers[plain] /= 100.0
+        done = "plain numbers are read as percentages, like those with the sign"
+    else:
+        return ""  # the plain reading already fits the model's scale
+    return (
+        f"read on the scale the model was fitted on ({format_plain(lo)} to "
+        f"{format_plain(hi)}): {done} (e.g. {example} as "
+        f"{format_plain(float(numbers[first]))})"
     )
 
 
@@ -450,6 +492,7 @@ def _classify_mixed(
     day_first: bool,
     from_text_file: bool,
     serial_dates: bool = True,
+    fitted_range: tuple[float, float] | None = None,
 ) -> Column:
     m = present_idx.size
     present = cells[present_idx].tolist()
@@ -593,7 +636,7 @@ def _classify_mixed(
         elif len(units) > 1 and counts[_TEXT_UNIT]:
             notes.append(_several_units_note(units))
         if any(u.rstrip().endswith("%") for u in unique):
-            scale_note = _one_percent_scale(numbers, codes, shown, keep, cell_at)
+            scale_note = _one_percent_scale(numbers, codes, shown, keep, cell_at, fitted_range)
             if scale_note:
                 notes.append(ColumnNote(scale_note, Finding.PERCENT_SCALES))
         limits = np.flatnonzero(codes == _TEXT_LIMIT)

@@ -8,6 +8,7 @@ from __future__ import annotations
 __all__ = ["list_sheets", "read_table"]
 
 from collections import Counter
+from collections.abc import Mapping
 from itertools import chain
 from pathlib import Path
 
@@ -91,12 +92,15 @@ def read_table(
     sheet: str | None = None,
     header_row: int | None = None,
     progress: Progress | None = None,
+    fitted_ranges: Mapping[str, tuple[float, float]] | None = None,
 ) -> Table:
     """Read one sheet as typed columns with a report (see engine.intake.table).
 
     `sheet` None takes the first visible sheet; `header_row` (1-based sheet row) None detects
     the heading row. Raises InputProblem naming the file, sheet, row or cell when the input
-    cannot be used.
+    cannot be used. `fitted_ranges`: when new rows are read for a fitted model, each number
+    column's (lowest, highest) value in the fitted rows, by column name: percentages are then
+    read on the model's scale (see classify_column).
     """
     path = Path(path)
     progress = progress or silent()
@@ -128,7 +132,7 @@ def read_table(
             rows = read_grid(book, name, path)
             if sheet is None and header_row is None:
                 # a cover page or notes first: the first sheet after it that holds a table
-                return _first_table(path, fmt, book, infos, name, rows, progress)
+                return _first_table(path, fmt, book, infos, name, rows, progress, fitted_ranges)
         finally:
             book.close()
         decimal, day_first = ".", False
@@ -147,6 +151,7 @@ def read_table(
         facts_source,
         progress,
         field_counts=field_counts,
+        fitted_ranges=fitted_ranges,
     )
     if fmt == "csv":
         shown = {"\t": "tab", ",": "comma", ";": "semicolon", "|": "vertical bar"}
@@ -164,14 +169,17 @@ _TABLE_COLUMNS = 2
 _TABLE_ROWS = 3
 
 
-def _first_table(path, fmt, book, infos, name, rows, progress) -> Table:
+def _first_table(path, fmt, book, infos, name, rows, progress, fitted_ranges=None) -> Table:
     """The first visible sheet ``name`` (its cells ``rows``) read as a table; when it holds
     none (a cover page, notes), the first visible sheet after it that does, with a warning
     saying so. When no sheet does, the first one's table or its own problem."""
     problem: InputProblem | None = None
     first: Table | None = None
     try:
-        first = _build_table(path, fmt, name, infos, rows, None, ".", False, fmt, progress)
+        first = _build_table(
+            path, fmt, name, infos, rows, None, ".", False, fmt, progress,
+            fitted_ranges=fitted_ranges,
+        )  # fmt: skip
     except InputProblem as exc:
         problem = exc
     visible = [s.name for s in infos if not s.hidden]
@@ -180,7 +188,10 @@ def _first_table(path, fmt, book, infos, name, rows, progress) -> Table:
     for other in visible[1:]:
         try:
             grid = read_grid(book, other, path)
-            table = _build_table(path, fmt, other, infos, grid, None, ".", False, fmt, silent())
+            table = _build_table(
+                path, fmt, other, infos, grid, None, ".", False, fmt, silent(),
+                fitted_ranges=fitted_ranges,
+            )  # fmt: skip
         except InputProblem:
             continue
         if _holds_table(table):
@@ -217,6 +228,7 @@ def _build_table(
     facts_source: str | None,
     progress: Progress,
     field_counts: list[int] | None = None,
+    fitted_ranges: Mapping[str, tuple[float, float]] | None = None,
 ) -> Table:
     place = Place(file=str(path), sheet=sheet)
     where = place.describe()
@@ -370,6 +382,7 @@ def _build_table(
             day_first=day_first,
             from_text_file=fmt == "csv",
             serial_dates=serial_dates,
+            fitted_range=(fitted_ranges or {}).get(name),
         )
         if col.kind is ColumnKind.NUMBER and screened(col.notes):
             far = far_values(col.values)

@@ -124,7 +124,12 @@ def score_rows(
             Place(file=str(target)),
         )
     progress.step(0.0, "reading the new rows")
-    table = read_table(book, sheet=sheet, progress=progress.part(0.0, 0.5, "reading the new rows"))
+    table = read_table(
+        book,
+        sheet=sheet,
+        progress=progress.part(0.0, 0.5, "reading the new rows"),
+        fitted_ranges=model.fitted_ranges(),
+    )
     progress.step(0.5, "predicting")
     preds, low, high, notes = model.predict_with_range(table)
     cautions = model.range_cautions(table)

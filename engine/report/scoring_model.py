@@ -233,6 +233,18 @@ class ScoringModel:
             size = max(size, math.sqrt(max(self.cv_error, 0.0)))
         return size
 
+    def fitted_ranges(self) -> dict[str, tuple[float, float]]:
+        """(lowest, highest) value of each number column in the rows fitted, by source column
+        (intake reads new rows' percentages on that scale)."""
+        out: dict[str, tuple[float, float]] = {}
+        if self.lows is None or self.highs is None:
+            return out
+        for j, enc in enumerate(self.encodings):
+            lo, hi = float(self.lows[j]), float(self.highs[j])
+            if enc.kind == "number" and math.isfinite(lo) and math.isfinite(hi):
+                out.setdefault(enc.source, (lo, hi))
+        return out
+
     @property
     def sources(self) -> list[str]:
         """Source columns the prediction needs, in order of first use."""

@@ -778,3 +778,26 @@ def test_a_plain_number_among_dates_of_a_1904_workbook_is_not_guessed(tmp_path):
     day = read_table(path).column("day")
     assert np.isnat(day.values[3]) and str(day.values[0])[:10] == "2024-05-01"
     assert any("not a date treated as missing: A5 '45446'" in n for n in day.notes)
+
+
+@pytest.mark.parametrize(
+    ("cells", "fitted", "as_batch", "for_the_model"),
+    [
+        # a model fitted on shares (0.1 to 0.89): "50%" is 0.5 whatever the other new rows hold
+        ([50, "50%"], (0.1, 0.89), [50.0, 50.0], [0.5, 0.5]),
+        (["50%"], (0.1, 0.89), [0.5], [0.5]),
+        # a model fitted on percentage points (10 to 89): "50%" is 50, also alone
+        (["50%"], (10.0, 89.0), [0.5], [50.0]),
+        ([50, "50%"], (10.0, 89.0), [50.0, 50.0], [50.0, 50.0]),
+    ],
+)
+def test_new_rows_read_percentages_on_the_scale_the_model_was_fitted_on(
+    tmp_path, cells, fitted, as_batch, for_the_model
+):
+    # common practice: a percent sign divides by 100; new rows are too few to tell a column's
+    # habit, so the fitted column's range decides, and one cell reads the same in any batch
+    path = _saved_sheet(tmp_path, "New", [["pct", "x"], *[[c, i] for i, c in enumerate(cells)]])
+    alone = read_table(path).column("pct").values
+    np.testing.assert_allclose(alone, as_batch)
+    model_scale = read_table(path, fitted_ranges={"pct": fitted}).column("pct").values
+    np.testing.assert_allclose(model_scale, for_the_model)

@@ -369,3 +369,39 @@ def test_a_range_is_said_with_four_digits_and_no_exponent():
     assert _four_digits(16601.98994358) == "16602"
     assert _four_digits(3.0234) == "3.023" and _four_digits(0.0123456) == "0.01235"
     assert _four_digits(2.5e-6) == "2.5e-06"  # tiny: the exponent is the clearer way
+
+
+def test_a_percentage_in_new_rows_reads_the_same_in_any_batch(tmp_path):
+    # the fitted column holds shares (0.1 to 0.9, a few typed "76%"): "50%" among new rows is
+    # 0.5 and predicts alike alone or beside a plain 50 (which reads as 50 percent there)
+    from engine.report.score_rows import score_rows
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(4)
+    fit = openpyxl.Workbook()
+    fit.active.append(["y", "pct"])
+    for i in range(40):
+        share = round(float(rng.uniform(0.1, 0.9)), 2)
+        fit.active.append(
+            [3 + 4 * share + float(rng.normal(0, 0.1)), f"{share:.0%}" if i % 5 == 0 else share]
+        )
+    fit.save(tmp_path / "fit.xlsx")
+    res = run_study(
+        StudySpec(source=str(tmp_path / "fit.xlsx"), response="y", methods=("ols",), folds=4)
+    )
+    model = ScoringModel.from_result(res)
+    predictions = []
+    for k, cells in enumerate((["50%"], [50, "50%"])):
+        new = openpyxl.Workbook()
+        new.active.append(["pct"])
+        for c in cells:
+            new.active.append([c])
+        new.save(tmp_path / f"new{k}.xlsx")
+        done = score_rows(tmp_path / f"new{k}.xlsx", model, out=tmp_path / f"scored{k}.xlsx")
+        sheet = openpyxl.load_workbook(done.out)["TM Predictions"]
+        predictions.append([r[2] for r in sheet.iter_rows(min_row=5, values_only=True) if r[0]])
+    assert predictions[0][0] == pytest.approx(predictions[1][1])
+    assert predictions[1][0] == pytest.approx(predictions[1][1])
+    m = res.models[0]
+    assert predictions[0][0] == pytest.approx(m.intercept + m.coefficients["pct"] * 0.5)

@@ -64,6 +64,7 @@ from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
+from engine.errors import SourceChanged
 from engine.intake.workbook import SUPPORTED_SUFFIXES
 from engine.methods import method_info
 from engine.report.reproduce import differences
@@ -1042,6 +1043,8 @@ class MainWindow(QMainWindow):
         )
         # a column named by a failure in another workbook (the new rows) is not the open one's
         self._show_failure(msg, mark_column=label != "predict")
+        if isinstance(exc, SourceChanged) and self.result is not None:
+            self.results.set_outdated(True)  # the file on disk is no longer what they came from
 
     def _on_task_finished(self, label: str) -> None:
         if label == "run" and self.readiness.text() == _RUNNING:

@@ -11,7 +11,7 @@ __all__ = ["UserMessage", "as_sentence", "describe_failure", "window_words"]
 import re
 from dataclasses import dataclass
 
-from engine.errors import Cancelled, InputProblem, TamisError, WriteProblem
+from engine.errors import Cancelled, InputProblem, SourceChanged, TamisError, WriteProblem
 
 
 @dataclass(frozen=True)
@@ -35,6 +35,13 @@ def describe_failure(exc: BaseException, doing: str = "the run") -> UserMessage:
             as_sentence(window_words(exc.message)),
             f"Where: {where}." if where else "",
             exc.place.column,
+        )
+    if isinstance(exc, SourceChanged):  # closing other programs would not help here
+        return UserMessage(
+            "problem",
+            as_sentence(exc.message),
+            "The workbook was left as it was. Open it again so the study reads what it holds "
+            "now, then run the study and save.",
         )
     if isinstance(exc, WriteProblem):
         return UserMessage(

@@ -68,6 +68,11 @@ class WriteProblem(TamisError):
     exit_code = 2
 
 
+class SourceChanged(WriteProblem):
+    """The workbook changed on disk after the study read it: writing into it now would mix
+    the new file with findings from the old one, so nothing was written."""
+
+
 class Cancelled(TamisError):
     """The user cancelled the run; nothing was written."""
 

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import BinaryIO
 
-from engine.errors import InputProblem, Place, WriteProblem
+from engine.errors import InputProblem, Place, SourceChanged, WriteProblem
 
 STEPS = ("written", "verified-temp", "backup", "replaced", "verified", "cleaned")
 
@@ -237,7 +237,7 @@ def _mode_for(target: Path) -> int:
 
 
 def _changed(target: Path) -> WriteProblem:
-    return WriteProblem(
+    return SourceChanged(
         f"'{target}' changed on disk since it was read; nothing was written. Run the "
         "study again on the current file",
         Place(file=str(target)),

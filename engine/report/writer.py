@@ -23,7 +23,7 @@ import tempfile
 import zipfile
 from pathlib import Path
 
-from engine.errors import InputProblem, Place, WriteProblem
+from engine.errors import InputProblem, Place, SourceChanged, WriteProblem
 from engine.progress import Progress, silent
 from engine.report import names
 from engine.report.build_sheets import build_our_sheets
@@ -91,7 +91,7 @@ def write_results(
         target = source
         expected = _expected_fingerprint(result, source)
         if getattr(result, "source_fingerprint", None) and fingerprint(source) != expected:
-            raise WriteProblem(
+            raise SourceChanged(
                 f"'{source}' changed on disk since it was read; nothing was written. "
                 "Run the study again on the current file",
                 Place(file=str(source)),

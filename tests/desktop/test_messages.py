@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from desktop.messages import describe_failure
-from engine.errors import Cancelled, InputProblem, Place, WriteProblem
+from engine.errors import Cancelled, InputProblem, Place, SourceChanged, WriteProblem
 
 
 def test_input_problem_keeps_the_column_and_says_where():
@@ -23,6 +23,13 @@ def test_cancel_is_not_an_error():
 def test_write_problem_says_the_file_is_untouched():
     msg = describe_failure(WriteProblem("the workbook is locked"), "saving")
     assert "left as it was" in msg.detail
+
+
+def test_a_workbook_changed_since_it_was_read_asks_to_open_it_again():
+    # closing other programs would not help: the study must read the file as it is now
+    msg = describe_failure(SourceChanged("'a.xlsx' changed on disk since it was read"), "saving")
+    assert "left as it was" in msg.detail and "Open it again" in msg.detail
+    assert "Close it in other programs" not in msg.detail
 
 
 def test_unexpected_failure_names_the_type_and_where_the_details_went(tmp_path):

@@ -15,7 +15,7 @@ import pytest
 from rich_workbook import write_rich
 from study_fixture import make_result
 
-from engine.errors import WriteProblem
+from engine.errors import SourceChanged, WriteProblem
 from engine.report import fingerprint, safe_write, write_results
 from engine.report.writer import verify_results_file
 
@@ -96,7 +96,7 @@ def test_file_changed_since_read_is_refused(tmp_path):
     result.source_fingerprint = fingerprint(book)
     write_rich(book, rows)  # someone saved the workbook after the study read it
     changed = book.read_bytes()
-    with pytest.raises(WriteProblem) as err:
+    with pytest.raises(SourceChanged) as err:
         write_results(result, in_place=True)
     assert "changed on disk" in err.value.message
     assert book.read_bytes() == changed

@@ -504,7 +504,7 @@ class ResultView(QWidget):
         dropped = f", {d.rows_dropped} left out" if d.rows_dropped else ""
         if result.test_rows is not None:
             dropped += f", {len(result.test_rows)} held back as a final test"
-        took = f" · fitted in {result.seconds:.1f} s" if result.seconds else ""
+        took = f" · fitted\u00a0in\u00a0{result.seconds:.1f}\u00a0s" if result.seconds else ""
         self.summary.setText(
             f"{d.response_label} explained by {d.n_cols} model columns · {d.n_rows} rows used{dropped}{took}"
         )

@@ -110,9 +110,16 @@ class PathChart(QWidget):
         self.hovered_name = ""
         path = self.path
         if path is None or len(path) == 0:
+            # no axes either: empty axes keeping the last method's ranges read as a chart
             self.item.setTitle("No penalty path for this method")
+            self.item.hideAxis("bottom")
+            self.item.hideAxis("left")
+            self.item.showGrid(x=False, y=False)
             return
         self.item.setTitle(None)
+        self.item.showAxis("bottom")
+        self.item.showAxis("left")
+        self.item.showGrid(x=True, y=True, alpha=0.15)
         if self.mode == AXIS_PENALTY:
             self._x = log10_positive(path.penalties)
             self._log_axis.log_labels = True

@@ -334,3 +334,14 @@ def test_a_stability_chart_of_long_names_fits_its_panel(qtbot):
     assert ticks and max(len(t) for t in ticks) <= 24 and len(set(ticks)) == len(ticks)
     x0, x1 = chart.item.vb.viewRange()[0]
     assert x0 <= 0 and x1 >= 1.0
+
+
+def test_a_method_without_a_path_shows_no_axes(view):
+    # empty axes keeping the lasso's ranges read as a chart of the stepwise method
+    box = view.method_box
+    box.setCurrentIndex(box.findData("forward-stepwise"))
+    item = view.path_chart.item
+    assert not item.getAxis("bottom").isVisible() and not item.getAxis("left").isVisible()
+    assert not view.back_button.isEnabled() and not view.path_export.isEnabled()
+    box.setCurrentIndex(box.findData("lasso"))
+    assert item.getAxis("bottom").isVisible() and item.getAxis("left").isVisible()

@@ -117,7 +117,11 @@ def shorten_keeping_difference(text: str, start: int, fits: Callable[[str], bool
     if start < head or start >= len(text) - tail:
         return middle
     lead = text[: min(4, start)] + "…"
-    return lead + _cut_end(text[max(start - 1, 0) :], lambda rest: fits(lead + rest))
+    if not fits(lead + text[start] + "…"):
+        return middle  # too narrow to show the difference at all
+    # one letter of what comes before the difference, unless the lead shows it already
+    rest = text[start - 1 :] if start > 4 else text[start:]
+    return lead + _cut_end(rest, lambda shown: fits(lead + shown))
 
 
 class DistinctNamesDelegate(QStyledItemDelegate):

@@ -64,7 +64,6 @@ from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
-from engine.errors import SourceChanged
 from engine.intake.workbook import SUPPORTED_SUFFIXES
 from engine.methods import method_info
 from engine.report.reproduce import differences
@@ -819,7 +818,7 @@ class MainWindow(QMainWindow):
 
     # saving -----------------------------------------------------------------------------
     def _findings_outdated(self) -> bool:
-        return self.result is not None and self.results.outdated_note.isVisibleTo(self)
+        return self.result is not None and self.results.outdated
 
     def _confirm_outdated_save(self) -> bool:
         """Saving findings made before later changes to roles or settings is allowed, after
@@ -1043,8 +1042,6 @@ class MainWindow(QMainWindow):
         )
         # a column named by a failure in another workbook (the new rows) is not the open one's
         self._show_failure(msg, mark_column=label != "predict")
-        if isinstance(exc, SourceChanged) and self.result is not None:
-            self.results.set_outdated(True)  # the file on disk is no longer what they came from
 
     def _on_task_finished(self, label: str) -> None:
         if label == "run" and self.readiness.text() == _RUNNING:

@@ -108,6 +108,9 @@ class ResultView(QWidget):
         )
         self.outdated_note.setWordWrap(True)
         self.outdated_note.hide()
+        # whether the findings shown predate later changes (the note's visibility says so
+        # only while this page is the one shown)
+        self.outdated = False
         self.method_box = QComboBox()
         self.method_box.setToolTip("The method whose path and validation curve are drawn.")
         self.method_box.currentIndexChanged.connect(self._on_method)
@@ -477,7 +480,7 @@ class ResultView(QWidget):
         self.result = None
         self.current = None
         self.summary.setText("Run a study to see its findings here.")
-        self.outdated_note.hide()
+        self.set_outdated(False)
         self.method_box.blockSignals(True)
         self.method_box.clear()
         self.method_box.blockSignals(False)
@@ -496,7 +499,8 @@ class ResultView(QWidget):
 
     def set_outdated(self, outdated: bool) -> None:
         """Say under the heading that roles or settings changed since this result was made."""
-        self.outdated_note.setVisible(outdated and self.result is not None)
+        self.outdated = outdated and self.result is not None
+        self.outdated_note.setVisible(self.outdated)
 
     def show_result(self, result: StudyResult) -> None:
         self.result = result
@@ -508,7 +512,7 @@ class ResultView(QWidget):
         self.summary.setText(
             f"{d.response_label} explained by {d.n_cols} model columns · {d.n_rows} rows used{dropped}{took}"
         )
-        self.outdated_note.hide()
+        self.set_outdated(False)
         self.method_box.blockSignals(True)
         self.method_box.clear()
         for m in result.models:

@@ -725,8 +725,9 @@ def _log_note(response: str, response_log: bool, candidates: list[str]) -> str:
 
 
 def _rows_left_out(note: str) -> str:
-    """What became of the rows of the cells a note names ("1 cell ...": one row)."""
-    return "its row was left out" if note.startswith("1 ") else "their rows were left out"
+    """What became of the rows of the cells a note counts."""
+    one = getattr(note, "cells", None) == 1
+    return "its row was left out" if one else "their rows were left out"
 
 
 def _unread_cells(note: str) -> bool:
@@ -850,7 +851,8 @@ def _only_value_besides_blanks(c: Column, rows: np.ndarray) -> str | None:
 
 def drop_reasons_text(reasons: dict[str, int], limit: int = 3) -> str:
     """Why rows were left out, the largest reasons first: "missing in candidate 'x': 53 rows;
-    ... and 12 more reasons (40 rows)" ("none" when no row was)."""
+    ... and 12 more reasons (40 rows)", and with several reasons that each row counts once
+    ("none" when no row was)."""
     ranked = sorted(reasons.items(), key=lambda kv: -kv[1])
     shown = [f"{why}: {_rows(count)}" for why, count in ranked[:limit]]
     rest = ranked[limit:]

@@ -2,10 +2,12 @@
 
 Public names
 ------------
-``read_table(path, sheet=None, header_row=None, progress=None) -> Table``
+``read_table(path, sheet=None, header_row=None, progress=None, fitted_ranges=None) -> Table``
     Read one sheet (first visible by default) of .xlsx/.xlsm/.xls/.ods or a .csv file:
     find the heading row (or take the 1-based ``header_row``), skip blank rows, type each
     column. Raises ``engine.errors.InputProblem`` naming the file/sheet/row/cell.
+    ``fitted_ranges`` (new rows for a fitted model): each number column's fitted range, which
+    sets the scale percentages are read on.
 ``list_sheets(path) -> list[SheetInfo]``
     The sheets in workbook order, hidden ones flagged.
 ``describe_table(table) -> dict``

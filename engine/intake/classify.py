@@ -88,6 +88,9 @@ _NUMBER_AND_UNIT = re.compile(
 # results below a detection limit are read as this share of the limit, above a limit as the
 # limit (common practice for a few non-detects in lab and environmental data)
 _BELOW_LIMIT_SHARE = 0.5
+# a fitted column of percentages whose largest value is at most this holds shares (0.125 for
+# 12.5%); above it, percentage points (see points_scale)
+_SHARES_UP_TO = 1.5
 # texts lab reports write for "not detected" without giving the limit
 _NOT_DETECTED = frozenset(
     "<lod <dl <loq <mdl <rl nd n.d. n.d bdl bql not detected below detection limit".split()
@@ -380,33 +383,29 @@ def _one_percent_scale(numbers, codes, shown, keep, cell_at, fitted=None) -> str
     )
 
 
+def points_scale(fitted: tuple[float, float]) -> bool:
+    """Whether a column fitted over this (lowest, highest) range holds percentage points (12.5
+    for 12.5%) rather than shares (0.125): shares stay near or below 1."""
+    return fitted[1] > _SHARES_UP_TO
+
+
 def _percent_scale_of_fit(numbers, marked, plain, shown, cell_at, fitted) -> str:
     """New rows for a fitted model: numbers with a percent sign and plain ones put on the
-    scale of the fitted column (see _one_percent_scale), in place in ``numbers``."""
-    lo, hi = fitted
-    inside = (numbers >= lo) & (numbers <= hi)
-    as_fractions = int(
-        np.sum(inside & marked) + np.sum(((numbers / 100 >= lo) & (numbers / 100 <= hi)) & plain)
-    )
-    as_percents = int(
-        np.sum(((numbers * 100 >= lo) & (numbers * 100 <= hi)) & marked) + np.sum(inside & plain)
-    )
+    scale of the fitted column (see _one_percent_scale), in place in ``numbers``. The fitted
+    range alone decides, so one cell reads the same beside any other new rows."""
     first = int(np.flatnonzero(marked)[0])
-    example = f"{cell_at(first)} '{shown[first]}'"
-    if as_percents > as_fractions:
+    if points_scale(fitted):
         numbers[marked] = np.round(numbers[marked] * 100.0, 10)
         done = "numbers written with a percent sign are read as the number before it"
-    elif (
-        plain.any() and np.mean(np.abs(numbers[plain]) > 1.0) >= 0.8 and as_fractions > as_percents
-    ):
-        numbers[plain] /= 100.0
+    elif plain.any() and np.mean(np.abs(numbers[plain]) > 1.0) >= 0.8:
+        numbers[plain] /= 100.0  # written as percentage numbers beside the signed ones
         done = "plain numbers are read as percentages, like those with the sign"
     else:
-        return ""  # the plain reading already fits the model's scale
+        return ""  # shares, as the cells read already
+    lo, hi = fitted
     return (
-        f"read on the scale the model was fitted on ({format_plain(lo)} to "
-        f"{format_plain(hi)}): {done} (e.g. {example} as "
-        f"{format_plain(float(numbers[first]))})"
+        f"read on the scale the model was fitted on ({lo:.6g} to {hi:.6g}): {done} (e.g. "
+        f"{cell_at(first)} '{shown[first]}' as {format_plain(float(numbers[first]))})"
     )
 
 
@@ -432,10 +431,19 @@ def _number_part(text: str) -> str:
     """The number written in a text with a unit after it or against a limit ("50.0 kg" and
     "<0.05" give "50.0" and "0.05"); any other text as it is."""
     s = text.strip()
-    if s[:1] in "<>\u2264\u2265" and len(s) > 1:
-        return s[1:].lstrip("=").strip()
+    limit = _after_limit_sign(s)
+    if limit is not None:
+        return limit
     m = _NUMBER_AND_UNIT.fullmatch(s)
     return m.group("num") if m is not None else s
+
+
+def _after_limit_sign(text: str) -> str | None:
+    """What follows the sign of a result against a limit ("<=0.3" gives "0.3"); None when the
+    text does not start with such a sign."""
+    if text[:1] not in "<>\u2264\u2265" or len(text) < 2:
+        return None
+    return text[1:].lstrip("=").strip()
 
 
 def _unit_of(text: str) -> str:
@@ -447,9 +455,9 @@ def limit_value(text: str, mark: str) -> float | None:
     """The value read for a result reported against a limit: "<0.3" (or "< 0,3", "≤0.3")
     as the share _BELOW_LIMIT_SHARE of it, ">1000" as the limit; None for anything else."""
     head = text[:1]
-    if head not in "<>\u2264\u2265" or len(text) < 2:
+    rest = _after_limit_sign(text)
+    if rest is None:
         return None
-    rest = text[1:].lstrip("=").strip()
     if not rest or rest[0] in "<>-\u2212":
         return None
     value = parse_number_text(rest, mark)
@@ -565,6 +573,7 @@ def _classify_mixed(
                     "these values are low, not unknown, so leaving their rows out biases the "
                     "fit; typing the limit instead (e.g. '<0.02') has them read as half of it",
                     Finding.NOT_DETECTED,
+                    count,
                 )
             )
             bad = bad[~undetected]
@@ -579,6 +588,7 @@ def _classify_mixed(
                     if bad.size > 1
                     else f"1 cell that is not {_SINGULAR[what]} treated as missing: {named}",
                     Finding.UNREAD_CELLS,
+                    int(bad.size),
                 )
             )
         return int(bad.size) + int(undetected.sum())

@@ -56,17 +56,22 @@ WORTH_A_WARNING = frozenset(
 
 
 class ColumnNote(str):
-    """A note's words, with the finding they report (None: a note no code acts on)."""
+    """A note's words, with the finding they report (None: a note no code acts on) and, for
+    a finding about cells, how many cells it counts (the words name only the first few)."""
 
     finding: Finding | None
+    cells: int | None
 
-    def __new__(cls, words: str, finding: Finding | None = None) -> ColumnNote:
+    def __new__(
+        cls, words: str, finding: Finding | None = None, cells: int | None = None
+    ) -> ColumnNote:
         note = super().__new__(cls, words)
         note.finding = finding
+        note.cells = cells
         return note
 
-    def __reduce__(self):  # worker processes receive tables: keep the finding across pickling
-        return (ColumnNote, (str(self), self.finding))
+    def __reduce__(self):  # a copied or pickled note keeps what it reports
+        return (ColumnNote, (str(self), self.finding, self.cells))
 
 
 def finding_of(note: str) -> Finding | None:

@@ -11,7 +11,6 @@ from __future__ import annotations
 
 __all__ = ["ScoreOutcome", "score_rows", "default_out"]
 
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -182,7 +181,8 @@ def _range_note(model) -> str:
 def _four_digits(x: float) -> str:
     """Four significant digits without an exponent where a reader expects none (16602 rather
     than 1.66e+04, as the scoring sheet shows it)."""
+    from engine.report.sheets.cells import decimals_for
+
     if not 1e-4 <= abs(x) < 1e9:
         return f"{x:.4g}"
-    decimals = max(0, 3 - math.floor(math.log10(abs(x))))
-    return f"{x:.{decimals}f}"
+    return f"{x:.{decimals_for(x, 4)}f}"

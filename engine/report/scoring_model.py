@@ -50,6 +50,7 @@ import numpy as np
 from engine.design import Encoding, date_part
 from engine.errors import InputProblem, Place
 from engine.intake.cells import MISSING_WORDS
+from engine.intake.classify import points_scale
 
 # Day 0 of the 1900 date system as Excel and LibreOffice count it for dates after 1900-03-01.
 EXCEL_EPOCH = _dt.date(1899, 12, 30)
@@ -234,15 +235,19 @@ class ScoringModel:
         return size
 
     def fitted_ranges(self) -> dict[str, tuple[float, float]]:
-        """(lowest, highest) value of each number column in the rows fitted, by source column
-        (intake reads new rows' percentages on that scale)."""
+        """(lowest, highest) value in the rows fitted of each number column the prediction
+        reads, in the sheet's units (a logged column's range taken back from ln), by source
+        column: intake reads new rows' percentages on that scale."""
         out: dict[str, tuple[float, float]] = {}
         if self.lows is None or self.highs is None:
             return out
         for j, enc in enumerate(self.encodings):
             lo, hi = float(self.lows[j]), float(self.highs[j])
-            if enc.kind == "number" and math.isfinite(lo) and math.isfinite(hi):
-                out.setdefault(enc.source, (lo, hi))
+            if enc.kind not in ("number", "ln") or not (math.isfinite(lo) and math.isfinite(hi)):
+                continue
+            out.setdefault(
+                enc.source, (math.exp(lo), math.exp(hi)) if enc.kind == "ln" else (lo, hi)
+            )
         return out
 
     @property
@@ -515,7 +520,8 @@ class ScoringModel:
                 # a few new rows with a stray word ("warm") are typed as text by intake: read
                 # each cell that spells a number, the others have no usable value (named in the
                 # row's note); a column without any number is the wrong column
-                v = _numbers_in_text(values)
+                fitted = self.fitted_ranges().get(enc.source)
+                v = _numbers_in_text(values, fitted is not None and points_scale(fitted))
                 if not np.isfinite(v).any():
                     raise self._wrong_kind(enc, col, table, "numbers")
             else:
@@ -645,11 +651,12 @@ def as_table(rows):
     return rows if isinstance(rows, Table) else read_frame(rows, "new rows")
 
 
-def _numbers_in_text(values) -> np.ndarray:
+def _numbers_in_text(values, points: bool = False) -> np.ndarray:
     """The number each text cell spells, read as intake reads one cell of a number column (NaN
     for the others): with a decimal point, or a comma where only a comma makes a number of it
-    ("0,2"); a result against a limit as the fit reads one ("<0.05" as half the limit). A few
-    new rows are too few to tell a column's habits, so each cell is read on its own."""
+    ("0,2"); a result against a limit as the fit reads one ("<0.05" as half the limit); a
+    percentage as a share, or in points when the model was fitted on points (``points``). A
+    few new rows are too few to tell a column's habits, so each cell is read on its own."""
     from engine.intake.cells import parse_number_text
     from engine.intake.classify import limit_value
 
@@ -661,7 +668,7 @@ def _numbers_in_text(values) -> np.ndarray:
                 x = read(s, ".")
                 x = read(s, ",") if x is None else x
                 if x is not None:
-                    out[i] = x
+                    out[i] = round(x * 100.0, 10) if points and s.endswith("%") else x
                     break
     return out
 

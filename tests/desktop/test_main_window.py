@@ -18,7 +18,7 @@ from PySide6.QtCore import QMimeData, QPointF, Qt, QTimer, QUrl
 from PySide6.QtGui import QDropEvent, QKeySequence
 
 from desktop.engine_calls import EngineCalls
-from desktop.main_window import PAGE_FINDINGS, MainWindow
+from desktop.main_window import PAGE_FINDINGS, PAGE_SETTINGS, MainWindow
 from desktop.roles import Role
 from desktop.table_models import COL_CHECK, COL_KIND
 from engine.errors import InputProblem, Place
@@ -593,8 +593,10 @@ def test_saving_findings_older_than_the_settings_asks_first(qtbot, store, book, 
     w.choose_save_in_place()  # current findings: no question
     wait_idle(qtbot, w)
     assert not asked
-    w.ledger.model.set_roles({"x1": Role.IGNORE})
-    assert w.results.outdated_note.isVisibleTo(w)
+    w.pages.setCurrentIndex(PAGE_SETTINGS)  # the change made where it usually is
+    w.settings_panel.set_values({"folds": 4})
+    w.settings_panel.changed.emit()
+    assert w.results.outdated
     before = book.read_bytes()
     w.choose_save_in_place()
     assert asked and "before your later changes" in asked[-1]

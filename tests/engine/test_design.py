@@ -534,17 +534,21 @@ def test_words_in_a_date_or_yes_no_candidate_are_named_too(tmp_path):
         for i in range(30)
     ]
     lines[4] = "3,soon,yes,3"
+    lines[6] = "5,later,yes,5"
     lines[9] = "8,2024-09-09,perhaps,1"
     path = tmp_path / "words.csv"
     path.write_text("\n".join(lines) + "\n", encoding="utf-8")
     design = build_design(read_table(path), _spec(source=str(path), response="y"))
     said = " | ".join(design.warnings)
-    assert "candidate 'when': 1 cell that is not a date treated as missing: row 5" in said, said
+    assert "candidate 'when': 2 cells that are not dates treated as missing: row 5" in said, said
+    assert "'later'; their rows were left out" in said
     assert "candidate 'member': 1 cell that is not a yes/no value treated as missing" in said
+    assert "'perhaps'; its row was left out" in said
 
 
-def test_a_notes_finding_survives_the_trip_to_a_worker_process(tmp_path):
-    # tables go to worker processes by pickling: what a note reports must arrive with it
+def test_a_notes_finding_survives_pickling_and_copying(tmp_path):
+    # a table pickled or copied keeps what its notes report, with their words
+    import copy
     import pickle
 
     from engine.intake import read_table
@@ -558,5 +562,6 @@ def test_a_notes_finding_survives_the_trip_to_a_worker_process(tmp_path):
     lead = read_table(path).column("lead")
     back = pickle.loads(pickle.dumps(lead))
     assert [finding_of(n) for n in back.notes] == [finding_of(n) for n in lead.notes]
+    assert [finding_of(n) for n in copy.deepcopy(lead).notes] == [finding_of(n) for n in lead.notes]
     assert Finding.LIMIT_SUBSTITUTES in {finding_of(n) for n in back.notes}
     assert not screened(back.notes) and back.notes == lead.notes

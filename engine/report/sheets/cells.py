@@ -6,7 +6,16 @@ Every text that may have come from the user's workbook goes through ``text`` (xl
 
 from __future__ import annotations
 
-__all__ = ["Formats", "text", "number", "col_name", "cell_ref", "range_ref", "heading_row"]
+__all__ = [
+    "Formats",
+    "text",
+    "number",
+    "col_name",
+    "cell_ref",
+    "range_ref",
+    "heading_row",
+    "decimals_for",
+]
 
 import math
 
@@ -68,12 +77,18 @@ class Formats:
         a = abs(size)
         if not math.isfinite(a) or a < 1e-4 or a >= 1e10:
             return self.prediction if look == "prediction" else self.number
-        decimals = min(9, max(0, 5 - math.floor(math.log10(a))))
+        decimals = decimals_for(a, 6)
         key = (look, decimals)
         if key not in self._shown:
             fmt = "0." + "0" * decimals if decimals else "0"
             self._shown[key] = self._add({**self._looks[look], "num_format": fmt})
         return self._shown[key]
+
+
+def decimals_for(size: float, digits: int) -> int:
+    """Decimals that show ``digits`` significant digits of a number of about ``size`` (at
+    most 9; none for large numbers): 1506.66 -> 2 for six digits."""
+    return min(9, max(0, digits - 1 - math.floor(math.log10(abs(size)))))
 
 
 def text(ws, row: int, col: int, value: object, fmt=None) -> None:

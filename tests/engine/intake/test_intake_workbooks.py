@@ -789,6 +789,11 @@ def test_a_plain_number_among_dates_of_a_1904_workbook_is_not_guessed(tmp_path):
         # a model fitted on percentage points (10 to 89): "50%" is 50, also alone
         (["50%"], (10.0, 89.0), [0.5], [50.0]),
         ([50, "50%"], (10.0, 89.0), [50.0, 50.0], [50.0, 50.0]),
+        # the fitted range alone decides: a range from 0, and values beyond the fitted range
+        (["50%", "20%"], (0.0, 100.0), [0.5, 0.2], [50.0, 20.0]),
+        (["50%", 30], (0.0, 100.0), [50.0, 30.0], [50.0, 30.0]),
+        (["95%"], (10.0, 89.0), [0.95], [95.0]),
+        (["95%", "50%"], (10.0, 89.0), [0.95, 0.5], [95.0, 50.0]),
     ],
 )
 def test_new_rows_read_percentages_on_the_scale_the_model_was_fitted_on(

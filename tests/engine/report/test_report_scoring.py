@@ -224,3 +224,14 @@ def test_a_stray_word_among_new_numbers_costs_its_row_only(tmp_path):
     wrong.save(tmp_path / "wrong.xlsx")
     with pytest.raises(InputProblem, match="column 'temp'"):
         model.predict(read_table(tmp_path / "wrong.xlsx"))
+
+
+def test_a_percentage_typed_among_words_follows_the_fitted_scale():
+    # a column intake typed as text (a stray word among few new rows) is read cell by cell:
+    # "50%" in points for a model fitted on points (12.5 for 12.5%), as a share otherwise
+    from engine.report.scoring_model import _numbers_in_text
+
+    np.testing.assert_allclose(
+        _numbers_in_text(["50%", "warm", "<0.4", "0,2"], points=True), [50.0, np.nan, 0.2, 0.2]
+    )
+    np.testing.assert_allclose(_numbers_in_text(["50%"]), [0.5])

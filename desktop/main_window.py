@@ -64,6 +64,8 @@ from desktop.settings_store import SettingsStore
 from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
+from engine.intake.cells import counted
+from engine.intake.notes import Finding, finding_of
 from engine.intake.workbook import SUPPORTED_SUFFIXES
 from engine.methods import method_info
 from engine.report.reproduce import differences
@@ -140,6 +142,28 @@ def _listed_notes(notes: list[str], rest_in: str = "") -> str:
         more = len(notes) - _NOTES_SHOWN
         lines.append(f"… and {more} more note{'s' if more > 1 else ''}{rest_in}")
     return "\n".join(lines)
+
+
+def _unread_cells_note(table) -> str:
+    """How many cells hold words where their column's values belong, in how many columns: a
+    run leaves their rows out or fills them, which matters before choosing roles ("" when
+    there are none). Each column's Check cell names its cells."""
+    counts = [
+        (c.name, getattr(n, "cells", None) or 0)
+        for c in table.columns
+        for n in c.notes
+        if finding_of(n) in (Finding.UNREAD_CELLS, Finding.NOT_DETECTED)
+    ]
+    cells = sum(k for _, k in counts)
+    if not cells:
+        return ""
+    columns = sorted({name for name, _ in counts})
+    where = f"'{columns[0]}'" if len(columns) == 1 else f"{len(columns)} columns"
+    return (
+        f"{counted(cells, 'cell')} in {where} could not be read as the column's values (their "
+        "Check cells name them): a study using such a column leaves out their rows, or "
+        "fills them when missing cells are filled"
+    )
 
 
 class MainWindow(QMainWindow):
@@ -595,6 +619,9 @@ class MainWindow(QMainWindow):
         self.stack.setCurrentIndex(1)
         self._check()
         notes = list(t.warnings)
+        unread = _unread_cells_note(t)
+        if unread:
+            notes.insert(0, unread)
         if self._pending_spec is not None:
             self._pending_spec = None
             self._rerun_record = loaded.saved_record

@@ -606,3 +606,21 @@ def test_saving_findings_older_than_the_settings_asks_first(qtbot, store, book, 
         w.choose_save_in_place()
     wait_idle(qtbot, w)
     assert "findings of the last run" in w.last_message.detail
+
+
+def test_opening_a_sheet_says_how_many_cells_a_study_would_not_read(qtbot, store, book):
+    # words typed in number cells cost rows once a study uses the column: said on opening,
+    # before the roles are chosen, with where to find the cells
+    from openpyxl import load_workbook as open_book
+
+    wb = open_book(book)
+    ws = wb["Lots"]
+    ws["E10"] = "warm"  # x1 (lot_id, response_y, region, x0, x1, ...)
+    ws["E20"] = "n/a?"
+    ws["F30"] = "see note"
+    wb.save(book)
+    w = make_window(qtbot, store)
+    open_and_wait(qtbot, w, book)
+    said = w.last_message.detail
+    assert "3 cells in 2 columns could not be read as the column's values" in said, said
+    assert "Check cells name them" in said

@@ -526,9 +526,10 @@ class ScoringModel:
                     raise self._wrong_kind(enc, col, table, "numbers")
             else:
                 raise self._wrong_kind(enc, col, table, "numbers")
-            if enc.kind == "flag":
-                v = np.where(np.isfinite(v), (v != 0).astype(float), np.nan)
-            return np.where(np.isfinite(v), v, miss)
+            out = np.where(np.isfinite(v), v, miss)
+            if enc.kind == "flag":  # 0 and 1 only: 2 is no yes/no value, nor a gap to fill
+                out[np.isfinite(v) & (v != 0) & (v != 1)] = np.nan
+            return out
         if enc.kind == "level":
             known = self.category_levels.get(enc.source)
             labels = _labels(col, known)

@@ -569,3 +569,49 @@ def test_a_check_split_into_helper_cells_recalculates_to_the_same_words(tmp_path
     assert (
         check == f"{x3} empty: the stored fill used; not a number in {x7} (type it as a number); "
     )
+
+
+def test_a_level_spelled_like_a_placeholder_and_a_number_in_a_yes_no_column(tmp_path):
+    # "none" is a real level of 'promo' (intake keeps every word of a category as a label), so
+    # the Check never calls it a missing value; a 2 in a yes/no column is no yes/no value: no
+    # prediction and a Check that says so, as `tamis score` gives none (common practice:
+    # yes/no coded 0/1)
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(8)
+    wb = openpyxl.Workbook()
+    sheet = wb.active
+    sheet.append(["y", "promo", "holiday", "x"])
+    for i in range(60):
+        promo = ["none", "flyer", "loyalty"][i % 3]
+        holiday = "yes" if i % 4 == 0 else "no"
+        x = float(rng.normal())
+        y = 5 + 2 * (promo == "flyer") + 3 * (holiday == "yes") + x + rng.normal(0, 0.1)
+        sheet.append([float(y), promo, holiday, x])
+    book = tmp_path / "promo.xlsx"
+    wb.save(book)
+    res = run_study(StudySpec(source=str(book), response="y", methods=("ols",), folds=5))
+    results = write_results(res, out=tmp_path / "results.xlsx")
+    rows = [("none", "no", 0.5), ("flyer", 2, 0.5), ("none", 1, 0.5)]
+    pasted = paste_after_examples(
+        results, ["promo", "holiday", "x"], rows, tmp_path / "pasted.xlsx"
+    )
+    (out,) = convert([pasted], "xlsx", tmp_path / "lo", make_profile(tmp_path))
+    ws = openpyxl.load_workbook(out, data_only=True)["TM Scoring"]
+    head, cols = scoring_layout(ws)
+    pc = next(c for h, c in cols.items() if h.startswith("Prediction of"))
+    r0 = head + 6
+    checks = [ws.cell(r0 + i, cols["Check"]).value or "" for i in range(3)]
+    assert checks[0] == "" and checks[2] == "", checks
+    assert ws.cell(r0 + 1, pc).value == "#N/A"
+    assert "not yes/no in" in checks[1] and "(0 or 1)" in checks[1]
+    # `tamis score` on the same rows: the same predictions, and none for the 2 either
+    new = _new_rows_book(tmp_path / "new.xlsx", ["promo", "holiday", "x"], rows)
+    pred, notes = load_scoring_model(results).predict_with_notes(read_table(new))
+    assert np.isnan(pred[1]) and "holiday" in notes[1]
+    m = res.models[0]
+    by_hand = m.intercept + m.coefficients["x"] * 0.5 + m.coefficients.get("promo=none", 0.0)
+    assert pred[0] == pytest.approx(by_hand, rel=1e-9)
+    for i in (0, 2):
+        assert ws.cell(r0 + i, pc).value == pytest.approx(pred[i], rel=1e-9)

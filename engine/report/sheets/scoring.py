@@ -136,10 +136,13 @@ def _miss_expr(enc, fill_ref: str, src: str) -> str:
     return f"IF({_missing_cell_test(src)},{fill_ref},NA())"
 
 
-def _missing_cell_test(src: str) -> str:
+def _missing_cell_test(src: str, labels: bool = False) -> str:
     """Formula text, true for a cell intake reads as missing: blank, an error value, spaces,
     a placeholder word. Compared with = against the words, not MATCH: MATCH takes "?" and "*"
-    as wildcards in some spreadsheet programs."""
+    as wildcards in some spreadsheet programs. ``labels``: a category's cell, where intake
+    keeps every word as a label ("none" is a promotion level, not a missing value)."""
+    if labels:
+        return f"OR(ISBLANK({src}),ISERROR({src}),IF(ISTEXT({src}),LEN(TRIM({src}))=0,FALSE))"
     return (
         f"OR(ISBLANK({src}),ISERROR({src}),IF(ISTEXT({src}),OR(LEN(TRIM({src}))=0,"
         f"OR(LOWER(TRIM({src}))={{{_MISSING_WORDS}}})),FALSE))"
@@ -161,9 +164,10 @@ def _formula(model: ScoringModel, j: int, src: str, cells: dict[str, str]) -> st
     if enc.kind == "ln":  # a number at or below 0 has no log: no prediction (the check says why)
         return f"IF(ISNUMBER({src}),IF({src}>0,LN({src}),NA()),{miss})"
     if enc.kind == "flag":
+        # a number other than 0 or 1 is no yes/no value (2 is not "yes"): as `tamis score`
         return (
-            f"IF(ISNUMBER({src}),IF({src}<>0,1,0),IF(ISLOGICAL({src}),IF({src},1,0),"
-            f"IF(ISERROR({src}),{miss},IF({yes_test},1,IF({no_test},0,{miss})))))"
+            f"IF(ISNUMBER({src}),IF({src}=1,1,IF({src}=0,0,{miss})),IF(ISLOGICAL({src}),"
+            f"IF({src},1,0),IF(ISERROR({src}),{miss},IF({yes_test},1,IF({no_test},0,{miss})))))"
         )
     if enc.kind == "level":
         blank_known = "" in model.category_levels.get(enc.source, [])
@@ -461,9 +465,10 @@ def write(
             )
         for s_i in blank_means_none:  # no value and no stored fill: no prediction, say why
             cell = cell_ref(r, s_i, False, True)
+            missing = _missing_cell_test(cell, labels=sources[s_i] in cat_sources)
             say(
                 s_i,
-                f'IF(AND(NOT({empty}),{_missing_cell_test(cell)}),"no value in {col_name(s_i)}; ","")',
+                f'IF(AND(NOT({empty}),{missing}),"no value in {col_name(s_i)}; ","")',
             )
         for s_i, kind in typed_sources:  # text typed where a number or date belongs
             cell = cell_ref(r, s_i, False, True)
@@ -476,9 +481,11 @@ def write(
             cell = cell_ref(r, s_i, False, True)
             say(
                 s_i,
-                f'IF(OR(ISNUMBER({cell}),ISLOGICAL({cell}),{_missing_cell_test(cell)}),"",'
+                f'IF(ISNUMBER({cell}),IF(OR({cell}=0,{cell}=1),"","not yes/no in '
+                f'{col_name(s_i)} (0 or 1); "),'
+                f'IF(OR(ISLOGICAL({cell}),{_missing_cell_test(cell)}),"",'
                 f'IF(OR(LOWER(TRIM({cell}))={{{flag_words}}}),"",'
-                f'"not yes/no in {col_name(s_i)}; "))',
+                f'"not yes/no in {col_name(s_i)}; ")))',
             )
         for s_i in filled_sources:  # an empty cell took the stored fill: say so
             cell = cell_ref(r, s_i, False, True)

@@ -270,6 +270,9 @@ def main(argv: Sequence[str] | None = None, ctx: Context | None = None) -> int:
         args = parser.parse_args(argv)
     except _UsageError as exc:
         print(f"tamis: error: {exc}", file=ctx.stderr)
+        # the arguments could not be read, so --json is looked for among them as written
+        if "--json" in argv[: argv.index("--") if "--" in argv else len(argv)]:
+            _json_error(argparse.Namespace(json=True), ctx, str(exc), 2, {})
         return 2
     except SystemExit as exc:  # --help and --version
         return int(exc.code or 0)

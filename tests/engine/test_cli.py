@@ -110,3 +110,21 @@ def test_bad_settings_exit_2(tmp_path, argv):
     argv = [a if a != "b.xlsx" else str(tmp_path / "b.xlsx") for a in argv]
     code, out, err = _run(argv, tmp_path)
     assert code == 2 and err.startswith("tamis: error:")
+
+
+@pytest.mark.parametrize(
+    "argv",
+    [
+        ["fit", "book.xlsx", "--json"],  # no --response
+        ["fit", "book.xlsx", "--response", "y", "--folds", "abc", "--json"],
+        ["score", "new.xlsx", "--json"],  # no --results
+    ],
+)
+def test_arguments_that_cannot_be_read_still_give_one_json_document(tmp_path, argv):
+    # README: with --json stdout holds exactly one JSON document, on failure too
+    import json
+
+    code, out, err = _run(argv, tmp_path)
+    assert code == 2 and "tamis: error:" in err
+    doc = json.loads(out)
+    assert doc["exit_code"] == 2 and doc["error"] and doc["place"] == {}

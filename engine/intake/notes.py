@@ -37,6 +37,8 @@ class Finding(Enum):
     SERIAL_DATES = "serial dates"
     # a column of mostly numbers with too few of them to be read as numbers
     TOO_FEW_NUMBERS = "too few numbers"
+    # dates such as 02/01/2024 read as day/month or month/day by the sheet's habit, a guess
+    DATE_ORDER_CHOSEN = "date order chosen"
 
 
 # findings that change what a column's values mean: repeated among the sheet's warnings, so
@@ -51,6 +53,7 @@ WORTH_A_WARNING = frozenset(
         Finding.ONE_UNIT,
         Finding.SEVERAL_UNITS,
         Finding.SERIAL_DATES,
+        Finding.DATE_ORDER_CHOSEN,
     }
 )
 

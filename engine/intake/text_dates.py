@@ -21,6 +21,8 @@ __all__ = ["looks_like_date", "parse_date_texts", "MONTH_NAMES"]
 import datetime as dt
 import re
 
+from engine.intake.notes import ColumnNote, Finding, finding_of
+
 _ISO = re.compile(
     r"(\d{4})[-/](\d{1,2})[-/](\d{1,2})(?:[ T](\d{1,2}):(\d{2})(?::(\d{2})(?:\.(\d{1,6}))?)?)?"
 )
@@ -113,14 +115,18 @@ def parse_date_texts(
         if m:
             first_big |= int(m.group(1)) > 12
             second_big |= int(m.group(2)) > 12
-    note = None
+    note: ColumnNote | None = None
     if first_big and not second_big:
         day_first = True
     elif second_big and not first_big:
         day_first = False
     elif not first_big and not second_big and any(_DMY.fullmatch(s) for s in stripped):
         order = "day/month/year" if day_first else "month/day/year"
-        note = f"dates such as '{next(s for s in stripped if _DMY.fullmatch(s))}' could be read either way; read as {order}"
+        example = next(s for s in stripped if _DMY.fullmatch(s))
+        note = ColumnNote(
+            f"dates such as '{example}' could be read either way; read as {order}",
+            Finding.DATE_ORDER_CHOSEN,
+        )
     out: list[dt.datetime | None] = []
     periods: dict[str, str] = {}  # kind of period -> first text read as one
     for s in stripped:
@@ -147,5 +153,6 @@ def parse_date_texts(
         )
         if periods.keys() == {"week"}:
             said += " (the Monday, ISO 8601)"
-        note = "; ".join(x for x in (note, f"periods read as dates: {said}") if x)
+        joined = "; ".join(x for x in (note, f"periods read as dates: {said}") if x)
+        note = ColumnNote(joined, finding_of(note) if note else None)
     return out, note

@@ -806,3 +806,17 @@ def test_new_rows_read_percentages_on_the_scale_the_model_was_fitted_on(
     np.testing.assert_allclose(alone, as_batch)
     model_scale = read_table(path, fitted_ranges={"pct": fitted}).column("pct").values
     np.testing.assert_allclose(model_scale, for_the_model)
+
+
+def test_a_guessed_day_month_order_is_among_the_sheets_warnings(tmp_path):
+    # "02/01/2024" is 2 January or 1 February: when no date settles it (a day above 12), the
+    # order is the sheet's habit, a guess that moves every date: said with the fit and when
+    # new rows are scored, not only by inspect (common practice: ISO 8601 avoids it)
+    rows = [[f"{1 + i % 12:02d}/{1 + i % 9:02d}/2024", float(i)] for i in range(20)]
+    path = _saved_sheet(tmp_path, "S", [["when", "y"], *rows])
+    table = read_table(path)
+    assert table.column("when").kind.value == "date"
+    assert any(
+        w.startswith("column 'when' (A): dates such as '01/01/2024' could be read either way")
+        for w in table.warnings
+    ), table.warnings

@@ -244,13 +244,13 @@ def _fits_range(texts: list[str], mark: str, lo: float, hi: float) -> int:
 
 def _text_records(
     unique: list[str], decimal: str, day_first: bool, present: list | None = None
-) -> tuple[dict[str, _Record], str | None, str | None]:
+) -> tuple[dict[str, _Record], str | None, str | None, set[str]]:
     """Records of distinct texts, a note when the day/month order of dates was a guess, and
     one saying which decimal mark was used when some texts read either way. ``present``: the
     column's cells; when the texts' votes tie, the mark that puts more of them within the
     range of the cells stored as numbers decides ("9,548" among 7,979 to 23,724 is 9548)."""
     if not unique:
-        return {}, None, None
+        return {}, None, None, set()
     # the number in each text votes, also when written with a unit or against a limit
     # ("50.0 kg", "<0.05" say point): otherwise such a column would take the sheet's usual
     # mark, which one column of "5,40" can make a comma, reading "1.005 kg" as 1005
@@ -293,6 +293,8 @@ def _text_records(
         got, date_note = parse_date_texts(date_like, day_first)
         parsed_dates = dict(zip(date_like, got))
     info: dict[str, _Record] = {}
+    other = "," if conv == "." else "."
+    other_mark: set[str] = set()  # texts that make a number only with the other mark
     for u in unique:
         s = " ".join(u.split())
         if not s:
@@ -303,6 +305,9 @@ def _text_records(
             info[u] = (_TEXT_DATE, _NAN, _NAN, s, parsed_dates[u])
         else:
             num = None if _is_code(s) else parse_number_text(s, conv)
+            if num is None and not _is_code(s) and (alt := parse_number_text(s, other)) is not None:
+                num = alt  # "7,25" among "8.66" and "10.5": a decimal comma, read as 7.25
+                other_mark.add(u)
             low = s.lower()
             limit = limit_value(s, conv) if num is None else None
             with_unit = _number_and_unit(s, conv) if num is None and limit is None else None
@@ -316,7 +321,7 @@ def _text_records(
                 info[u] = (_TEXT_FLAG, _NAN, _FLAG_WORDS[low], s, None)
             else:
                 info[u] = (_TEXT, _NAN, _NAN, s, None)
-    return info, date_note, mark_note
+    return info, date_note, mark_note, other_mark
 
 
 def worth_a_warning(note: str) -> bool:
@@ -427,6 +432,12 @@ def _number_and_unit(text: str, mark: str) -> tuple[float, str] | None:
     return value, m.group("unit")
 
 
+def _reads_both_ways(text: str) -> bool:
+    """Whether a text is a number under either decimal mark, a different one ("8.666")."""
+    a, b = parse_number_text(text, "."), parse_number_text(text, ",")
+    return a is not None and b is not None and a != b
+
+
 def _number_part(text: str) -> str:
     """The number written in a text with a unit after it or against a limit ("50.0 kg" and
     "<0.05" give "50.0" and "0.05"); any other text as it is."""
@@ -512,7 +523,7 @@ def _classify_mixed(
 
     # Texts are classified once per distinct text (labels repeat a lot).
     unique = list(dict.fromkeys(v for v in present if type(v) is str))
-    info, date_note, mark_note = _text_records(unique, decimal, day_first, present)
+    info, date_note, mark_note, other_mark = _text_records(unique, decimal, day_first, present)
     any_code = any(_is_code(u) for u in unique)
     records = [info[v] if type(v) is str else _value_record(v) for v in present]
     code_list, number_list, flag_list, shown, date_list = zip(*records)
@@ -680,6 +691,30 @@ def _classify_mixed(
         )
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, uniq)
+        if from_text_file and mark_note and finding_of(mark_note):
+            # in a text file every number is text: say which mark ambiguous ones were read with,
+            # showing one whose value depends on it
+            texts = np.flatnonzero(codes == _TEXT_NUMBER).tolist()
+            first = next((k for k in texts if _reads_both_ways(str(shown[k]))), texts[0])
+            notes.append(
+                ColumnNote(
+                    f"numbers such as {cell_at(first)} '{shown[first]}' "
+                    f"({format_plain(float(numbers[first]))}) {mark_note}",
+                    finding_of(mark_note),
+                )
+            )
+        unusual = [k for k in np.flatnonzero(keep).tolist() if shown[k] in other_mark]
+        if unusual:
+            k0 = unusual[0]
+            notes.append(
+                ColumnNote(
+                    f"{counted(len(unusual), 'number')} written with the other decimal mark "
+                    f"(e.g. {cell_at(k0)} '{shown[k0]}') read as "
+                    f"{format_plain(float(numbers[k0]))}",
+                    Finding.DECIMAL_MARK_CHOSEN,
+                    len(unusual),
+                )
+            )
         if not from_text_file and counts[_TEXT_NUMBER]:
             col.text_numbers = int(counts[_TEXT_NUMBER])
             first = int(np.flatnonzero(codes == _TEXT_NUMBER)[0])

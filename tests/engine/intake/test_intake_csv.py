@@ -158,3 +158,29 @@ def test_tab_separated_text_saved_as_txt_or_tsv_is_read_like_csv(tmp_path, suffi
     assert table.column("Prix").values.tolist() == [9.35, 10.5]
     assert table.column("Date").kind == ColumnKind.DATE
     assert table.sheet == "export"
+
+
+def test_numbers_whose_value_depends_on_the_decimal_mark_are_said_in_a_text_file(tmp_path):
+    # a semicolon file with decimal commas (common practice in decimal-comma locales), where
+    # some columns were written with points: "8.666" is 8666 with a decimal comma and 8.666
+    # with a point, so the reading chosen is said among the warnings; a "7,25" among numbers
+    # written with points is read as 7.25, and said, rather than dropped
+    lines = ["a;e;d;y"]
+    lines += ["8.666;8.66;3,5;1", "11.395;9.1;4,25;2", "7.851;10.25;5,125;3", "9.838;7.5;6,5;4"]
+    lines += ["7,25;7,25;7,75;5"]
+    path = tmp_path / "marks.csv"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    table = read_table(path)
+    a, e = table.column("a"), table.column("e")
+    np.testing.assert_allclose(a.values, [8666, 11395, 7851, 9838, 7.25])
+    np.testing.assert_allclose(e.values, [8.66, 9.1, 10.25, 7.5, 7.25])
+    said = " | ".join(table.warnings)
+    assert (
+        "column 'a' (1): numbers such as row 2, column 1 '8.666' (8666) read with a decimal comma"
+        in said
+    )
+    assert (
+        "column 'e' (2): 1 number written with the other decimal mark (e.g. row 6, column 2 "
+        "'7,25') read as 7.25" in said
+    ), said
+    assert a.missing == e.missing == 0

@@ -44,23 +44,36 @@ class HeldBack:
 
 
 def _test_index(design: Design, spec: StudySpec, n_test: int) -> np.ndarray:
+    """The held-back rows: about ``n_test`` of them, never more than half the rows. Rows of
+    one time (or one group) stay together, so the count is the nearest whole number of times
+    (groups) to ``n_test``; empty when even one time (group) holds more than half."""
     n = design.n_rows
     rng = np.random.default_rng([spec.seed, 20261205])  # a stream of its own, apart from folds
     if design.order is not None:
         order = design.order
-        cut = np.sort(order)[n - n_test]  # the latest rows; rows of that time all go to test
-        return np.flatnonzero(order >= cut)
+        times, counts = np.unique(order, return_counts=True)
+        taken = np.cumsum(counts[::-1])  # rows held back with the latest 1, 2, ... times
+        allowed = np.flatnonzero(taken <= n // 2)
+        if not allowed.size:
+            return np.zeros(0, dtype=int)
+        # the nearest to the share; of two as near, the larger (at least the share asked)
+        k = int(min(allowed, key=lambda i: (abs(int(taken[i]) - n_test), -int(taken[i]))))
+        return np.flatnonzero(order >= times[::-1][k])
     if design.groups is not None:
         labels = np.unique(design.groups)
-        taken: list[np.ndarray] = []
+        chosen: list[np.ndarray] = []
         count = 0
         for g in rng.permutation(labels):
             rows = np.flatnonzero(design.groups == g)
-            taken.append(rows)
+            if count + rows.size > n // 2:
+                continue  # a group that would make the test more than half the rows
+            if count and abs(count + rows.size - n_test) > abs(count - n_test):
+                break  # nearer the share without it
+            chosen.append(rows)
             count += rows.size
             if count >= n_test:
                 break
-        return np.sort(np.concatenate(taken))
+        return np.sort(np.concatenate(chosen)) if chosen else np.zeros(0, dtype=int)
     return np.sort(rng.permutation(n)[:n_test])
 
 
@@ -77,6 +90,15 @@ def hold_back_test_rows(design: Design, spec: StudySpec) -> tuple[Design, HeldBa
             place,
         )
     test = _test_index(design, spec, n_test)
+    if test.size < MIN_TEST_ROWS:
+        whole = "time" if design.order is not None else "group"
+        raise InputProblem(
+            f"a final test of whole {whole}s near {spec.test_share:.0%} of the {n} rows used "
+            f"in sheet '{design.sheet}' would hold {test.size} rows (a {whole} holds its rows "
+            f"together and the test may take at most half of them), fewer than "
+            f"{MIN_TEST_ROWS}; hold back another share or none",
+            place,
+        )
     keep = np.setdiff1d(np.arange(n), test)
     if keep.size < max(spec.folds if spec.scheme != "loo" else 3, 3):
         raise InputProblem(

@@ -135,3 +135,32 @@ def test_a_column_constant_on_the_rows_left_goes_with_its_products(tmp_path):
     assert {"open", "x1 × open"} <= set(res.design.dropped_columns)
     assert any("x1 × open" in w and "multiplies" in w for w in res.warnings)
     assert res.models[0].test_error is not None
+
+
+def test_whole_times_nearest_the_share_and_never_more_than_half(tmp_path):
+    # quarters holding 46, 11, 67 and 5 rows: 20% of 129 rows is 26; the latest quarter (5
+    # rows) is nearer that than the latest two (72 rows, more than half, which the share's own
+    # limit of 0.5 forbids); a test of one time holding more than half is refused
+    from types import SimpleNamespace
+
+    from engine.tuning.final_test import _test_index
+
+    order = np.repeat([1.0, 2.0, 3.0, 4.0], [46, 11, 67, 5])
+    design = SimpleNamespace(n_rows=order.size, order=order, groups=None)
+    spec = SimpleNamespace(seed=0)
+    test = _test_index(design, spec, 26)
+    assert test.size == 5 and set(order[test]) == {4.0}
+    lopsided = np.repeat([1.0, 2.0], [20, 100])
+    design2 = SimpleNamespace(n_rows=lopsided.size, order=lopsided, groups=None)
+    assert _test_index(design2, spec, 24).size == 0  # the caller refuses, naming the share
+
+
+def test_a_final_test_of_whole_times_that_cannot_be_near_the_share_is_refused(tmp_path):
+    book = _book(tmp_path / "w.xlsx")
+    wb = openpyxl.load_workbook(book)
+    ws = wb.active
+    for r in range(2, 122):  # 100 of the 120 rows in the last week: half at most is 60
+        ws.cell(r, 1).value = 0 if r < 22 else 1
+    wb.save(book)
+    with pytest.raises(InputProblem, match="final test of whole times near 25% of the 120 rows"):
+        run_study(_spec(book, time_order="week", scheme="time", folds=2))

@@ -22,6 +22,46 @@ def _coef(ws, r: int, c: int, value: float, fm: Formats) -> None:
         number(ws, r, c, value, fm)
 
 
+def reads_as(enc) -> str:
+    """What one unit of a model column is, in words a spreadsheet reader can act on: the
+    level a category's coefficient is measured against, the day a date's trend counts from."""
+
+    def named(n, names: tuple[str, ...]) -> str:  # "3" or "3.0" -> the third name
+        try:
+            k = int(float(n))
+        except (TypeError, ValueError):
+            return str(n)
+        return names[k - 1] if 1 <= k <= len(names) else str(n)
+
+    blank = "(blank)"
+    if enc.kind == "number":
+        return "per unit"
+    if enc.kind == "ln":
+        return f"per unit of ln({enc.source}): x2.718 of {enc.source}"
+    if enc.kind == "flag":
+        return "yes against no"
+    if enc.kind == "level":
+        return f"'{enc.level or blank}' against '{enc.reference or blank}'"
+    if enc.kind == "trend":
+        return f"per day from {enc.origin}"
+    if enc.kind == "month":
+        return f"{named(enc.level, _MONTHS)} against {named(enc.reference, _MONTHS)}"
+    if enc.kind == "weekday":
+        return f"{named(enc.level, _WEEKDAYS)} against {named(enc.reference, _WEEKDAYS)}"
+    if enc.kind == "missing":
+        return "an empty cell (filled) against a value"
+    if enc.kind == "product" and enc.factors:
+        return f"{enc.factors[0]} times {enc.factors[1]}"
+    return enc.kind
+
+
+_WEEKDAYS = ("Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday")
+_MONTHS = (
+    "January", "February", "March", "April", "May", "June", "July", "August", "September",
+    "October", "November", "December",
+)  # fmt: skip
+
+
 def write(book, ws, result, fm: Formats) -> None:
     d = result.design
     models = result.models
@@ -37,7 +77,7 @@ def write(book, ws, result, fm: Formats) -> None:
         "(the method left the column out).",
         fm.note,
     )
-    heads = ["Model column", "Source column", "Encoding", "Kept by"]
+    heads = ["Model column", "Source column", "One unit is", "Kept by"]
     heads += [f"{m.method}" for m in models]
     heads += [f"{m.method} (standardized)" for m in models]
     if stab is not None:
@@ -50,7 +90,7 @@ def write(book, ws, result, fm: Formats) -> None:
     for c, h in enumerate(heads):
         text(ws, 4, c, h, fm.heading)
     ws.set_column(0, 1, 24)
-    ws.set_column(2, 2, 10)
+    ws.set_column(2, 2, 30)
     # wide enough for the longest list of methods keeping a column (bold text runs wider)
     ws.set_column(3, 3, min(60, max(28, 1.15 * len(", ".join(m.method for m in models)))))
     ws.set_column(4, len(heads), 14)
@@ -64,7 +104,7 @@ def write(book, ws, result, fm: Formats) -> None:
         name = enc.name
         text(ws, r, 0, name, fm.label)
         text(ws, r, 1, enc.source)
-        text(ws, r, 2, enc.kind if enc.level is None else f"{enc.kind} {enc.level or '(blank)'}")
+        text(ws, r, 2, reads_as(enc), fm.note)
         kept = [m.method for m in models if float(m.coefficients.get(name, 0.0)) != 0.0]
         text(ws, r, 3, ", ".join(kept) if kept else "none", fm.kept if kept else fm.note)
         c = 4
@@ -104,12 +144,13 @@ def write(book, ws, result, fm: Formats) -> None:
             (f"Controls kept for '{f.column}'", ", ".join(f.controls_for_focal) or "none"),
             ("Controls in the final fit (union)", ", ".join(f.controls) or "none"),
         ]
+        # values in the fourth column: the labels run across the empty cells before them
         for label, value in rows:
             text(ws, r, 0, label, fm.label)
             if isinstance(value, str):
-                text(ws, r, 1, value)
+                text(ws, r, 3, value)
             else:
-                number(ws, r, 1, value, fm)
+                number(ws, r, 3, value, fm)
             r += 1
         for note in f.notes:  # how to read it (logs, which label is 1), few groups...
             text(ws, r, 0, note[:1].upper() + note[1:], fm.note)

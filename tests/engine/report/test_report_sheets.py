@@ -257,3 +257,32 @@ def test_typical_size_of_a_prediction():
     # response spanning factors keeps the digits of its smaller predictions
     h = 1.959963984540054 * 0.2
     assert model(2.0, 0.04, smearing=1.02).typical_size == pytest.approx(np.exp(2.0 - h))
+
+
+def test_each_coefficient_says_what_one_unit_of_its_column_is(written):
+    # a colleague without Tamis reads a category's coefficient against its reference level
+    # and a date's per day from its first day (common practice for dummy and trend coding)
+    from engine.report.sheets.coefficients import reads_as
+
+    result, out = written
+    ws = openpyxl.load_workbook(out)["TM Coefficients"]
+    head = next(r for r in range(1, 20) if ws.cell(r, 3).value == "One unit is")
+    shown = {ws.cell(r, 1).value: ws.cell(r, 3).value for r in range(head + 2, ws.max_row + 1)}
+    encs = {e.name: e for e in result.design.encodings}
+    for name, enc in encs.items():
+        assert shown[name] == reads_as(enc)
+    level = next(e for e in encs.values() if e.kind == "level")
+    assert shown[level.name] == f"'{level.level}' against '{level.reference}'"
+    trend = next(e for e in encs.values() if e.kind == "trend")
+    assert shown[trend.name] == f"per day from {trend.origin}"
+    assert shown["organic"] == "yes against no"
+
+
+def test_month_and_weekday_levels_read_by_name():
+    from engine.design import Encoding
+    from engine.report.sheets.coefficients import reads_as
+
+    month = Encoding("d:month=3.0", "d", "A", "month", level="3.0", reference="1.0")
+    assert reads_as(month) == "March against January"
+    day = Encoding("d:weekday=7", "d", "A", "weekday", level="7", reference="1")
+    assert reads_as(day) == "Sunday against Monday"

@@ -52,7 +52,11 @@ class Formats:
         )
         self.prediction = add({"bold": True, "num_format": "General", "left": 2})
         # the look of each kind of number shown to a chosen precision (shown_to)
-        self._looks: dict[str, dict] = {"number": {}, "prediction": {"bold": True, "left": 2}}
+        self._looks: dict[str, dict] = {
+            "number": {},
+            "prediction": {"bold": True, "left": 2},
+            "coefficient": {},
+        }
         self._shown: dict[tuple[str, int], object] = {}
         self.param = add({"num_format": "General", "font_color": "#404040"})
         self.days = add({"num_format": "0"})  # a whole count of days, never shown as a date
@@ -72,8 +76,8 @@ class Formats:
         """A format for numbers of about ``size``, with the decimals that show six significant
         digits of it (a column of predictions then reads alike, 1506.66 beside 98.20, where the
         General format would show as many digits as the column is wide). ``look``: "number"
-        or "prediction" (bold, with a rule on its left). Sizes needing an exponent keep
-        General."""
+        or "prediction" (bold, with a rule on its left) or "coefficient" (a zero shown as 0).
+        Sizes needing an exponent keep General."""
         a = abs(size)
         if not math.isfinite(a) or a < 1e-4 or a >= 1e10:
             return self.prediction if look == "prediction" else self.number
@@ -81,6 +85,8 @@ class Formats:
         key = (look, decimals)
         if key not in self._shown:
             fmt = "0." + "0" * decimals if decimals else "0"
+            if look == "coefficient":  # a zero reads as 0, not a row of zeros
+                fmt = f"{fmt};-{fmt};0"
             self._shown[key] = self._add({**self._looks[look], "num_format": fmt})
         return self._shown[key]
 

@@ -5,7 +5,8 @@ series per column, up to ``MAX_SERIES``; a vertical line marks the chosen penalt
 table: penalty, L1 budget t = sum |beta_j|, L2 budget sum beta_j^2, columns kept, and one column
 per model column that is ever nonzero on the path, in the order of the chart's lines (those
 kept at the chosen penalty first, then by entry along the path). Each line has its own colour
-and line style; beyond ``LEGEND_UP_TO`` lines a note points to the table instead of a legend.
+and line style; beyond ``LEGEND_UP_TO`` lines the legend names the first of them (the columns kept
+at the chosen penalty first) and a note points to the table for the rest.
 """
 
 from __future__ import annotations
@@ -14,7 +15,7 @@ __all__ = ["write", "MAX_SERIES", "CHART_ROWS"]
 
 import numpy as np
 
-from engine.report.bulk_rows import BulkSheet
+from engine.report.bulk_rows import BulkSheet, NumberColumn, style_index
 from engine.report.sheets.cells import Formats, heading_row, number, range_ref, text
 
 MAX_SERIES = 40  # spreadsheet charts cap series counts; the table keeps every column
@@ -82,9 +83,9 @@ def write(
             text(
                 ws, r, 4,
                 f"{len(drawn)} lines{f' of {len(cols)} columns' if len(cols) > len(drawn) else ''}"
-                " are too many for a legend: the table below names them in the order of the "
-                "lines' colours, then line styles (columns kept at the chosen penalty first, "
-                "then by entry along the path)",
+                f": the legend names the first {LEGEND_UP_TO} (columns kept at the chosen penalty "
+                "first, then by entry along the path); the table below names them all in the "
+                "order of the lines' colours, then line styles",
                 fm.note,
             )  # fmt: skip
         r += 1
@@ -109,7 +110,26 @@ def write(
         l1 = np.abs(P).sum(axis=1)
         l2 = (P**2).sum(axis=1)
         kept = (P != 0).sum(axis=1)
-        bulk.add(head + 1, 0, np.column_stack([pen, l1, l2, kept, P[:, cols]]))
+
+        # six significant digits of each kind's largest value (the cells keep every digit);
+        # the penalties span decades, so they keep the General format
+        def shown(values: np.ndarray):
+            top = float(np.max(np.abs(values))) if values.size else 0.0
+            return style_index(fm.shown_to(top if top > 0 else 1.0))
+
+        big = float(np.max(np.abs(P[:, cols]))) if cols else 0.0
+        coef_style = style_index(fm.shown_to(big if big > 0 else 1.0, "coefficient"))
+        bulk.add_columns(
+            head + 1,
+            0,
+            [
+                NumberColumn(pen),
+                NumberColumn(l1, shown(l1)),
+                NumberColumn(l2, shown(l2)),
+                NumberColumn(kept.astype(float)),
+                *(NumberColumn(P[:, j], coef_style) for j in cols),
+            ],
+        )
         if progress is not None:
             progress.step((b + 1) / len(models), f"path of {m.method}")
         first, last = head + 1, head + L
@@ -139,8 +159,13 @@ def write(
         chart.set_title({"name": f"Coefficient path: {m.method}"})
         chart.set_x_axis({"name": "penalty (log scale)", "log_base": 10, "label_position": "low"})
         chart.set_y_axis({"name": "standardized coefficient"})
-        chart.set_legend({"position": "right" if len(drawn) <= LEGEND_UP_TO else "none"})
-        chart.set_size({"width": 640, "height": 20 * CHART_ROWS})
+        # beyond LEGEND_UP_TO lines the legend keeps the first ones (the columns kept at the
+        # chosen penalty come first) and the chosen-penalty line; the table names the rest
+        chart.set_legend(
+            {"position": "right", "delete_series": list(range(LEGEND_UP_TO, len(drawn)))}
+        )
+        # a long legend takes room beside the plot: a wider chart keeps the plot readable
+        chart.set_size({"width": 640 if len(drawn) <= 12 else 900, "height": 20 * CHART_ROWS})
         ws.insert_chart(chart_r, 0, chart, {"x_offset": 5, "y_offset": 5})
         blocks.append((m.method, head))
         r = head + L + 3

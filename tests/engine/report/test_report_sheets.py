@@ -286,3 +286,39 @@ def test_month_and_weekday_levels_read_by_name():
     assert reads_as(month) == "March against January"
     day = Encoding("d:weekday=7", "d", "A", "weekday", level="7", reference="1")
     assert reads_as(day) == "Sunday against Monday"
+
+
+def test_a_path_of_many_lines_keeps_a_legend_for_the_first_ones(tmp_path):
+    # more lines than a legend can hold: the legend names the first LEGEND_UP_TO (the columns
+    # kept at the chosen penalty first) and the chosen-penalty line; the others' entries are
+    # deleted (ECMA-376 Part 1, 21.2.2.94 legendEntry with delete), the table names them all
+    from engine.report.sheets.path import LEGEND_UP_TO
+    from engine.study import run_study
+    from engine.study_spec import StudySpec
+
+    rng = np.random.default_rng(2)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    p = 45
+    ws.append(["y"] + [f"x{j}" for j in range(p)])
+    for _ in range(90):
+        x = rng.normal(size=p)
+        ws.append([float(x @ np.linspace(1, 0.2, p) + rng.normal())] + [float(v) for v in x])
+    wb.save(tmp_path / "many.xlsx")
+    res = run_study(
+        StudySpec(source=str(tmp_path / "many.xlsx"), response="y", methods=("lasso",), folds=5)
+    )
+    out = write_results(res, out=tmp_path / "results.xlsx")
+    chart = next(c for c in _charts(out).values() if "Coefficient path: lasso" in c)
+    lines = chart.count("<c:ser>") - 1  # the chosen-penalty line is the last series
+    assert lines > LEGEND_UP_TO
+    assert "<c:legend>" in chart and '<c:legendPos val="r"/>' in chart
+    deleted = {
+        int(i) for i in re.findall(r'<c:legendEntry><c:idx val="(\d+)"/><c:delete val="1"/>', chart)
+    }
+    assert deleted == set(range(LEGEND_UP_TO, lines))
+    # the table's coefficients to six significant digits of the largest, a zero as 0
+    sheet = openpyxl.load_workbook(out)["TM Path"]
+    head = next(r for r in range(1, 80) if sheet.cell(r, 1).value == "Penalty")
+    fmt = sheet.cell(head + 1, 5).number_format
+    assert re.fullmatch(r"0\.0+;-0\.0+;0", fmt), fmt

@@ -191,12 +191,18 @@ def test_the_study_names_the_slipped_cells_and_the_unusual_row(tmp_path):
     refs = re.findall(r"<c:f>(.*?)</c:f>", chart)
     marked = get_column_letter(heads.index("Actual value of an unusual row (for the chart)") + 1)
     fitted_col = get_column_letter(heads.index("Fitted (ols)") + 1)
+    line = get_column_letter(heads.index("Line of equal values (for the chart)") + 1)
     assert refs == [
         f"'TM Fitted'!${fitted_col}$5:${fitted_col}$239",
         "'TM Fitted'!$B$5:$B$239",
         f"'TM Fitted'!${fitted_col}$5:${fitted_col}$239",
         f"'TM Fitted'!${marked}$5:${marked}$239",
+        f"'TM Fitted'!${line}$5:${line}$6",  # the line where fitted equals actual
+        f"'TM Fitted'!${line}$5:${line}$6",
     ]
+    ends = [r[heads.index("Line of equal values (for the chart)")] for r in table[1:3]]
+    actual = [r[1] for r in table[1:]]
+    assert ends[0] <= min(actual) and ends[1] >= max(actual)
     assert '<c:dispBlanksAs val="span"/>' in chart
     marked_values = [
         r[heads.index("Actual value of an unusual row (for the chart)")] for r in table[1:]

@@ -8,7 +8,7 @@ __all__ = ["write", "CHART_MAX_ROWS"]
 
 import numpy as np
 
-from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn
+from engine.report.bulk_rows import BulkSheet, NumberColumn, TextColumn, style_index
 from engine.report.names import FITTED
 from engine.report.sheets.cells import Formats, heading_row, range_ref, text
 
@@ -46,6 +46,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         )
         heads += ["Leverage", "Studentized residual", "Cook's distance", "Unusual"]
         heads.append("Actual value of an unusual row (for the chart)")
+    heads.append("Line of equal values (for the chart)")
     heading_row(ws, 3, heads[1:], 16)
     for c, h in enumerate(heads):
         text(ws, 3, c, h, fm.heading)
@@ -60,16 +61,32 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         columns += [f, y - f]
     if progress is not None:
         progress.step(0.5, "fitted values")
-    cells: list[NumberColumn | TextColumn] = [NumberColumn(c) for c in columns]
+    # the response's values to six significant digits of its size, the measures to four
+    size = float(np.max(np.abs(y))) if y.size else 1.0
+    in_units = style_index(fm.shown_to(size if size > 0 else 1.0))
+    measure = style_index(fm.shown_to(10.0))
+    cells: list[NumberColumn | TextColumn] = [NumberColumn(rows)]
+    cells += [NumberColumn(c, in_units) for c in columns[1:]]
     if inf is not None:
         cells += [
-            NumberColumn(inf.leverage),
-            NumberColumn(inf.studentized),
-            NumberColumn(inf.cooks),
+            NumberColumn(inf.leverage, measure),
+            NumberColumn(inf.studentized, measure),
+            NumberColumn(inf.cooks, measure),
         ]
         flags = inf.flags()
         cells.append(TextColumn([w or None for w in flags]))
-        cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan)))
+        cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan), in_units))
+    # two points, the lowest and highest value of actual and fitted alike: the chart's line
+    # where fitted equals actual, over axes of the same range
+    both = np.concatenate([y] + [np.asarray(m.fitted, dtype=float) for m in models])
+    both = both[np.isfinite(both)]
+    lo, hi = (float(both.min()), float(both.max())) if both.size else (0.0, 1.0)
+    if hi > lo:  # out to round numbers, so the axes' ticks fall on them (80 to 89, not 80.14)
+        step = 10.0 ** np.floor(np.log10(hi - lo))
+        lo, hi = float(np.floor(lo / step) * step), float(np.ceil(hi / step) * step)
+    equal = np.full(d.n_rows, np.nan)
+    equal[: min(2, d.n_rows)] = [lo, hi][: min(2, d.n_rows)]
+    cells.append(NumberColumn(equal, in_units))
     bulk.add_columns(4, 0, cells)
     scoring = result.influence_method or (result.scoring_method() if models else None)
     if scoring is None or f"Fitted ({scoring})" not in heads or not 0 < d.n_rows <= CHART_MAX_ROWS:
@@ -95,7 +112,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
             {
                 "name": "unusual rows",
                 "categories": range_ref(FITTED, first, fitted_col, last, fitted_col),
-                "values": range_ref(FITTED, first, len(heads) - 1, last, len(heads) - 1),
+                "values": range_ref(FITTED, first, len(heads) - 2, last, len(heads) - 2),
                 "marker": {
                     "type": "diamond",
                     "size": 8,
@@ -104,9 +121,21 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
                 },
             }
         )
+    line = len(heads) - 1
+    chart.add_series(
+        {
+            "name": "fitted = actual",
+            "categories": range_ref(FITTED, first, line, first + 1, line),
+            "values": range_ref(FITTED, first, line, first + 1, line),
+            "line": {"color": "#7f7f7f", "dash_type": "dash", "width": 1},
+            "marker": {"type": "none"},
+        }
+    )
     chart.set_title({"name": f"Actual against fitted: {scoring}"})
-    chart.set_x_axis({"name": f"fitted {d.response_label}", "label_position": "low"})
-    chart.set_y_axis({"name": f"actual {d.response_label}", "label_position": "low"})
+    # the same range on both axes, so the cloud's spread about the line is not distorted
+    bounds = {"min": lo, "max": hi} if hi > lo else {}
+    chart.set_x_axis({"name": f"fitted {d.response_label}", "label_position": "low", **bounds})
+    chart.set_y_axis({"name": f"actual {d.response_label}", "label_position": "low", **bounds})
     chart.set_legend({"position": "bottom"})
     # the unusual rows' column is empty elsewhere: "span" is written out (the default, gap, is
     # left implicit, which LibreOffice reads as zero); with no line between points it draws

@@ -125,6 +125,8 @@ def example_rows(
 # stays far below that)
 _CHECK_IN_ONE_CELL = 2000
 _MISSING_WORDS = ",".join(f'"{w}"' for w in sorted(MISSING_WORDS))
+# characters of a row's Check shown at most (all its messages fit many times over)
+_CHECK_SHOWN = 32_000
 
 
 def _miss_expr(enc, fill_ref: str, src: str) -> str:
@@ -461,38 +463,38 @@ def write(
             say(
                 s_i,
                 f'IF(OR(ISBLANK({cell}),ISERROR({cell})),"",IF(SUMPRODUCT(--EXACT(LOWER(TRIM({cell})),LOWER({lv_rng})))=0,'
-                f'"unseen level in {col_name(s_i)}; ",""))',
+                f'"; unseen level in {col_name(s_i)}",""))',
             )
         for s_i in blank_means_none:  # no value and no stored fill: no prediction, say why
             cell = cell_ref(r, s_i, False, True)
             missing = _missing_cell_test(cell, labels=sources[s_i] in cat_sources)
             say(
                 s_i,
-                f'IF(AND(NOT({empty}),{missing}),"no value in {col_name(s_i)}; ","")',
+                f'IF(AND(NOT({empty}),{missing}),"; no value in {col_name(s_i)}","")',
             )
         for s_i, kind in typed_sources:  # text typed where a number or date belongs
             cell = cell_ref(r, s_i, False, True)
             say(
                 s_i,
                 f'IF(OR(ISNUMBER({cell}),{_missing_cell_test(cell)}),"",'
-                f'"not a {kind} in {col_name(s_i)} (type it as a {kind}); ")',
+                f'"; not a {kind} in {col_name(s_i)} (type it as a {kind})")',
             )
         for s_i in flag_sources:  # a word the yes/no formulas do not know
             cell = cell_ref(r, s_i, False, True)
             say(
                 s_i,
-                f'IF(ISNUMBER({cell}),IF(OR({cell}=0,{cell}=1),"","not yes/no in '
-                f'{col_name(s_i)} (0 or 1); "),'
+                f'IF(ISNUMBER({cell}),IF(OR({cell}=0,{cell}=1),"","; not yes/no in '
+                f'{col_name(s_i)} (0 or 1)"),'
                 f'IF(OR(ISLOGICAL({cell}),{_missing_cell_test(cell)}),"",'
                 f'IF(OR(LOWER(TRIM({cell}))={{{flag_words}}}),"",'
-                f'"not yes/no in {col_name(s_i)}; ")))',
+                f'"; not yes/no in {col_name(s_i)}")))',
             )
         for s_i in filled_sources:  # an empty cell took the stored fill: say so
             cell = cell_ref(r, s_i, False, True)
             say(
                 s_i,
                 f"IF(AND(NOT({empty}),{_missing_cell_test(cell)}),"
-                f'"{col_name(s_i)} empty: the stored fill used; ","")',
+                f'"; {col_name(s_i)} empty: the stored fill used","")',
             )
         for source, part, seen in model.seen_date_parts():  # a month no fitted row was in
             s_i = sources.index(source)
@@ -502,13 +504,13 @@ def write(
             say(
                 s_i,
                 f'IF(ISNUMBER({cell}),IF(OR({fn}={{{known}}}),"",'
-                f'"{part} not seen in fitting in {col_name(s_i)}; "),"")',
+                f'"; {part} not seen in fitting in {col_name(s_i)}"),"")',
             )
         for s_i in logged_sources:  # a number with no log
             cell = cell_ref(r, s_i, False, True)
             say(
                 s_i,
-                f'IF(ISNUMBER({cell}),IF({cell}<=0,"not above 0 (no ln) in {col_name(s_i)}; ",""),"")',
+                f'IF(ISNUMBER({cell}),IF({cell}<=0,"; not above 0 (no ln) in {col_name(s_i)}",""),"")',
             )
         for j, enc in enumerate(encs):
             lows, highs = model.lows, model.highs
@@ -522,7 +524,7 @@ def write(
             say(
                 s_i,
                 f"IF(ISNUMBER({e_cell}),IF(OR({e_cell}<{lo},{e_cell}>{hi}),"
-                f'"outside the fitted range in {col_name(s_i)}; ",""),"")',
+                f'"; outside the fitted range in {col_name(s_i)}",""),"")',
             )
         return by_source
 
@@ -642,14 +644,15 @@ def write(
                     ecached = math.exp(ev) if model.response_log else ev
                 ws.write_formula(r, c, f'=IF(ISNUMBER({p_cell}),{end},"")', shown_end, ecached)
         by_source = check_parts(r)
+        # each message starts with "; ": MID from the third character drops the first one
         whole = "&".join(f for s_i in sorted(by_source) for f in by_source[s_i])
         if whole and not check_helpers:
-            ws.write_formula(r, check_col, "=" + whole, None, "")
+            ws.write_formula(r, check_col, f"=MID({whole},3,{_CHECK_SHOWN})", None, "")
         elif whole:
             for s_i, parts in sorted(by_source.items()):
                 ws.write_formula(r, check0 + s_i, "=" + "&".join(parts), fm.param, "")
             joined = "&".join(cell_ref(r, check0 + s_i) for s_i in sorted(by_source))
-            ws.write_formula(r, check_col, "=" + joined, None, "")
+            ws.write_formula(r, check_col, f"=MID({joined},3,{_CHECK_SHOWN})", None, "")
     ws.freeze_panes(first, 0)
     return ScoringLayout(
         header_row=header,

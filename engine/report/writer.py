@@ -112,8 +112,8 @@ def write_results(
             )
         if suffix == ".xlsm" and target.suffix.lower() != ".xlsm":
             raise InputProblem(
-                f"'{source}' holds macros; give the output a name ending in .xlsm so "
-                "they keep working",
+                f"'{source}' is a macro-enabled workbook (.xlsm), and the copy keeps its "
+                "parts as they are declared: give the output a name ending in .xlsm",
                 Place(file=str(target)),
             )
     check_writable(target)

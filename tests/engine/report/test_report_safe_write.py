@@ -15,7 +15,7 @@ import pytest
 from rich_workbook import write_rich
 from study_fixture import make_result
 
-from engine.errors import SourceChanged, WriteProblem
+from engine.errors import InputProblem, SourceChanged, WriteProblem
 from engine.report import fingerprint, safe_write, write_results
 from engine.report.writer import verify_results_file
 
@@ -173,3 +173,13 @@ def test_in_place_keeps_the_file_mode_and_new_files_get_the_usual_one(tmp_path):
     finally:
         os.umask(umask)
     assert out.stat().st_mode & 0o777 == 0o644
+
+
+def test_a_macro_enabled_source_needs_an_xlsm_output(tmp_path):
+    # the copy keeps the workbook's parts as declared (macro-enabled), which an .xlsx name
+    # would contradict (ECMA-376 Part 2 content types; a spreadsheet program refuses the file)
+    result, _ = make_result(tmp_path, name="book.xlsm")
+    with pytest.raises(InputProblem, match=r"macro-enabled workbook \(\.xlsm\).*ending in \.xlsm"):
+        write_results(result, out=tmp_path / "results.xlsx")
+    assert not (tmp_path / "results.xlsx").exists()
+    assert write_results(result, out=tmp_path / "results.xlsm").exists()

@@ -2,7 +2,8 @@
 
 Used when results are written for a source that is not an .xlsx/.xlsm package: the output then
 holds the data and our sheets. Text stays text (``write_string``), numbers numbers, booleans
-booleans, dates dates; formulas of .xls/.ods sources arrive as their last computed values.
+booleans, dates dates (in a text file, those written as ISO 8601 dates); formulas of .xls/.ods
+sources arrive as their last computed values.
 """
 
 from __future__ import annotations
@@ -34,6 +35,22 @@ def _plain_number(value: str, decimal: str) -> float | None:
     return float(plain) if _NUMBER.match(plain) else None
 
 
+_ISO = re.compile(r"^\d{4}-\d{2}-\d{2}([ T]\d{2}:\d{2}(:\d{2})?)?$")
+_MIDNIGHT = _dt.time(0)
+
+
+def _iso_date(value: str) -> _dt.datetime | None:
+    """A field written as an ISO 8601 date (or date and time): the one way of writing dates
+    that reads the same everywhere; other date texts stay text, as typed."""
+    plain = value.strip()
+    if not _ISO.match(plain):
+        return None
+    try:
+        return _dt.datetime.fromisoformat(plain)
+    except ValueError:
+        return None
+
+
 def sheet_name_for_csv(path: Path) -> str:
     return (_BAD.sub("_", path.stem).strip("'") or "data")[:31]
 
@@ -53,10 +70,15 @@ def copy_to_xlsx(source: str | Path, target: str | Path) -> None:
                     if value == "":
                         continue
                     number = _plain_number(value, text.decimal)
-                    if number is None:
-                        ws.write_string(r, c, value)
-                    else:
+                    when = _iso_date(value) if number is None else None
+                    if number is not None:
                         ws.write_number(r, c, number)
+                    elif when is not None:  # a date a spreadsheet can sort and filter
+                        ws.write_datetime(
+                            r, c, when, date_fmt if when.time() == _MIDNIGHT else time_fmt
+                        )
+                    else:
+                        ws.write_string(r, c, value)
             return
         import python_calamine as calamine
 

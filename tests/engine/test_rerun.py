@@ -113,3 +113,29 @@ def test_rerun_of_a_workbook_study_reads_the_sheet_it_read(tmp_path):
     code, out, err = _main(["rerun", str(book), "--json"], tmp_path)
     assert code == 0, err
     assert json.loads(out)["reproduced"] is True
+
+
+def test_iso_dates_of_a_text_file_are_dates_in_the_copied_sheet_and_rerun_the_same(tmp_path):
+    # a colleague sorts and filters by date in the results workbook: ISO 8601 dates of a text
+    # file are copied as date cells (the same days), and the study still reproduces from it
+    import datetime as dt
+
+    import openpyxl
+
+    rng = np.random.default_rng(6)
+    lines = ["day,y,x"]
+    for i in range(60):
+        day = dt.date(2024, 1, 1) + dt.timedelta(days=3 * i)
+        x = float(rng.normal())
+        lines.append(f"{day.isoformat()},{1 + 0.01 * i + x + rng.normal(0, 0.2)!r},{x!r}")
+    source = tmp_path / "daily.csv"
+    source.write_text("\n".join(lines) + "\n")
+    results = tmp_path / "results.xlsx"
+    argv = ["fit", str(source), "--response", "y", "--methods", "lasso", "--folds", "5"]
+    code, _, err = _main([*argv, "--out", str(results)], tmp_path)
+    assert code == 0, err
+    sheet = openpyxl.load_workbook(results)["daily"]
+    assert sheet.cell(2, 1).value == dt.datetime(2024, 1, 1)
+    assert sheet.cell(2, 1).number_format == "yyyy-mm-dd"
+    code, out, err = _main(["rerun", str(results), "--json"], tmp_path)
+    assert code == 0 and json.loads(out)["reproduced"] is True, err

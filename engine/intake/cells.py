@@ -115,6 +115,20 @@ def numbered_name(base: str, taken: set[str]) -> str:
     return name
 
 
+def repeated_headings_warning(renamed: list[str], named: int = 5) -> str:
+    """The table's warning about columns read under a numbered name because their heading was
+    used before (``renamed``: each such column as "D 'price (2)'"); "" when none was."""
+    if not renamed:
+        return ""
+    shown = ", ".join(renamed[:named]) + (" ..." if len(renamed) > named else "")
+    one = len(renamed) == 1
+    return (
+        f"{len(renamed)} {'column repeats' if one else 'columns repeat'} an earlier heading and "
+        f"{'is' if one else 'are'} read under a numbered name ({shown}); a name alone means the "
+        "first column with that heading"
+    )
+
+
 def cell_name(letter: str, row: int) -> str:
     """A cell reference for messages: "C12" for a workbook; "row 12, column 3" for CSV."""
     if letter.isdigit():

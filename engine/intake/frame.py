@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from engine.errors import InputProblem
-from engine.intake.cells import column_letter, numbered_name
+from engine.intake.cells import column_letter, numbered_name, repeated_headings_warning
 from engine.intake.classify import classify_column
 from engine.intake.table import SheetInfo, Table
 
@@ -58,6 +58,7 @@ def read_frame(frame, name: str = "DataFrame") -> Table:
     row_numbers = np.arange(2, n + 2, dtype=np.int64)
     out = []
     taken: set[str] = set()
+    renamed: list[str] = []
     for j, heading in enumerate(headings):
         # by position: a label used twice would give a table, not a column
         values = frame.iloc[:, j] if hasattr(frame, "iloc") else frame[columns[j]]
@@ -68,15 +69,15 @@ def read_frame(frame, name: str = "DataFrame") -> Table:
         cells[:] = ["" if gone else _cell(v) for v, gone in zip(listed, missing)]
         col_name = numbered_name(heading, taken)
         taken.add(col_name.casefold())
-        out.append(
-            classify_column(
-                cells,
-                name=col_name,
-                heading=heading,
-                letter=column_letter(j),
-                row_numbers=row_numbers,
-            )  # fmt: skip
+        col = classify_column(
+            cells, name=col_name, heading=heading, letter=column_letter(j), row_numbers=row_numbers
         )
+        if col_name != heading:  # a label used twice: said, as the sheet reader says it
+            col.notes.insert(
+                0, f"heading '{heading}' is also used by an earlier column; renamed '{col_name}'"
+            )
+            renamed.append(f"column {j + 1} '{col_name}'")
+        out.append(col)
     return Table(
         source=Path(name),
         sheet=name,
@@ -85,4 +86,5 @@ def read_frame(frame, name: str = "DataFrame") -> Table:
         columns=out,
         row_numbers=row_numbers,
         file_format="frame",
+        warnings=[w for w in (repeated_headings_warning(renamed),) if w],
     )

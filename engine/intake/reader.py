@@ -23,6 +23,7 @@ from engine.intake.cells import (
     is_error_text,
     numbered_name,
     parse_number_text,
+    repeated_headings_warning,
     text_number_convention,
 )
 from engine.intake.classify import UNCACHED, classify_column, worth_a_warning
@@ -412,12 +413,7 @@ def _build_table(
             )
 
     if renamed:
-        shown = ", ".join(renamed[:NAMED_CELLS]) + (" ..." if len(renamed) > NAMED_CELLS else "")
-        warnings.append(
-            f"{len(renamed)} {'column repeats' if len(renamed) == 1 else 'columns repeat'} an "
-            f"earlier heading and {'is' if len(renamed) == 1 else 'are'} read under a numbered "
-            f"name ({shown}); a name alone means the first column with that heading"
-        )
+        warnings.append(repeated_headings_warning(renamed, NAMED_CELLS))
     if unnamed:
         shown = ", ".join(unnamed[:NAMED_CELLS]) + (" ..." if len(unnamed) > NAMED_CELLS else "")
         warnings.append(

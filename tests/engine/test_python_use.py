@@ -89,3 +89,9 @@ def test_a_dataframe_with_missing_dates_and_a_repeated_label_reads_like_a_sheet(
     assert [c.missing for c in table.columns] == [1, 1, 1, 1]
     assert np.isnat(table.column("day").values[1])
     assert table.row_numbers.tolist() == [2, 3, 4]  # as on a sheet with headings in row 1
+    # and said, in the sheet reader's words: a name alone means the first such column
+    assert table.warnings == [
+        "1 column repeats an earlier heading and is read under a numbered name "
+        "(column 4 'x (2)'); a name alone means the first column with that heading"
+    ]
+    assert table.column("x (2)").notes[0].startswith("heading 'x' is also used")

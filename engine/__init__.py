@@ -31,6 +31,7 @@ _PUBLIC = {
     "Cancelled": "engine.errors",
     "InputProblem": "engine.errors",
     "TamisError": "engine.errors",
+    "TamisWarning": "engine.errors",
     "read_table": "engine.intake",
     "read_frame": "engine.intake",
     "write_results": "engine.report",

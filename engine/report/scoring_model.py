@@ -645,11 +645,21 @@ class ScoringModel:
 
 
 def as_table(rows):
-    """New rows as an intake Table: a Table as it is, a pandas DataFrame read like a sheet."""
+    """New rows as an intake Table: a Table as it is, a pandas DataFrame read like a sheet
+    (what reading it found, a repeated column label say, raised as a TamisWarning: a Python
+    user has no other place to see it)."""
+    import warnings
+
+    from engine.errors import TamisWarning
     from engine.intake.frame import read_frame
     from engine.intake.table import Table
 
-    return rows if isinstance(rows, Table) else read_frame(rows, "new rows")
+    if isinstance(rows, Table):
+        return rows
+    table = read_frame(rows, "new rows")
+    for said in table.warnings:
+        warnings.warn(f"new rows: {said}", TamisWarning, stacklevel=3)
+    return table
 
 
 def _numbers_in_text(values, points: bool = False) -> np.ndarray:

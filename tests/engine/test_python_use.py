@@ -72,6 +72,11 @@ def test_new_rows_in_a_dataframe_score_like_the_same_rows_in_a_workbook(tmp_path
     assert "'west'" in notes[3]
     with pytest.raises(TypeError, match="expected a pandas DataFrame or an intake Table"):
         model.predict([[1.0, "north"]])
+    # a label used twice among the new rows: the first such column is read, and it is said
+    twice = pd.concat([new, new[["price"]] * 100], axis=1)
+    with pytest.warns(engine.TamisWarning, match="new rows: 1 column repeats an earlier heading"):
+        again = model.predict(twice)
+    np.testing.assert_allclose(again, from_frame, rtol=1e-12)
 
 
 def test_a_dataframe_with_missing_dates_and_a_repeated_label_reads_like_a_sheet():

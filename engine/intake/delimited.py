@@ -46,9 +46,16 @@ def _decode(data: bytes, place: Place) -> tuple[str, str]:
     if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
         return data.decode("utf-16", errors="replace"), "utf-16"
     if b"\x00" in data[:4096]:
+        # UTF-16 without its byte-order mark: text whose every other byte is zero (ASCII
+        # letters and digits), little- or big-endian by which half the zeros are in
+        head = data[: 4096 - 4096 % 2]
+        odd, even = head[1::2], head[0::2]
+        for zeros, codec in ((odd, "utf-16-le"), (even, "utf-16-be")):
+            if len(zeros) and zeros.count(0) >= 0.9 * len(zeros):
+                return data.decode(codec, errors="replace"), f"{codec} (no byte-order mark)"
         raise InputProblem(
-            f"{place.describe()} does not look like text (it holds binary bytes); "
-            "a .csv file must be plain text",
+            f"{place.describe()} does not look like text (it holds binary bytes); a text "
+            "table must be plain text (UTF-8, UTF-16 or a Windows encoding)",
             place,
         )
     try:

@@ -8,6 +8,7 @@ import io
 import numpy as np
 import pytest
 
+from engine.errors import InputProblem
 from engine.intake import ColumnKind, read_table
 
 ROWS = [
@@ -184,3 +185,20 @@ def test_numbers_whose_value_depends_on_the_decimal_mark_are_said_in_a_text_file
         "'7,25') read as 7.25" in said
     ), said
     assert a.missing == e.missing == 0
+
+
+@pytest.mark.parametrize("codec", ["utf-16-le", "utf-16-be"])
+def test_utf16_without_a_byte_order_mark_is_read(tmp_path, codec):
+    # some exports write UTF-16 with no byte-order mark (the Unicode Standard allows it; the
+    # byte order then shows in which byte of each ASCII character is zero)
+    text = "site\tvalue\n" + "".join(f"Zürich {i}\t{i}.5\n" for i in range(12))
+    path = tmp_path / "export.tsv"
+    path.write_bytes(text.encode(codec))
+    table = read_table(path)
+    assert table.reading["encoding"] == f"{codec} (no byte-order mark)"
+    assert table.column("value").values[3] == 3.5
+    assert table.column("site").values[0] == "Zürich 0"
+    garbage = tmp_path / "garbage.csv"
+    garbage.write_bytes(bytes(range(256)) * 8)
+    with pytest.raises(InputProblem, match="does not look like text"):
+        read_table(garbage)

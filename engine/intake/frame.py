@@ -38,6 +38,10 @@ def _cell(value: object) -> object:
     if hasattr(value, "to_pydatetime"):  # a pandas Timestamp (NaT never gets here: the caller
         # took pandas' missing markers out)
         value = value.to_pydatetime()
+    if isinstance(value, _dt.datetime) and value.tzinfo is not None:
+        # a time-zone-aware stamp: its wall-clock time there, as a sheet would show it (not
+        # converted to UTC, which can move a date to the day before)
+        value = value.replace(tzinfo=None)
     if isinstance(value, _dt.datetime | _dt.date):
         return value
     return str(value)

@@ -100,3 +100,18 @@ def test_a_dataframe_with_missing_dates_and_a_repeated_label_reads_like_a_sheet(
         "(column 4 'x (2)'); a name alone means the first column with that heading"
     ]
     assert table.column("x (2)").notes[0].startswith("heading 'x' is also used")
+
+
+def test_time_zone_aware_stamps_keep_their_local_day():
+    # 00:30 in Berlin is 23:30 the day before in UTC; a sheet shows the local wall-clock time,
+    # and so does a DataFrame read as one (pandas' tz_localize, general-purpose library)
+    frame = pd.DataFrame(
+        {
+            "day": pd.to_datetime(["2024-03-01 00:30", "2024-03-02 00:30"]).tz_localize(
+                "Europe/Berlin"
+            ),
+            "x": [1.0, 2.0],
+        }
+    )
+    values = engine.read_frame(frame).column("day").values
+    assert [str(v)[:16] for v in values] == ["2024-03-01T00:30", "2024-03-02T00:30"]

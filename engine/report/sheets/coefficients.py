@@ -86,6 +86,16 @@ def write(book, ws, result, fm: Formats) -> None:
     text(ws, 3, 0, "Units:", fm.note)
     text(ws, 3, 4, "original units", fm.note)
     text(ws, 3, 4 + len(models), "standardized", fm.note)
+    if with_se:  # the caution where the numbers are read, not only on the Summary
+        se0 = 4 + 2 * len(models) + (2 if stab is not None else 0)
+        text(
+            ws,
+            3,
+            se0,
+            "standard errors after selection: too small to judge whether a column matters "
+            "(they ignore the choosing of the columns)",
+            fm.note,
+        )
     heading_row(ws, 4, heads[4:], 14)
     for c, h in enumerate(heads):
         text(ws, 4, c, h, fm.heading)

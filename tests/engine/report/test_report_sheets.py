@@ -322,3 +322,16 @@ def test_a_path_of_many_lines_keeps_a_legend_for_the_first_ones(tmp_path):
     head = next(r for r in range(1, 80) if sheet.cell(r, 1).value == "Penalty")
     fmt = sheet.cell(head + 1, 5).number_format
     assert re.fullmatch(r"0\.0+;-0\.0+;0", fmt), fmt
+
+
+def test_the_post_selection_caution_sits_above_the_standard_errors(written):
+    # the caution where a reader reads the numbers (common practice: standard errors after
+    # selection ignore the selection step), not only among the Summary's cautions
+    result, out = written
+    ws = openpyxl.load_workbook(out)["TM Coefficients"]
+    head = next(r for r in range(1, 20) if ws.cell(r, 3).value == "One unit is")
+    se_col = next(
+        c for c in range(1, ws.max_column + 1)
+        if str(ws.cell(head, c).value).endswith("robust standard error")
+    )  # fmt: skip
+    assert ws.cell(head - 1, se_col).value.startswith("standard errors after selection")

@@ -355,8 +355,9 @@ def _validation_parts(design: Design, spec: StudySpec) -> list[tuple[np.ndarray,
             )
         raise InputProblem(
             f"{n} rows are used in sheet '{design.sheet}'{left_out} but {spec.folds} folds "
-            f"were asked; use --folds {n} or fewer ({max(2, n // 2)} or fewer give every part "
-            f"two rows or more), or more rows{keep_rows}",
+            f"were asked; use --folds {n} or fewer"
+            + (f" ({n // 2} or fewer give every part two rows or more)" if n >= 4 else "")
+            + f", or more rows{keep_rows}",
             place,
         )
     try:

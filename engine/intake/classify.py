@@ -212,6 +212,8 @@ def _plain_number_texts(texts: np.ndarray, decimal: str) -> np.ndarray | None:
 
 
 _LEADING_ZERO = re.compile(r"^[ +-]*0\d", re.M)
+# a plain number with one decimal mark and no grouping: "7,25", "-0.5"
+_ONE_DECIMAL_MARK = re.compile(r"[+-]?\d+[.,]\d+")
 _KNOWN_TYPES = frozenset({str, float, int, bool, dt.datetime, dt.date, dt.timedelta})
 _NAN = float("nan")
 # what one cell holds: (code, number, flag value, what a person sees, date)
@@ -305,9 +307,13 @@ def _text_records(
             info[u] = (_TEXT_DATE, _NAN, _NAN, s, parsed_dates[u])
         else:
             num = None if _is_code(s) else parse_number_text(s, conv)
-            if num is None and not _is_code(s) and (alt := parse_number_text(s, other)) is not None:
-                num = alt  # "7,25" among "8.66" and "10.5": a decimal comma, read as 7.25
-                other_mark.add(u)
+            if num is None and _ONE_DECIMAL_MARK.fullmatch(s) and not _is_code(s):
+                # "7,25" among "8.66" and "10.5": a decimal comma, read as 7.25 (only a plain
+                # number with one mark: "1,234,567" or an address "192.168.1.2" stays text)
+                alt = parse_number_text(s, other)
+                if alt is not None:
+                    num = alt
+                    other_mark.add(u)
             low = s.lower()
             limit = limit_value(s, conv) if num is None else None
             with_unit = _number_and_unit(s, conv) if num is None and limit is None else None
@@ -433,7 +439,7 @@ def _number_and_unit(text: str, mark: str) -> tuple[float, str] | None:
 
 
 def _reads_both_ways(text: str) -> bool:
-    """Whether a text is a number under either decimal mark, a different one ("8.666")."""
+    """Whether a text is a number under both decimal marks, with different values ("8.666")."""
     a, b = parse_number_text(text, "."), parse_number_text(text, ",")
     return a is not None and b is not None and a != b
 
@@ -691,11 +697,17 @@ def _classify_mixed(
         )
         col.missing = empty_cells + n_errors + int(counts[_NOFORMULA]) + bad
         _fill_numeric_summary(col, uniq)
-        if from_text_file and mark_note and finding_of(mark_note):
-            # in a text file every number is text: say which mark ambiguous ones were read with,
-            # showing one whose value depends on it
-            texts = np.flatnonzero(codes == _TEXT_NUMBER).tolist()
-            first = next((k for k in texts if _reads_both_ways(str(shown[k]))), texts[0])
+        # in a text file every number is text: say which mark was chosen for those whose value
+        # depends on it, with one of them (none such: nothing to say)
+        ambiguous = [
+            k
+            for k in np.flatnonzero(keep).tolist()
+            if codes[k] in (_TEXT_NUMBER, _TEXT_LIMIT, _TEXT_UNIT)
+            and shown[k] not in other_mark
+            and _reads_both_ways(_number_part(str(shown[k])))
+        ]
+        if from_text_file and mark_note and finding_of(mark_note) and ambiguous:
+            first = ambiguous[0]
             notes.append(
                 ColumnNote(
                     f"numbers such as {cell_at(first)} '{shown[first]}' "

@@ -48,11 +48,18 @@ def _decode(data: bytes, place: Place) -> tuple[str, str]:
     if b"\x00" in data[:4096]:
         # UTF-16 without its byte-order mark: text whose every other byte is zero (ASCII
         # letters and digits), little- or big-endian by which half the zeros are in
-        head = data[: 4096 - 4096 % 2]
+        head = data[:4096]
+        head = head[: len(head) - len(head) % 2]
         odd, even = head[1::2], head[0::2]
-        for zeros, codec in ((odd, "utf-16-le"), (even, "utf-16-be")):
-            if len(zeros) and zeros.count(0) >= 0.9 * len(zeros):
-                return data.decode(codec, errors="replace"), f"{codec} (no byte-order mark)"
+        for zeros, chars, codec in ((odd, even, "utf-16-le"), (even, odd, "utf-16-be")):
+            if (
+                len(zeros)
+                and zeros.count(0) >= 0.9 * len(zeros)  # the high bytes of ASCII characters
+                and chars.count(0) <= 0.01 * len(chars)  # the characters themselves
+            ):
+                text = data.decode(codec, errors="replace")
+                if "\x00" not in text[:2048] and "\n" in text[:2048]:  # lines of text
+                    return text, f"{codec} (no byte-order mark)"
         raise InputProblem(
             f"{place.describe()} does not look like text (it holds binary bytes); a text "
             "table must be plain text (UTF-8, UTF-16 or a Windows encoding)",

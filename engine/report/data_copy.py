@@ -46,9 +46,11 @@ def _iso_date(value: str) -> _dt.datetime | None:
     if not _ISO.match(plain):
         return None
     try:
-        return _dt.datetime.fromisoformat(plain)
+        when = _dt.datetime.fromisoformat(plain)
     except ValueError:
         return None
+    # a spreadsheet's dates start in 1900: earlier ones stay text, as written
+    return when if when.year >= 1900 else None
 
 
 def sheet_name_for_csv(path: Path) -> str:

@@ -44,6 +44,7 @@ import difflib
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
+from pathlib import Path
 
 import numpy as np
 
@@ -644,6 +645,22 @@ class ScoringModel:
         return float(self.to_response_units(np.array([linear]))[0])
 
 
+_ENGINE_DIR = str(Path(__file__).resolve().parents[1])
+
+
+def _outside_engine_level() -> int:
+    """The stacklevel, counted from a warn() in as_table, of the first caller outside the
+    engine package (warnings' skip_file_prefixes needs a newer Python)."""
+    import sys
+    from types import FrameType
+
+    frame: FrameType | None = sys._getframe(1)  # as_table's own frame is level 1
+    level = 1
+    while frame is not None and frame.f_code.co_filename.startswith(_ENGINE_DIR):
+        frame, level = frame.f_back, level + 1
+    return level
+
+
 def as_table(rows):
     """New rows as an intake Table: a Table as it is, a pandas DataFrame read like a sheet
     (what reading it found, a repeated column label say, raised as a TamisWarning: a Python
@@ -657,8 +674,9 @@ def as_table(rows):
     if isinstance(rows, Table):
         return rows
     table = read_frame(rows, "new rows")
-    for said in table.warnings:
-        warnings.warn(f"new rows: {said}", TamisWarning, stacklevel=3)
+    level = _outside_engine_level()
+    for said in table.warnings:  # pointed at the user's own line, not at the engine's
+        warnings.warn(f"new rows: {said}", TamisWarning, stacklevel=level)
     return table
 
 

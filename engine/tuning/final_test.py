@@ -67,8 +67,8 @@ def _test_index(design: Design, spec: StudySpec, n_test: int) -> np.ndarray:
             rows = np.flatnonzero(design.groups == g)
             if count + rows.size > n // 2:
                 continue  # a group that would make the test more than half the rows
-            if count and abs(count + rows.size - n_test) > abs(count - n_test):
-                break  # nearer the share without it
+            if abs(count + rows.size - n_test) > abs(count - n_test):
+                continue  # farther from the share with it: another group may fit better
             chosen.append(rows)
             count += rows.size
             if count >= n_test:
@@ -92,11 +92,15 @@ def hold_back_test_rows(design: Design, spec: StudySpec) -> tuple[Design, HeldBa
     test = _test_index(design, spec, n_test)
     if test.size < MIN_TEST_ROWS:
         whole = "time" if design.order is not None else "group"
+        if test.size == 0:  # every way of holding back whole ones takes more than half
+            advice = f"each {whole} that could be held back holds more than half the rows; hold back none"
+        else:
+            advice = "hold back a larger share or none"
         raise InputProblem(
             f"a final test of whole {whole}s near {spec.test_share:.0%} of the {n} rows used "
-            f"in sheet '{design.sheet}' would hold {test.size} rows (a {whole} holds its rows "
+            f"in sheet '{design.sheet}' would hold {test.size} rows (a {whole} keeps its rows "
             f"together and the test may take at most half of them), fewer than "
-            f"{MIN_TEST_ROWS}; hold back another share or none",
+            f"{MIN_TEST_ROWS}: {advice}",
             place,
         )
     keep = np.setdiff1d(np.arange(n), test)

@@ -74,8 +74,11 @@ def test_new_rows_in_a_dataframe_score_like_the_same_rows_in_a_workbook(tmp_path
         model.predict([[1.0, "north"]])
     # a label used twice among the new rows: the first such column is read, and it is said
     twice = pd.concat([new, new[["price"]] * 100], axis=1)
-    with pytest.warns(engine.TamisWarning, match="new rows: 1 column repeats an earlier heading"):
+    with pytest.warns(
+        engine.TamisWarning, match="new rows: 1 column repeats an earlier heading"
+    ) as said:
         again = model.predict(twice)
+    assert said[0].filename == __file__  # pointed at the user's line, not the engine's
     np.testing.assert_allclose(again, from_frame, rtol=1e-12)
 
 

@@ -139,3 +139,7 @@ def test_iso_dates_of_a_text_file_are_dates_in_the_copied_sheet_and_rerun_the_sa
     assert sheet.cell(2, 1).number_format == "yyyy-mm-dd"
     code, out, err = _main(["rerun", str(results), "--json"], tmp_path)
     assert code == 0 and json.loads(out)["reproduced"] is True, err
+    # a date before 1900 has no date cell in a spreadsheet: it stays text, as written
+    from engine.report.data_copy import _iso_date
+
+    assert _iso_date("1899-12-31") is None and _iso_date("1900-01-01") == dt.datetime(1900, 1, 1)

@@ -37,7 +37,7 @@ def reads_as(enc) -> str:
     if enc.kind == "number":
         return "per unit"
     if enc.kind == "ln":
-        return f"per unit of ln({enc.source}): x2.718 of {enc.source}"
+        return f"per unit of ln({enc.source}): {enc.source} multiplied by e (2.718)"
     if enc.kind == "flag":
         return "yes against no"
     if enc.kind == "level":
@@ -92,8 +92,8 @@ def write(book, ws, result, fm: Formats) -> None:
             ws,
             3,
             se0,
-            "standard errors after selection: too small to judge whether a column matters "
-            "(they ignore the choosing of the columns)",
+            "standard errors after selection: they ignore that the columns were chosen, so "
+            "they understate the uncertainty (too small to judge whether a column matters)",
             fm.note,
         )
     heading_row(ws, 4, heads[4:], 14)

@@ -61,10 +61,10 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         columns += [f, y - f]
     if progress is not None:
         progress.step(0.5, "fitted values")
-    # the response's values to six significant digits of its size, the measures to four
+    # the response's values to six significant digits of its size
     size = float(np.max(np.abs(y))) if y.size else 1.0
     in_units = style_index(fm.shown_to(size if size > 0 else 1.0))
-    measure = style_index(fm.shown_to(10.0))
+    measure = None  # leverage, studentized residual, Cook's distance: General keeps 3e-05
     cells: list[NumberColumn | TextColumn] = [NumberColumn(rows)]
     cells += [NumberColumn(c, in_units) for c in columns[1:]]
     if inf is not None:
@@ -83,6 +83,8 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
     lo, hi = (float(both.min()), float(both.max())) if both.size else (0.0, 1.0)
     if hi > lo:  # out to round numbers, so the axes' ticks fall on them (80 to 89, not 80.14)
         step = 10.0 ** np.floor(np.log10(hi - lo))
+        if (hi - lo) / step < 3:  # 99 to 201 on 90 to 210, not 0 to 300
+            step /= 10
         lo, hi = float(np.floor(lo / step) * step), float(np.ceil(hi / step) * step)
     equal = np.full(d.n_rows, np.nan)
     equal[: min(2, d.n_rows)] = [lo, hi][: min(2, d.n_rows)]

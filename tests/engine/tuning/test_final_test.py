@@ -164,3 +164,17 @@ def test_a_final_test_of_whole_times_that_cannot_be_near_the_share_is_refused(tm
     wb.save(book)
     with pytest.raises(InputProblem, match="final test of whole times near 25% of the 120 rows"):
         run_study(_spec(book, time_order="week", scheme="time", folds=2))
+
+
+def test_whole_groups_nearest_the_share_whatever_the_seed():
+    # groups of 60, 15, 15, 15 and 15 rows, 24 asked: a group that would take the test past
+    # half the rows, or farther from the share, is passed over whichever comes first
+    from types import SimpleNamespace
+
+    from engine.tuning.final_test import _test_index
+
+    groups = np.repeat(np.array(["big", "a", "b", "c", "d"]), [60, 15, 15, 15, 15])
+    design = SimpleNamespace(n_rows=groups.size, order=None, groups=groups)
+    for seed in range(12):
+        test = _test_index(design, SimpleNamespace(seed=seed), 24)
+        assert test.size in (15, 30) and "big" not in set(groups[test]), seed

@@ -142,6 +142,17 @@ def test_ln_response_predictions_come_back_in_units_with_the_smearing_factor(tmp
     assert "from its ln" in cells[head][col]
     got = [cells[head + 1 + i][col] for i in range(5)]
     np.testing.assert_allclose(got, want[:5], rtol=1e-12)
+    # the fitted sheet has the scoring model's fit in units too, beside the sheet's own values
+    fs = openpyxl.load_workbook(out, read_only=True)["TM Fitted"]
+    frows = list(fs.iter_rows(min_row=4, values_only=True))
+    heads = list(frows[0])
+    actual = np.array([r[heads.index("units (actual)")] for r in frows[1:]], dtype=float)
+    fitted = np.array(
+        [r[heads.index(f"units fitted ({model.method})")] for r in frows[1:]], dtype=float
+    )
+    sheet_units = np.array(table.column("units").values, dtype=float)[d.row_numbers - 2]
+    np.testing.assert_allclose(actual, sheet_units, rtol=1e-12)
+    np.testing.assert_allclose(fitted, want, rtol=1e-12)
 
 
 def test_new_rows_with_no_log_get_no_prediction_and_a_note(tmp_path):

@@ -32,6 +32,13 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
     heads = ["Source row", d.response_label]
     for m in models:
         heads += [f"Fitted ({m.method})", f"Residual ({m.method})"]
+    # a logged response: also in its own units, as the scoring sheet predicts it (exp of the
+    # ln-scale fit times the smearing factor, Duan 1983), for the scoring model
+    in_units = None
+    if d.response_log and models:
+        chosen = result.scoring_method()
+        in_units = next((m for m in models if m.method == chosen), models[0])
+        heads += [f"{d.response} (actual)", f"{d.response} fitted ({in_units.method})"]
     inf = result.influence
     if inf is not None:
         text(
@@ -63,10 +70,17 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         progress.step(0.5, "fitted values")
     # the response's values to six significant digits of its size
     size = float(np.max(np.abs(y))) if y.size else 1.0
-    in_units = style_index(fm.shown_to(size if size > 0 else 1.0))
+    shown_size = style_index(fm.shown_to(size if size > 0 else 1.0))
     measure = None  # leverage, studentized residual, Cook's distance: General keeps 3e-05
     cells: list[NumberColumn | TextColumn] = [NumberColumn(rows)]
-    cells += [NumberColumn(c, in_units) for c in columns[1:]]
+    cells += [NumberColumn(c, shown_size) for c in columns[1:]]
+    if in_units is not None:
+        actual = np.exp(y)
+        fitted_units = np.exp(np.asarray(in_units.fitted, dtype=float)) * float(
+            in_units.smearing or 1.0
+        )
+        units_style = style_index(fm.shown_to(float(np.max(np.abs(actual))) or 1.0))
+        cells += [NumberColumn(actual, units_style), NumberColumn(fitted_units, units_style)]
     if inf is not None:
         cells += [
             NumberColumn(inf.leverage, measure),
@@ -75,7 +89,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         ]
         flags = inf.flags()
         cells.append(TextColumn([w or None for w in flags]))
-        cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan), in_units))
+        cells.append(NumberColumn(np.where([bool(w) for w in flags], y, np.nan), shown_size))
     # two points, the lowest and highest value of actual and fitted alike: the chart's line
     # where fitted equals actual, over axes of the same range
     both = np.concatenate([y] + [np.asarray(m.fitted, dtype=float) for m in models])
@@ -88,7 +102,7 @@ def write(book, ws, result, fm: Formats, bulk: BulkSheet, progress=None) -> None
         lo, hi = float(np.floor(lo / step) * step), float(np.ceil(hi / step) * step)
     equal = np.full(d.n_rows, np.nan)
     equal[: min(2, d.n_rows)] = [lo, hi][: min(2, d.n_rows)]
-    cells.append(NumberColumn(equal, in_units))
+    cells.append(NumberColumn(equal, shown_size))
     bulk.add_columns(4, 0, cells)
     scoring = result.influence_method or (result.scoring_method() if models else None)
     if scoring is None or f"Fitted ({scoring})" not in heads or not 0 < d.n_rows <= CHART_MAX_ROWS:

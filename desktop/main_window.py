@@ -65,7 +65,7 @@ from desktop.table_models import SheetPreviewModel
 from desktop.theme import PROBLEM, TONE_COLOURS
 from desktop.worker import TaskRunner
 from engine.intake.cells import counted
-from engine.intake.notes import Finding, finding_of
+from engine.intake.notes import UNREAD, finding_of
 from engine.intake.workbook import SUPPORTED_SUFFIXES
 from engine.methods import method_info
 from engine.report.reproduce import differences
@@ -152,7 +152,7 @@ def _unread_cells_note(table) -> str:
         (c.name, getattr(n, "cells", None) or 0)
         for c in table.columns
         for n in c.notes
-        if finding_of(n) in (Finding.UNREAD_CELLS, Finding.NOT_DETECTED)
+        if finding_of(n) in UNREAD
     ]
     cells = sum(k for _, k in counts)
     if not cells:

@@ -29,7 +29,7 @@ import numpy as np
 from engine.errors import InputProblem, Place
 from engine.intake.cells import cell_name
 from engine.intake.classify import worth_a_warning
-from engine.intake.notes import Finding, finding_of
+from engine.intake.notes import UNREAD, Finding, finding_of
 
 if TYPE_CHECKING:
     from engine.intake.table import Column, Table
@@ -732,7 +732,7 @@ def _rows_left_out(note: str) -> str:
 
 def _unread_cells(note: str) -> bool:
     """Whether a column's note names cells whose words intake could not read as values."""
-    return finding_of(note) in (Finding.UNREAD_CELLS, Finding.NOT_DETECTED)
+    return finding_of(note) in UNREAD
 
 
 def _refuse_non_positive(c: Column, keep: np.ndarray, table: Table, filled: bool) -> None:

@@ -9,7 +9,7 @@ A note is still a str: everything that shows, joins or writes notes keeps workin
 
 from __future__ import annotations
 
-__all__ = ["ColumnNote", "Finding", "finding_of", "WORTH_A_WARNING"]
+__all__ = ["ColumnNote", "Finding", "finding_of", "UNREAD", "WORTH_A_WARNING"]
 
 from enum import Enum
 
@@ -56,6 +56,11 @@ WORTH_A_WARNING = frozenset(
         Finding.DATE_ORDER_CHOSEN,
     }
 )
+
+
+# findings about cells whose words are not values of their column: a study using the column
+# leaves out their rows, or fills them (said before roles are chosen and with every fit)
+UNREAD = frozenset({Finding.UNREAD_CELLS, Finding.NOT_DETECTED})
 
 
 class ColumnNote(str):
